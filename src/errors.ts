@@ -1,0 +1,96 @@
+/**
+ * The one error model of tidemark.
+ *
+ * Library code throws a {@link TidemarkError} (never exits, never prints). The CLI maps every error
+ * to a one-line message and an exit code in one place (`src/cli/errors.ts`).
+ */
+
+/** Stable machine-readable error codes. Add new ones here; never reuse or rename one. */
+export type ErrorCode =
+  | 'USAGE' // bad command-line usage (exit 2)
+  | 'FILE_NOT_FOUND'
+  | 'FILE_UNREADABLE'
+  | 'RULES_SYNTAX' // YAML does not parse
+  | 'RULES_INVALID' // a value breaks the schema
+  | 'RULES_UNKNOWN_KEY'
+  | 'EVENTS_FORMAT' // the file's format or header is wrong
+  | 'EVENTS_BAD_ROW' // one row cannot be used
+  | 'EVENTS_EMPTY' // nothing usable left
+  | 'RANGE_INVALID' // --from/--to or a period range is wrong
+  | 'MATRIX_INVALID' // a transition matrix breaks a precondition
+  | 'INPUT_INVALID' // any other bad input value
+  | 'NOT_ENOUGH_DATA'; // the data are valid but too few for the analysis asked for
+
+/** Where an error was found: any of a file, a 1-based line, a column name, a key path. */
+export interface ErrorLocation {
+  file?: string;
+  line?: number;
+  column?: string;
+  key?: string;
+}
+
+export class TidemarkError extends Error {
+  override readonly name = 'TidemarkError';
+  readonly code: ErrorCode;
+  readonly where: ErrorLocation;
+  /** What the user can do about it, one short sentence. */
+  readonly hint?: string;
+
+  constructor(code: ErrorCode, message: string, where: ErrorLocation = {}, hint?: string) {
+    super(message);
+    this.code = code;
+    this.where = where;
+    this.hint = hint;
+  }
+
+  /** Exit code the CLI uses: 2 for usage errors, 1 for bad input or data. */
+  get exitCode(): 1 | 2 {
+    return this.code === 'USAGE' ? 2 : 1;
+  }
+
+  /** One line: `file:line: column/key: message (hint)`. */
+  oneLine(): string {
+    const w = this.where;
+    const place = [w.file && (w.line ? `${w.file}:${w.line}` : w.file), w.column && `column ${w.column}`, w.key && `key ${w.key}`]
+      .filter(Boolean)
+      .join(', ');
+    const text = place ? `${place}: ${this.message}` : this.message;
+    return this.hint ? `${text}. ${this.hint}` : text;
+  }
+}
+
+/** Levenshtein distance, for "did you mean" suggestions. */
+export function editDistance(a: string, b: string): number {
+  const prev = Array.from({ length: b.length + 1 }, (_, j) => j);
+  for (let i = 1; i <= a.length; i++) {
+    let diag = prev[0];
+    prev[0] = i;
+    for (let j = 1; j <= b.length; j++) {
+      const tmp = prev[j];
+      prev[j] = Math.min(prev[j] + 1, prev[j - 1] + 1, diag + (a[i - 1] === b[j - 1] ? 0 : 1));
+      diag = tmp;
+    }
+  }
+  return prev[b.length];
+}
+
+/** The closest candidate within a small edit distance, or undefined. */
+export function didYouMean(input: string, candidates: readonly string[]): string | undefined {
+  let best: string | undefined;
+  let bestD = Infinity;
+  for (const c of candidates) {
+    const d = editDistance(input.toLowerCase(), c.toLowerCase());
+    if (d < bestD) {
+      bestD = d;
+      best = c;
+    }
+  }
+  const limit = Math.max(2, Math.floor(input.length / 3));
+  return bestD <= limit ? best : undefined;
+}
+
+/** " Did you mean 'x'?" or "" — for appending to hints. */
+export function suggestion(input: string, candidates: readonly string[]): string | undefined {
+  const m = didYouMean(input, candidates);
+  return m ? `did you mean '${m}'?` : undefined;
+}

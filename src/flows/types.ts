@@ -1,0 +1,74 @@
+/**
+ * The narrow waist: small count tables that every analysis reads.
+ *
+ * Any engine (in-memory arquero, DuckDB, warehouse SQL) that produces these tables feeds every
+ * analysis. Sizes are states² × periods plus small cohort tables; no per-user rows cross this line.
+ *
+ * Conventions: periods are labelled by their start date `YYYY-MM-DD` in the rules' time zone;
+ * matrices are `counts[from][to]` with states in the order of `states`.
+ */
+
+/** One pair of consecutive periods. */
+export interface TransitionCounts {
+  /** Label of the earlier period. */
+  from: string;
+  /** Label of the later period. */
+  to: string;
+  /** counts[i][j]: users in states[i] in `from` and states[j] in `to` (users present in both). */
+  counts: number[][];
+  /** Users whose first active period is `to` (they enter in the `fresh` state). */
+  fresh: number;
+}
+
+/** Retention cell: users in an active state at `from`, split by a segment, and how many stayed active. */
+export interface RetentionCell {
+  /** Label of the period retained into (the later period of the pair). */
+  to: string;
+  /** Prior state (an active state) in the earlier period. */
+  state: string;
+  /** Segment value: a tenure band label or an attribute value; '' when unsplit. */
+  segment: string;
+  /** Users in `state` (and `segment`) in the earlier period. */
+  n: number;
+  /** Of those, users active in the later period. */
+  retained: number;
+}
+
+/** One acquisition cohort: users whose first active period is `cohort`. */
+export interface CohortRow {
+  cohort: string;
+  size: number;
+  /** active[k]: cohort members active k periods after their first (active[0] === size); observed ages only. */
+  active: number[];
+}
+
+/** Durations from first active to first dormant, aggregated: `users` users share this row. */
+export interface DurationRow {
+  /** Group label ('' when ungrouped; the cohort label when grouped by cohort). */
+  group: string;
+  /** Periods from first active to first dormant (observed) or to the end of the data (censored). */
+  duration: number;
+  /** 1 when the user reached dormant, 0 when right-censored. */
+  observed: 0 | 1;
+  users: number;
+}
+
+export interface WaistTables {
+  states: string[];
+  /** The states that mean "active in this period" (default: fresh, engaged, returned). */
+  activeStates: string[];
+  /** All analysis periods in order. */
+  periods: string[];
+  /** Number of leading periods that are warm-up: classified, but left out of flows and retention. */
+  warmup: number;
+  /** stateCounts[p][s]: users in states[s] in periods[p]. */
+  stateCounts: number[][];
+  /** One entry per consecutive pair (periods[p-1], periods[p]) for p past the warm-up. */
+  transitions: TransitionCounts[];
+  /** Retention cells by prior state and tenure band (segment = band label). */
+  tenureCells: RetentionCell[];
+  /** Cohort triangle. */
+  cohorts: CohortRow[];
+  /** Time-to-dormant durations, grouped by cohort. */
+  durations: DurationRow[];
+}
