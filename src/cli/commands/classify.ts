@@ -1,0 +1,26 @@
+/** `tidemark classify`: one lifecycle state per user and period. */
+import type { Command } from 'commander';
+import { MemoryEngine } from '../../engines/memory.js';
+import type { ClassifiedRow } from '../../engines/types.js';
+import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { emit, json, textTable, toCsv, type Format } from '../format.js';
+import type { Io } from '../io.js';
+
+export function formatClassified(rows: ClassifiedRow[], format: Format): string {
+  if (format === 'json') return json(rows.map((r) => ({ user_id: r.user, period: r.period, state: r.state })));
+  const body = rows.map((r) => [r.user, r.period, r.state]);
+  return format === 'csv' ? toCsv(['user_id', 'period', 'state'], body) : textTable(['user_id', 'period', 'state'], body);
+}
+
+export async function runClassify(o: CommonOptions, io: Io): Promise<void> {
+  const rules = resolveRules(o);
+  const { rows, result } = await new MemoryEngine().classify(sourceOf(o), rules, rangeOf(o));
+  note(io, o, rowLine(result.rows));
+  note(io, o, 'note: this output holds user ids: it is personal data; share it only as your privacy rules allow');
+  emit(formatClassified(rows, o.format), o.out, io);
+}
+
+export function classifyCommand(program: Command, io: Io): void {
+  const cmd = program.command('classify').description('the lifecycle state of every user in every period (CSV: user_id,period,state)');
+  addFormatOptions(addEventOptions(cmd), 'csv').action((opts: CommonOptions) => runClassify(opts, io));
+}

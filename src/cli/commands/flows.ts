@@ -1,0 +1,94 @@
+/** `tidemark flows`: transition matrices, status-split retention and growth accounting per period. */
+import type { Command } from 'commander';
+import { MemoryEngine } from '../../engines/memory.js';
+import type { EngineResult } from '../../engines/types.js';
+import { summariseFlows, type FlowsSummary } from '../../flows/summary.js';
+import type { Rules } from '../../rules/schema.js';
+import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import type { Io } from '../io.js';
+
+export interface FlowsOptions extends CommonOptions {
+  pool?: string;
+}
+
+export interface FlowsOutput extends FlowsSummary {
+  rules: { name?: string; version?: string; grain: string; timezone: string };
+  rows: EngineResult['rows'];
+  lastPeriod: EngineResult['lastPeriod'];
+  users: number;
+}
+
+export function flowsOutput(result: EngineResult, rules: Rules, pool?: string): FlowsOutput {
+  return {
+    rules: { name: rules.name, version: rules.version, grain: rules.grain, timezone: rules.timezone },
+    ...summariseFlows(result.waist, pool),
+    rows: result.rows,
+    lastPeriod: result.lastPeriod,
+    users: result.users,
+  };
+}
+
+export function formatFlows(f: FlowsOutput, format: Format): string {
+  if (format === 'json') return json(f);
+  if (format === 'csv') {
+    const rows: unknown[][] = [];
+    for (const t of f.transitions) {
+      f.states.forEach((from, i) => f.states.forEach((to, j) => {
+        if (t.counts[i][j] > 0) rows.push([t.from, t.to, from, to, t.counts[i][j], t.rates[i]?.[j] ?? '']);
+      }));
+    }
+    return toCsv(['period_from', 'period_to', 'state_from', 'state_to', 'users', 'rate'], rows);
+  }
+  return flowsTable(f);
+}
+
+function flowsTable(f: FlowsOutput): string {
+  const out: string[] = [];
+  const head = f.rules.name ? `${f.rules.name}${f.rules.version ? ` v${f.rules.version}` : ''}` : `${f.rules.grain} rules`;
+  out.push(`${head} · ${f.periods.length} periods ${f.periods[0]} to ${f.periods[f.periods.length - 1]} · ${f.users.toLocaleString('en-US')} users`);
+  if (f.warmupPeriods.length) out.push(`warm-up (left out of flows): ${f.warmupPeriods.join(', ')}`);
+  if (!f.lastPeriod.complete) out.push(`note: the last period ${f.lastPeriod.label} looks incomplete (data stop ${pct(f.lastPeriod.coverage, 0)} of the way through it)`);
+  const last = f.transitions[f.transitions.length - 1];
+  if (last) {
+    out.push('', `Latest transition ${last.from} -> ${last.to}: users (row share)`);
+    const rows = f.states.map((s, i) => {
+      const n = last.counts[i].reduce((a, b) => a + b, 0);
+      return [s, ...last.counts[i].map((c, j) => (n === 0 ? '-' : `${c} ${pct(last.rates[i]?.[j], 0)}`)), n];
+    });
+    rows.push(['(new)', last.fresh, ...f.states.slice(1).map(() => '-'), last.fresh]);
+    out.push(textTable(['from\\to', ...f.states, 'n'], rows).trimEnd());
+  }
+  out.push('', 'Per period: active users, inflow, losses, quick ratio, retention by prior state');
+  const rows = f.transitions.map((t) => [
+    t.to,
+    t.growth.activeAfter,
+    t.fresh,
+    t.growth.returned,
+    t.growth.newlyInactive,
+    t.growth.quickRatio === null ? '-' : t.growth.quickRatio.toFixed(2),
+    ...f.activeStates.map((s) => pct(t.retention[s]?.rate)),
+  ]);
+  out.push(textTable(['into', 'active', 'fresh', 'back', 'lost', 'quick', ...f.activeStates.map((s) => `r.${s}`)], rows).trimEnd());
+  if (f.pooled) {
+    out.push('', `Pooled ${f.pooled.transitions} transitions (${f.pooled.from} to ${f.pooled.to}): row shares`);
+    const pr = f.states.map((s, i) => [s, ...f.states.map((_, j) => (f.pooled!.rates[i] ? pct(f.pooled!.rates[i]![j]) : '-')), f.pooled!.n[i]]);
+    out.push(textTable(['from\\to', ...f.states, 'n'], pr).trimEnd());
+  }
+  return `${out.join('\n')}\n`;
+}
+
+export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {
+  const rules = resolveRules(o);
+  const result = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
+  note(io, o, rowLine(result.rows));
+  emit(formatFlows(flowsOutput(result, rules, o.pool), o.format), o.out, io);
+}
+
+export function flowsCommand(program: Command, io: Io): void {
+  const cmd = program
+    .command('flows')
+    .description('transition counts and rates between lifecycle states, period by period, with retention and growth accounting')
+    .option('--pool <range>', 'pool transitions into periods FROM..TO (labels; either side may be empty); default all');
+  addFormatOptions(addEventOptions(cmd), 'table').action((opts: FlowsOptions) => runFlows(opts, io));
+}

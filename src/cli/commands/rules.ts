@@ -1,0 +1,26 @@
+/** `tidemark rules check|schema`: validate a rules file; print the JSON Schema for editors. */
+import type { Command } from 'commander';
+import { loadRulesFile } from '../../rules/load.js';
+import { rulesJsonSchema } from '../../rules/schema.js';
+import { emit, json } from '../format.js';
+import type { Io } from '../io.js';
+
+export function rulesCommand(program: Command, io: Io): void {
+  const rules = program.command('rules').description('check rules files, or print their JSON Schema');
+  rules
+    .command('check')
+    .description('validate rules files and print them with every default filled in')
+    .argument('<files...>', 'rules files (YAML)')
+    .action((files: string[]) => {
+      for (const f of files) {
+        const r = loadRulesFile(f);
+        io.stderr(`${f}: ok (${r.grain} grain, ${r.timezone}, lapseLimit ${r.lapseLimit})\n`);
+        io.stdout(json(r));
+      }
+    });
+  rules
+    .command('schema')
+    .description('print the JSON Schema of rules files (editors use it to check and complete them)')
+    .option('--out <file>', 'write to a file instead of standard output')
+    .action((o: { out?: string }) => emit(json(rulesJsonSchema()), o.out, io));
+}

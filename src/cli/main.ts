@@ -1,0 +1,49 @@
+/**
+ * The tidemark command line. `main(argv, io)` returns the exit code, so tests run commands without
+ * spawning a process: commander's exit is overridden and its output routed to `io`.
+ */
+import { Command, CommanderError } from 'commander';
+import { reportError } from './errors.js';
+import type { Io } from './io.js';
+import { classifyCommand } from './commands/classify.js';
+import { demoCommand } from './commands/demo.js';
+import { flowsCommand } from './commands/flows.js';
+import { rulesCommand } from './commands/rules.js';
+
+export function buildProgram(io: Io): Command {
+  const program = new Command('tidemark')
+    .description('User-lifecycle analytics: states per period, flows between them, retention explained, audience projected.')
+    .version('0.1.0')
+    .option('--debug', 'show stack traces for errors')
+    .showSuggestionAfterError(true)
+    .exitOverride()
+    .configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) });
+  classifyCommand(program, io);
+  flowsCommand(program, io);
+  demoCommand(program, io);
+  rulesCommand(program, io);
+  for (const c of program.commands) applyOverrides(c, io);
+  return program;
+}
+
+function applyOverrides(cmd: Command, io: Io): void {
+  cmd.exitOverride().configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) }).showSuggestionAfterError(true);
+  for (const c of cmd.commands) applyOverrides(c, io);
+}
+
+export async function main(argv: string[], io: Io): Promise<number> {
+  const debug = argv.includes('--debug');
+  const program = buildProgram(io);
+  try {
+    await program.parseAsync(argv, { from: 'user' });
+    return 0;
+  } catch (err) {
+    if (err instanceof CommanderError) {
+      // help and version exit 0; everything else commander rejects is a usage error
+      if (err.code === 'commander.helpDisplayed' || err.code === 'commander.version' || err.code === 'commander.help') return 0;
+      if (err.code === 'commander.executeSubCommandAsync') return 0;
+      return 2;
+    }
+    return reportError(err, io, debug);
+  }
+}

@@ -1,0 +1,96 @@
+/**
+ * The in-memory engine: columnar event log → active periods (typed-array sort) → classification
+ * (tabulated xstate machine) → waist tables (arquero pipeline).
+ */
+import { TidemarkError } from '../errors.js';
+import type { EventLog } from '../ingest/eventLog.js';
+import { readEvents } from '../ingest/read.js';
+import { activePeriods } from '../lifecycle/activity.js';
+import { classify, type Classified } from '../lifecycle/classify.js';
+import { compilePlan } from '../lifecycle/plan.js';
+import { ACTIVE_STATES } from '../lifecycle/states.js';
+import { aggregate } from '../flows/aggregate.js';
+import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
+import { optionKey, resolveRange, type ResolvedRange } from '../periods/range.js';
+import type { Rules } from '../rules/schema.js';
+import type { ClassifiedRow, Engine, EngineResult, EventSource, LastPeriod, RangeOptions } from './types.js';
+
+const DAY = 86_400_000;
+
+interface Prepared {
+  log: EventLog;
+  range: ResolvedRange;
+  labels: string[];
+  classified: Classified;
+  result: EngineResult;
+}
+
+/** Run the heavy stage on an event log already in memory. */
+export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}): Omit<Prepared, 'log'> {
+  const scheme: PeriodScheme = log.scheme;
+  let minKey = Infinity, maxKey = -Infinity, maxWall = -Infinity;
+  for (let i = 0; i < log.size; i++) {
+    const k = log.period[i];
+    if (k < minKey) minKey = k;
+    if (k > maxKey) maxKey = k;
+    if (log.wallMs[i] > maxWall) maxWall = log.wallMs[i];
+  }
+  const fromKey = optionKey(range.from, scheme, '--from');
+  const toKey = optionKey(range.to, scheme, '--to');
+  const r = resolveRange(minKey, maxKey, fromKey, toKey, (k) => periodLabel(k, scheme));
+  const warmup = range.warmup ?? rules.warmup;
+  const outPeriods = r.span - r.outStart;
+  if (warmup >= outPeriods) {
+    throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${outPeriods})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
+  }
+  const labels = Array.from({ length: r.span }, (_, i) => periodLabel(r.startKey + i, scheme));
+  const plan = compilePlan(rules);
+  const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span);
+  const classified = classify(active, plan, log.users.length, r.outStart);
+  const waist = aggregate(classified, {
+    states: plan.states,
+    activeCount: ACTIVE_STATES.length,
+    labels,
+    outStart: r.outStart,
+    warmup,
+    tenureBands: rules.tenureBands,
+  });
+  const lastKey = r.startKey + r.span - 1;
+  const startMs = periodStartDay(lastKey, scheme) * DAY;
+  const endMs = periodEndDay(lastKey, scheme) * DAY;
+  const coverage = Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));
+  const lastPeriod: LastPeriod = { label: labels[r.span - 1], coverage, complete: maxWall >= endMs - (endMs - startMs) / 7 };
+  let users = 0;
+  for (let u = 0; u < classified.firstActive.length; u++) if (classified.firstActive[u] >= 0) users++;
+  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, users } };
+}
+
+export class MemoryEngine implements Engine {
+  readonly name = 'memory';
+
+  private async prepare(source: EventSource, rules: Rules, range: RangeOptions): Promise<Prepared> {
+    const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
+    const toKey = optionKey(range.to, scheme, '--to');
+    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey });
+    return { log, ...runOnLog(log, rules, range) };
+  }
+
+  async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineResult> {
+    return (await this.prepare(source, rules, range)).result;
+  }
+
+  async classify(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<{ rows: ClassifiedRow[]; result: EngineResult }> {
+    const p = await this.prepare(source, rules, range);
+    return { rows: classifiedRows(p.classified, p.log.users, p.labels, p.result.waist.states), result: p.result };
+  }
+}
+
+/** Classified rows sorted by user id (code-unit order), then period. */
+export function classifiedRows(c: Classified, users: string[], labels: string[], states: readonly string[]): ClassifiedRow[] {
+  const order = Array.from({ length: c.size }, (_, i) => i);
+  order.sort((a, b) => {
+    const ua = users[c.user[a]], ub = users[c.user[b]];
+    return ua < ub ? -1 : ua > ub ? 1 : c.period[a] - c.period[b];
+  });
+  return order.map((i) => ({ user: users[c.user[i]], period: labels[c.period[i]], state: states[c.state[i]] }));
+}

@@ -1,0 +1,55 @@
+/**
+ * The engine boundary. An engine turns an event source and rules into the waist tables
+ * (src/flows/types.ts) and, on request, the per-user classification. Every analysis reads only the
+ * waist, so a new engine (out-of-core, warehouse SQL) needs to produce just these.
+ */
+import type { RowAccount } from '../ingest/eventLog.js';
+import type { EventFormat } from '../ingest/read.js';
+import type { Rules } from '../rules/schema.js';
+import type { WaistTables } from '../flows/types.js';
+
+export interface EventSource {
+  files: string[];
+  format?: EventFormat;
+  skipBadRows?: boolean;
+}
+
+export interface RangeOptions {
+  /** A date (YYYY-MM-DD) inside the first period to output. History before it still feeds states. */
+  from?: string;
+  /** A date inside the last period to analyse. Later events are dropped. */
+  to?: string;
+  /** Overrides rules.warmup. */
+  warmup?: number;
+}
+
+/** How complete the last period is: the latest event's position in it, 0–1. */
+export interface LastPeriod {
+  label: string;
+  /** (latest event − period start) / period length, in wall-clock time. */
+  coverage: number;
+  /** False when the data stop before the last seventh of the period. */
+  complete: boolean;
+}
+
+export interface EngineResult {
+  waist: WaistTables;
+  rows: RowAccount;
+  lastPeriod: LastPeriod;
+  /** Number of distinct users with at least one active period in the range. */
+  users: number;
+}
+
+/** One classified user-period, for `tidemark classify`. */
+export interface ClassifiedRow {
+  user: string;
+  period: string;
+  state: string;
+}
+
+export interface Engine {
+  readonly name: string;
+  run(source: EventSource, rules: Rules, range?: RangeOptions): Promise<EngineResult>;
+  /** Rows sorted by user id, then period. */
+  classify(source: EventSource, rules: Rules, range?: RangeOptions): Promise<{ rows: ClassifiedRow[]; result: EngineResult }>;
+}

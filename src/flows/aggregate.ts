@@ -1,0 +1,130 @@
+/**
+ * Classified user-periods → the waist tables, as an arquero pipeline.
+ *
+ * Each table is one group-by on a single combined integer key (fast in arquero: a few thousand groups
+ * at most), then a small reshape into matrices. Period offsets here are relative to the range start;
+ * the tables are indexed from `outStart` (the first output period).
+ */
+import * as aq from 'arquero';
+import type { Classified } from '../lifecycle/classify.js';
+import type { CohortRow, DurationRow, RetentionCell, TransitionCounts, WaistTables } from './types.js';
+
+export interface AggregateOptions {
+  states: readonly string[];
+  /** Number of leading states that are active (states are ordered active first). */
+  activeCount: number;
+  /** Labels of all range periods, by offset. */
+  labels: string[];
+  /** First output period offset. */
+  outStart: number;
+  warmup: number;
+  /** Lower edges of tenure bands, starting at 0. */
+  tenureBands: number[];
+}
+
+/** Label of a tenure band: [0, 1, 4, 12] → '0', '1-3', '4-11', '12+'. */
+export function bandLabels(edges: number[]): string[] {
+  return edges.map((lo, i) => {
+    const hi = i + 1 < edges.length ? edges[i + 1] - 1 : undefined;
+    if (hi === undefined) return `${lo}+`;
+    return hi === lo ? `${lo}` : `${lo}-${hi}`;
+  });
+}
+
+function groupCount(table: aq.ColumnTable, key: string): Map<number, number> {
+  const g = table.groupby(key).count({ as: 'n' });
+  const keys = g.array(key) as ArrayLike<number>;
+  const ns = g.array('n') as ArrayLike<number>;
+  const m = new Map<number, number>();
+  for (let i = 0; i < keys.length; i++) m.set(keys[i], ns[i]);
+  return m;
+}
+
+export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
+  const S = o.states.length;
+  const span = o.labels.length;
+  const P = span - o.outStart;
+  const firstFlow = o.outStart + o.warmup; // earliest "from" period of a counted pair
+  const maxTenure = span;
+  const bandOf = new Uint8Array(maxTenure + 1);
+  for (let t = 0, b = 0; t <= maxTenure; t++) {
+    while (b + 1 < o.tenureBands.length && t >= o.tenureBands[b + 1]) b++;
+    bandOf[t] = b;
+  }
+  const B = o.tenureBands.length;
+  // tenure band of each row's previous period (the period retained from)
+  const bandPrev = new Uint8Array(c.size);
+  for (let r = 0; r < c.size; r++) bandPrev[r] = c.tenure[r] > 0 ? bandOf[c.tenure[r] - 1] : 0;
+  const base = aq
+    .table({ p: c.period, s: c.state, prev: c.prev, tenure: c.tenure, cohort: c.cohort, bandPrev })
+    .params({ S, B, A: o.activeCount, span, firstFlow, outStart: o.outStart });
+
+  // state counts per period
+  const byState = groupCount(base.derive({ k: (d: any, $: any) => (d.p - $.outStart) * $.S + d.s }), 'k');
+  const stateCounts = Array.from({ length: P }, (_, p) => Array.from({ length: S }, (_, s) => byState.get(p * S + s) ?? 0));
+
+  // transitions between consecutive periods, past the warm-up
+  const flowRows = base.filter((d: any, $: any) => d.prev >= 0 && d.p - 1 >= $.firstFlow);
+  const byPair = groupCount(flowRows.derive({ k: (d: any, $: any) => (d.p * $.S + d.prev) * $.S + d.s }), 'k');
+  const transitions: TransitionCounts[] = [];
+  const freshCode = o.states.indexOf('fresh');
+  for (let p = Math.max(firstFlow + 1, o.outStart + 1); p < span; p++) {
+    const counts = Array.from({ length: S }, (_, i) => Array.from({ length: S }, (_, j) => byPair.get((p * S + i) * S + j) ?? 0));
+    transitions.push({ from: o.labels[p - 1], to: o.labels[p], counts, fresh: stateCounts[p - o.outStart][freshCode] ?? 0 });
+  }
+
+  // retention cells: users in an active state at p − 1, by tenure band at p − 1, active at p or not
+  const cellRows = flowRows.filter((d: any, $: any) => d.prev < $.A);
+  const byCell = groupCount(cellRows.derive({ k: (d: any, $: any) => ((d.p * $.S + d.prev) * $.B + d.bandPrev) * 2 + (d.s < $.A ? 1 : 0) }), 'k');
+  const labelsB = bandLabels(o.tenureBands);
+  const tenureCells: RetentionCell[] = [];
+  for (const t of transitions) {
+    const p = o.labels.indexOf(t.to);
+    for (let s = 0; s < o.activeCount; s++) {
+      for (let b = 0; b < B; b++) {
+        const kept = byCell.get(((p * S + s) * B + b) * 2 + 1) ?? 0;
+        const lost = byCell.get(((p * S + s) * B + b) * 2) ?? 0;
+        if (kept + lost > 0) tenureCells.push({ to: t.to, state: o.states[s], segment: labelsB[b], n: kept + lost, retained: kept });
+      }
+    }
+  }
+
+  // cohort triangle: cohorts first active after the warm-up
+  const cohortRows = base.filter((d: any, $: any) => d.cohort >= $.firstFlow);
+  const byAge = groupCount(cohortRows.filter((d: any, $: any) => d.s < $.A).derive({ k: (d: any, $: any) => d.cohort * $.span + d.tenure }), 'k');
+  const cohorts: CohortRow[] = [];
+  for (let k = firstFlow; k < span; k++) {
+    const size = byAge.get(k * span) ?? 0;
+    if (size === 0) continue;
+    cohorts.push({ cohort: o.labels[k], size, active: Array.from({ length: span - k }, (_, a) => byAge.get(k * span + a) ?? 0) });
+  }
+
+  return {
+    states: [...o.states],
+    activeStates: o.states.slice(0, o.activeCount),
+    periods: o.labels.slice(o.outStart),
+    warmup: o.warmup,
+    stateCounts,
+    transitions,
+    tenureCells,
+    cohorts,
+    durations: durationRows(c, o, firstFlow, span),
+  };
+}
+
+/** Periods from first active to first dormant per user, censored at the range end, by cohort. */
+function durationRows(c: Classified, o: AggregateOptions, firstFlow: number, span: number): DurationRow[] {
+  const m = new Map<string, DurationRow>();
+  for (let u = 0; u < c.firstActive.length; u++) {
+    const first = c.firstActive[u];
+    if (first < firstFlow) continue;
+    const d = c.firstDormant[u];
+    const observed: 0 | 1 = d >= 0 ? 1 : 0;
+    const duration = observed ? d - first : span - 1 - first;
+    const key = `${first}|${duration}|${observed}`;
+    const row = m.get(key);
+    if (row) row.users++;
+    else m.set(key, { group: o.labels[first], duration, observed, users: 1 });
+  }
+  return [...m.values()].sort((a, b) => (a.group < b.group ? -1 : a.group > b.group ? 1 : a.duration - b.duration || a.observed - b.observed));
+}

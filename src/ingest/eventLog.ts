@@ -1,0 +1,171 @@
+/**
+ * The in-memory event log: columnar, dictionary-encoded.
+ *
+ * One row per used event: the user's code, the period key and the wall-clock ms. User ids and
+ * attribute values are stored once in dictionaries; rows hold integer codes. 10 million events take
+ * about 16 bytes each plus 4 per attribute column.
+ */
+import { TidemarkError } from '../errors.js';
+import { periodKeyOfDay, type PeriodScheme } from '../periods/calendar.js';
+import { ZoneClock } from '../periods/zone.js';
+import type { Rules } from '../rules/schema.js';
+import { parseTimestamp } from './timestamp.js';
+import { Dictionary, GrowableFloat64, GrowableInt32 } from './growable.js';
+
+/** Why a row was rejected. */
+export type RejectReason =
+  | 'missing user id'
+  | 'bad timestamp'
+  | 'missing event name'
+  | 'wrong number of fields'
+  | 'not valid JSON'
+  | 'unclosed quote';
+
+/** Where every input row went. read = used + notKeyEvent + afterRange + Σ rejected. */
+export interface RowAccount {
+  read: number;
+  used: number;
+  notKeyEvent: number;
+  afterRange: number;
+  rejected: Partial<Record<RejectReason, number>>;
+  /** Blank lines, not counted as rows. */
+  blankLines: number;
+}
+
+export interface AttributeColumn {
+  name: string;
+  /** Per row: index into `values`. */
+  codes: Int32Array;
+  values: string[];
+}
+
+export interface EventLog {
+  /** Number of used event rows. */
+  size: number;
+  /** Per row: index into `users`. */
+  user: Int32Array;
+  /** Per row: period key (see periods/calendar.ts). */
+  period: Int32Array;
+  /** Per row: wall-clock ms in the rules' zone. */
+  wallMs: Float64Array;
+  users: string[];
+  attributes: AttributeColumn[];
+  rows: RowAccount;
+  scheme: PeriodScheme;
+  /** The source file names, for messages. */
+  files: string[];
+}
+
+/** Where a row came from, for messages: a line, or a function that finds the line lazily. */
+export type LineRef = number | (() => number);
+
+export interface BuilderOptions {
+  rules: Rules;
+  /** Skip and count bad rows instead of stopping at the first. */
+  skipBadRows: boolean;
+  /** Drop (and count) events in periods after this key. */
+  toKey?: number;
+}
+
+/** Accumulates rows into an {@link EventLog}. */
+export class EventLogBuilder {
+  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, rejected: {}, blankLines: 0 };
+  private readonly user = new GrowableInt32();
+  private readonly period = new GrowableInt32();
+  private readonly wall = new GrowableFloat64();
+  private readonly users = new Dictionary();
+  private attrNames: string[] = [];
+  private attrCodes: GrowableInt32[] = [];
+  private attrDicts: Dictionary[] = [];
+  private readonly clock: ZoneClock;
+  private readonly keyEvents: Set<string> | undefined;
+  private readonly scheme: PeriodScheme;
+  private readonly files: string[] = [];
+
+  constructor(private readonly opts: BuilderOptions) {
+    this.clock = new ZoneClock(opts.rules.timezone);
+    this.keyEvents = opts.rules.activity.keyEvents ? new Set(opts.rules.activity.keyEvents) : undefined;
+    this.scheme = { grain: opts.rules.grain, weekStart: opts.rules.weekStart };
+  }
+
+  /** For the current file: slots[a] is the position of the log's a-th attribute among the file's, or -1. */
+  private slots: number[] = [];
+
+  /** Declare the attribute columns of the next file (extra columns beyond user, timestamp, event). */
+  startFile(file: string, names: string[]): void {
+    this.files.push(file);
+    for (const n of names) {
+      if (!this.attrNames.includes(n)) {
+        this.attrNames.push(n);
+        const g = new GrowableInt32();
+        const d = new Dictionary();
+        d.code(''); // code 0: no value
+        for (let i = 0; i < this.user.length; i++) g.push(0);
+        this.attrCodes.push(g);
+        this.attrDicts.push(d);
+      }
+    }
+    this.slots = this.attrNames.map((n) => names.indexOf(n));
+  }
+
+  /** Record a bad row: throw by default, count when skipping. */
+  reject(reason: RejectReason, file: string, line: LineRef, column: string | undefined, value: string | undefined, hint?: string): void {
+    this.rows.read++;
+    if (!this.opts.skipBadRows) {
+      const shown = value === undefined ? '' : `: '${value.length > 60 ? `${value.slice(0, 57)}...` : value}'`;
+      throw new TidemarkError('EVENTS_BAD_ROW', `${reason}${shown}`, { file, line: typeof line === 'number' ? line : line(), column },
+        hint ?? 'Fix the row, or pass --skip-bad-rows to skip and count such rows');
+    }
+    this.rows.rejected[reason] = (this.rows.rejected[reason] ?? 0) + 1;
+  }
+
+  /** Add one row; `attrs` holds the values of the attribute columns named in {@link startFile}, in that order. */
+  add(file: string, line: LineRef, userId: string, ts: string, event: string | undefined, attrs: readonly string[]): void {
+    const cols = this.opts.rules.columns;
+    if (userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId);
+    const wall = parseTimestamp(ts, this.clock);
+    if (wall === undefined) {
+      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, or pass --skip-bad-rows');
+    }
+    if (this.keyEvents) {
+      if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '');
+      if (!this.keyEvents.has(event)) {
+        this.rows.read++;
+        this.rows.notKeyEvent++;
+        return;
+      }
+    }
+    const key = periodKeyOfDay(Math.floor(wall / 86_400_000), this.scheme);
+    this.rows.read++;
+    if (this.opts.toKey !== undefined && key > this.opts.toKey) {
+      this.rows.afterRange++;
+      return;
+    }
+    this.rows.used++;
+    this.user.push(this.users.code(userId));
+    this.period.push(key);
+    this.wall.push(wall);
+    for (let a = 0; a < this.attrCodes.length; a++) {
+      const pos = this.slots[a];
+      this.attrCodes[a].push(pos >= 0 ? this.attrDicts[a].code(attrs[pos] ?? '') : 0);
+    }
+  }
+
+  blank(): void {
+    this.rows.blankLines++;
+  }
+
+  build(): EventLog {
+    return {
+      size: this.user.length,
+      user: this.user.view(),
+      period: this.period.view(),
+      wallMs: this.wall.view(),
+      users: this.users.values,
+      attributes: this.attrNames.map((name, i) => ({ name, codes: this.attrCodes[i].view(), values: this.attrDicts[i].values })),
+      rows: this.rows,
+      scheme: this.scheme,
+      files: this.files,
+    };
+  }
+}

@@ -1,0 +1,47 @@
+/**
+ * Read event files into an {@link EventLog}. The format follows the extension (.csv, .ndjson/.jsonl)
+ * unless given.
+ */
+import { extname } from 'node:path';
+import { TidemarkError } from '../errors.js';
+import type { Rules } from '../rules/schema.js';
+import { readCsv } from './csv.js';
+import { EventLogBuilder, type EventLog } from './eventLog.js';
+import { readNdjson } from './ndjson.js';
+
+export type EventFormat = 'csv' | 'ndjson';
+
+export interface ReadEventsOptions {
+  rules: Rules;
+  format?: EventFormat;
+  skipBadRows?: boolean;
+  /** Drop events in periods after this period key (they cannot change earlier states). */
+  toKey?: number;
+}
+
+export function formatOf(file: string, format?: EventFormat): EventFormat {
+  if (format) return format;
+  const ext = extname(file).toLowerCase();
+  if (ext === '.csv' || ext === '.txt') return 'csv';
+  if (ext === '.ndjson' || ext === '.jsonl' || ext === '.json') return 'ndjson';
+  throw new TidemarkError('EVENTS_FORMAT', `cannot tell the format from the extension '${ext || '(none)'}'`, { file }, 'Pass --input-format csv or --input-format ndjson');
+}
+
+/** Read one or more event files. Throws TidemarkError for unreadable files, bad headers, bad rows (unless skipping) and logs with no usable row. */
+export async function readEvents(files: string[], opts: ReadEventsOptions): Promise<EventLog> {
+  const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey });
+  const needEvent = opts.rules.activity.keyEvents !== undefined;
+  for (const file of files) {
+    const fmt = formatOf(file, opts.format);
+    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent);
+    else await readNdjson(file, builder, opts.rules.columns);
+  }
+  const log = builder.build();
+  if (log.size === 0) {
+    const r = log.rows;
+    const why = r.read === 0 ? 'it holds no event rows' : r.notKeyEvent === r.read ? 'no row is a key event' : 'no row could be used';
+    throw new TidemarkError('EVENTS_EMPTY', `nothing to analyse: ${why}`, { file: files.join(', ') },
+      r.notKeyEvent > 0 ? 'Check activity.keyEvents against the event names in the file' : 'Check the file and the column mapping');
+  }
+  return log;
+}

@@ -1,0 +1,80 @@
+/**
+ * Calendar periods as integers.
+ *
+ * A local calendar date is a day number: days since 1970-01-01 (civil, proleptic Gregorian). A period
+ * is an integer key: the day number for day grain, a week count for week grain, year·12 + month − 1 for
+ * month grain. Keys of one scheme are consecutive integers, so period arithmetic is integer arithmetic.
+ * Labels are the period's start date, `YYYY-MM-DD`, in the rules' time zone (luxon formats them).
+ */
+import { DateTime } from 'luxon';
+import type { Grain, Weekday } from '../rules/schema.js';
+import { WEEKDAYS } from '../rules/schema.js';
+
+export interface PeriodScheme {
+  grain: Grain;
+  weekStart: Weekday;
+}
+
+const MS_PER_DAY = 86_400_000;
+
+/** Day number of a civil date (month 1–12). Example: civilToDays(1970, 1, 1) === 0; (2026, 12, 28) === 20815. */
+export function civilToDays(year: number, month: number, day: number): number {
+  return Math.floor(Date.UTC(year, month - 1, day) / MS_PER_DAY);
+}
+
+/** Day number → { year, month (1–12), day }. */
+export function daysToCivil(days: number): { year: number; month: number; day: number } {
+  const d = new Date(days * MS_PER_DAY);
+  return { year: d.getUTCFullYear(), month: d.getUTCMonth() + 1, day: d.getUTCDate() };
+}
+
+/** Index of a weekday with monday = 0 … sunday = 6. */
+export function weekdayIndex(w: Weekday): number {
+  return WEEKDAYS.indexOf(w);
+}
+
+/**
+ * The period key holding a local day. Weeks: 1970-01-01 was a Thursday (index 3), so the week
+ * starting on weekday `ws` that holds day d is floor((d + 3 − ws) / 7).
+ */
+export function periodKeyOfDay(day: number, scheme: PeriodScheme): number {
+  switch (scheme.grain) {
+    case 'day':
+      return day;
+    case 'week':
+      return Math.floor((day + 3 - weekdayIndex(scheme.weekStart)) / 7);
+    case 'month': {
+      const c = daysToCivil(day);
+      return c.year * 12 + c.month - 1;
+    }
+  }
+}
+
+/** First local day of a period key. */
+export function periodStartDay(key: number, scheme: PeriodScheme): number {
+  switch (scheme.grain) {
+    case 'day':
+      return key;
+    case 'week':
+      return key * 7 - 3 + weekdayIndex(scheme.weekStart);
+    case 'month':
+      return civilToDays(Math.floor(key / 12), (key % 12) + 1, 1);
+  }
+}
+
+/** First local day after a period (its exclusive end). */
+export function periodEndDay(key: number, scheme: PeriodScheme): number {
+  return periodStartDay(key + 1, scheme);
+}
+
+/** Label of a period key: its start date, `YYYY-MM-DD`. Example (week, monday): the key of 2027-01-01 → '2026-12-28'. */
+export function periodLabel(key: number, scheme: PeriodScheme): string {
+  return DateTime.fromMillis(periodStartDay(key, scheme) * MS_PER_DAY, { zone: 'utc' }).toISODate() as string;
+}
+
+/** Parse a `YYYY-MM-DD` date into the key of the period holding it, or undefined when not a valid date. */
+export function periodKeyOfDate(text: string, scheme: PeriodScheme): number | undefined {
+  const dt = DateTime.fromISO(text, { zone: 'utc' });
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(text) || !dt.isValid) return undefined;
+  return periodKeyOfDay(civilToDays(dt.year, dt.month, dt.day), scheme);
+}

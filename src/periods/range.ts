@@ -1,0 +1,33 @@
+/**
+ * The analysis range: from the period of the earliest event to the period of the latest, narrowed or
+ * widened by --from/--to. Keys are period keys of one scheme (consecutive integers).
+ */
+import { TidemarkError } from '../errors.js';
+import { periodKeyOfDate, type PeriodScheme } from './calendar.js';
+
+/** The period key of a --from/--to date, or a RANGE_INVALID error naming the option. */
+export function optionKey(text: string | undefined, scheme: PeriodScheme, option: '--from' | '--to'): number | undefined {
+  if (text === undefined) return undefined;
+  const k = periodKeyOfDate(text.trim(), scheme);
+  if (k === undefined) throw new TidemarkError('RANGE_INVALID', `${option} '${text}' is not a date`, { key: option }, 'Write a date as YYYY-MM-DD');
+  return k;
+}
+
+export interface ResolvedRange {
+  /** First key classified (earliest data, or --from if earlier). */
+  startKey: number;
+  /** Number of periods classified. */
+  span: number;
+  /** Offset of the first output period (from --from). */
+  outStart: number;
+}
+
+export function resolveRange(minKey: number, maxKey: number, fromKey: number | undefined, toKey: number | undefined, labelOf: (k: number) => string): ResolvedRange {
+  const end = toKey ?? maxKey;
+  const start = Math.min(minKey, fromKey ?? minKey);
+  const outKey = fromKey ?? start;
+  if (outKey > end) {
+    throw new TidemarkError('RANGE_INVALID', `--from ${labelOf(outKey)} is after the last period ${labelOf(end)}`, { key: '--from' }, `The data run from ${labelOf(minKey)} to ${labelOf(maxKey)}`);
+  }
+  return { startKey: start, span: end - start + 1, outStart: outKey - start };
+}

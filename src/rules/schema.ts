@@ -1,0 +1,102 @@
+/**
+ * The rules schema: what a rules file may say, and what each key means.
+ *
+ * Rules are data. Nothing in a rules file is executed: there are no expressions, no code tags, and
+ * every value is checked against this schema before use.
+ */
+import { z } from 'zod';
+import { IANAZone } from 'luxon';
+
+export const GRAINS = ['day', 'week', 'month'] as const;
+export const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday'] as const;
+
+export type Grain = (typeof GRAINS)[number];
+export type Weekday = (typeof WEEKDAYS)[number];
+
+const eventName = z.string().min(1, 'an event name must not be empty');
+const columnName = z.string().min(1, 'a column name must not be empty');
+
+export const activitySchema = z
+  .strictObject({
+    keyEvents: z
+      .array(eventName)
+      .min(1, 'list at least one event name, or leave keyEvents out to count every event')
+      .optional()
+      .describe('Event names that count toward activity. Omitted: every event counts.'),
+    minEvents: z
+      .number()
+      .int('minEvents must be a whole number')
+      .min(1, 'minEvents must be at least 1')
+      .default(1)
+      .describe('Key events a user needs in a period to be active in it.'),
+  })
+  .describe('What makes a user active in a period.');
+
+export const columnsSchema = z
+  .strictObject({
+    user: columnName.default('user_id').describe('Column holding the user id.'),
+    timestamp: columnName.default('timestamp').describe('Column holding the event time.'),
+    event: columnName.default('event').describe('Column holding the event name.'),
+  })
+  .describe('Names of the input columns, when they differ from user_id, timestamp and event.');
+
+export const rulesSchema = z
+  .strictObject({
+    name: z.string().min(1).optional().describe('A short name for this rule set, shown in reports.'),
+    version: z
+      .union([z.string().min(1), z.number()])
+      .transform(String)
+      .optional()
+      .describe('Version of this rule set; bump it whenever a change would reclassify users.'),
+    description: z.string().optional().describe('Free text: when to use these rules.'),
+    grain: z.enum(GRAINS).describe('Length of a period: day, week or month.'),
+    weekStart: z.enum(WEEKDAYS).default('monday').describe('First day of a week (week grain only).'),
+    timezone: z
+      .string()
+      .default('UTC')
+      .refine((tz) => IANAZone.isValidZone(tz), {
+        message: 'not a known IANA time zone name (for example UTC, Europe/Berlin, America/Chicago)',
+      })
+      .describe('IANA time zone used to put timestamps into periods.'),
+    activity: activitySchema.default({ minEvents: 1 }),
+    lapseLimit: z
+      .number()
+      .int('lapseLimit must be a whole number')
+      .min(0, 'lapseLimit must be 0 or more')
+      .describe('Consecutive inactive periods a user is still lapsing before becoming dormant.'),
+    warmup: z
+      .number()
+      .int('warmup must be a whole number')
+      .min(0, 'warmup must be 0 or more')
+      .default(0)
+      .describe(
+        'Leading periods that are classified but left out of flows and retention (left-censoring guard).',
+      ),
+    tenureBands: z
+      .array(z.number().int().min(0))
+      .min(1)
+      .default([0, 1, 4, 12])
+      .refine((b) => b[0] === 0 && b.every((v, i) => i === 0 || v > b[i - 1]), {
+        message: 'tenureBands must start at 0 and increase, for example [0, 1, 4, 12]',
+      })
+      .describe('Lower edges of tenure bands, in periods since first active: [0, 1, 4, 12] gives 0, 1-3, 4-11, 12+.'),
+    minCell: z
+      .number()
+      .int()
+      .min(1)
+      .default(30)
+      .describe('Cells with fewer users than this are flagged as small.'),
+    columns: columnsSchema.default({ user: 'user_id', timestamp: 'timestamp', event: 'event' }),
+  })
+  .describe('tidemark lifecycle rules.');
+
+/** Validated rules, every default filled in. */
+export type Rules = z.output<typeof rulesSchema>;
+/** Rules as written in a file. */
+export type RulesInput = z.input<typeof rulesSchema>;
+
+/** JSON Schema (draft 2020-12) for editors, generated from the zod schema. */
+export function rulesJsonSchema(): Record<string, unknown> {
+  const schema = z.toJSONSchema(rulesSchema, { io: 'input', unrepresentable: 'any' }) as Record<string, unknown>;
+  return { $id: 'https://tidemark.invalid/rules.schema.json', title: 'tidemark rules', ...schema };
+}
