@@ -4,6 +4,11 @@
 import { register } from 'tsx/esm/api';
 
 register();
+// a closed pipe (`tidemark flows | head`) is a normal end, not an error
+process.stdout.on('error', (e) => {
+  if (e.code === 'EPIPE') process.exit(0);
+  throw e;
+});
 const { main } = await import('./main.ts');
 process.exitCode = await main(process.argv.slice(2), {
   stdout: (s) => process.stdout.write(s),

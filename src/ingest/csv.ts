@@ -10,6 +10,8 @@ import type { EventLogBuilder } from './eventLog.js';
 import { headerPlan } from './header.js';
 import { lineOfRowAfter } from './lineAt.js';
 
+const NONE: readonly string[] = [];
+
 export async function readCsv(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean): Promise<void> {
   let plan: ReturnType<typeof headerPlan> | undefined;
   let prevCursor = 0;
@@ -24,23 +26,22 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
           const start = prevCursor;
           prevCursor = res.meta.cursor;
           const data = res.data;
-          const at = () => lineOfRowAfter(file, start);
           if (!plan) {
             if (data.length > 0 && data[0].charCodeAt(0) === 0xfeff) data[0] = data[0].slice(1);
             plan = headerPlan(data, columns, needEvent, file);
-            builder.startFile(file, plan.attributeNames);
+            builder.startFile(file, plan.attributeNames, (ref) => lineOfRowAfter(file, ref));
             return;
           }
           if (data.length === 1 && data[0] === '') return builder.blank();
           if (res.errors.some((e) => e.code === 'MissingQuotes')) {
-            return builder.reject('unclosed quote', file, at, undefined, undefined, 'Close the quoted field, or pass --skip-bad-rows');
+            return builder.reject('unclosed quote', file, start, undefined, undefined, 'Close the quoted field, or pass --skip-bad-rows');
           }
           if (data.length !== plan.width) {
-            return builder.reject('wrong number of fields', file, at, undefined, `${data.length} fields, header has ${plan.width}`,
+            return builder.reject('wrong number of fields', file, start, undefined, `${data.length} fields, header has ${plan.width}`,
               'Quote fields that contain commas, or pass --skip-bad-rows');
           }
-          const attrs = plan.attributePositions.map((p) => data[p]);
-          builder.add(file, at, data[plan.user], data[plan.timestamp], plan.event >= 0 ? data[plan.event] : undefined, attrs);
+          const attrs = plan.attributePositions.length === 0 ? NONE : plan.attributePositions.map((p) => data[p]);
+          builder.add(file, start, data[plan.user], data[plan.timestamp], plan.event >= 0 ? data[plan.event] : undefined, attrs);
         } catch (err) {
           failure = err;
           parser.abort();

@@ -56,8 +56,11 @@ export interface EventLog {
   files: string[];
 }
 
-/** Where a row came from, for messages: a line, or a function that finds the line lazily. */
-export type LineRef = number | (() => number);
+/**
+ * Where a row came from: a number that the current file's line resolver turns into a 1-based line
+ * (the line itself for NDJSON; a character offset for CSV, resolved only when a message needs it).
+ */
+export type LineRef = number;
 
 export interface BuilderOptions {
   rules: Rules;
@@ -90,10 +93,15 @@ export class EventLogBuilder {
 
   /** For the current file: slots[a] is the position of the log's a-th attribute among the file's, or -1. */
   private slots: number[] = [];
+  private lineOf: (ref: LineRef) => number = (ref) => ref;
 
-  /** Declare the attribute columns of the next file (extra columns beyond user, timestamp, event). */
-  startFile(file: string, names: string[]): void {
+  /**
+   * Declare the attribute columns of the next file (extra columns beyond user, timestamp, event),
+   * and how its row references become line numbers.
+   */
+  startFile(file: string, names: string[], lineOf: (ref: LineRef) => number = (ref) => ref): void {
     this.files.push(file);
+    this.lineOf = lineOf;
     for (const n of names) {
       if (!this.attrNames.includes(n)) {
         this.attrNames.push(n);
@@ -113,7 +121,7 @@ export class EventLogBuilder {
     this.rows.read++;
     if (!this.opts.skipBadRows) {
       const shown = value === undefined ? '' : `: '${value.length > 60 ? `${value.slice(0, 57)}...` : value}'`;
-      throw new TidemarkError('EVENTS_BAD_ROW', `${reason}${shown}`, { file, line: typeof line === 'number' ? line : line(), column },
+      throw new TidemarkError('EVENTS_BAD_ROW', `${reason}${shown}`, { file, line: this.lineOf(line), column },
         hint ?? 'Fix the row, or pass --skip-bad-rows to skip and count such rows');
     }
     this.rows.rejected[reason] = (this.rows.rejected[reason] ?? 0) + 1;

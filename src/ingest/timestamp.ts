@@ -9,18 +9,51 @@
  * 2. ISO 8601 `YYYY-MM-DD`, optionally `T` or a space and `HH:MM[:SS[.fraction]]`, optionally an offset
  *    `Z`, `±HH:MM`, `±HHMM` or `±HH`. With an offset it is an instant, put into the zone. Without
  *    one it is already local time in the rules' zone, so its date is its period's date as written.
- * Anything else, and any impossible date or time, is refused (undefined).
+ * Anything else, and any impossible date or time, is refused (undefined). Years 1900–2199 only.
  */
 import type { ZoneClock } from '../periods/zone.js';
 
 const ISO = /^(\d{4})-(\d{2})-(\d{2})(?:[Tt ](\d{2}):(\d{2})(?::(\d{2})(?:[.,](\d{1,9}))?)?)?\s*(?:([Zz])|([+-])(\d{2})(?::?(\d{2}))?)?$/;
 const EPOCH = /^[+-]?\d+(?:\.\d+)?$/;
-/** Wall-clock ms limits: 1900-01-01 to 2200-01-01. Outside is treated as a bad value. */
 const MIN_MS = Date.UTC(1900, 0, 1);
 const MAX_MS = Date.UTC(2200, 0, 1);
+const DAYS_IN_MONTH = [31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31];
+
+function daysIn(year: number, month: number): number {
+  return month === 2 && ((year % 4 === 0 && year % 100 !== 0) || year % 400 === 0) ? 29 : DAYS_IN_MONTH[month - 1];
+}
+
+/** Two ASCII digits at i, or -1. */
+function two(s: string, i: number): number {
+  const a = s.charCodeAt(i) - 48, b = s.charCodeAt(i + 1) - 48;
+  return a >= 0 && a <= 9 && b >= 0 && b <= 9 ? a * 10 + b : -1;
+}
+
+/** Fast path for the commonest form, `YYYY-MM-DDTHH:MM:SS[.sss]Z`; undefined when s is not in it. */
+function fastUtc(s: string): number | undefined {
+  const n = s.length;
+  if ((n !== 20 && n !== 24) || s.charCodeAt(n - 1) !== 90 /* Z */ || s.charCodeAt(10) !== 84 /* T */) return undefined;
+  if (s.charCodeAt(4) !== 45 || s.charCodeAt(7) !== 45 || s.charCodeAt(13) !== 58 || s.charCodeAt(16) !== 58) return undefined;
+  const y1 = two(s, 0), y2 = two(s, 2), mo = two(s, 5), d = two(s, 8), h = two(s, 11), mi = two(s, 14), sec = two(s, 17);
+  if (y1 < 0 || y2 < 0 || mo < 1 || mo > 12 || d < 1 || h < 0 || h > 23 || mi < 0 || mi > 59 || sec < 0 || sec > 59) return undefined;
+  let ms = 0;
+  if (n === 24) {
+    const a = two(s, 20), b = s.charCodeAt(22) - 48;
+    if (s.charCodeAt(19) !== 46 || a < 0 || b < 0 || b > 9) return undefined;
+    ms = a * 10 + b;
+  }
+  const y = y1 * 100 + y2;
+  if (d > daysIn(y, mo)) return undefined;
+  return Date.UTC(y, mo - 1, d, h, mi, sec, ms);
+}
 
 /** Wall-clock ms of a timestamp text, or undefined when it is not a valid timestamp. */
 export function parseTimestamp(text: string, clock: ZoneClock): number | undefined {
+  const fast = fastUtc(text);
+  if (fast !== undefined) {
+    const wall = clock.wallMs(fast);
+    return wall >= MIN_MS && wall < MAX_MS ? wall : undefined;
+  }
   const s = text.trim();
   if (s.length === 0) return undefined;
   let wall: number;
@@ -34,12 +67,11 @@ export function parseTimestamp(text: string, clock: ZoneClock): number | undefin
     const y = +m[1], mo = +m[2], d = +m[3];
     const h = m[4] ? +m[4] : 0, mi = m[5] ? +m[5] : 0, sec = m[6] ? +m[6] : 0;
     const frac = m[7] ? Math.floor(Number(`0.${m[7]}`) * 1000) : 0;
-    if (mo < 1 || mo > 12 || d < 1 || h > 23 || mi > 59 || sec > 60) return undefined;
+    if (mo < 1 || mo > 12 || d < 1 || d > daysIn(y, mo) || h > 23 || mi > 59 || sec > 60) return undefined;
     const local = Date.UTC(y, mo - 1, d, h, mi, Math.min(sec, 59), frac);
-    if (new Date(local).getUTCDate() !== d) return undefined; // 2026-02-30 and the like
     if (m[8] || m[9]) {
-      const offMin = m[9] ? (m[9] === '-' ? -1 : 1) * (+m[10] * 60 + (m[11] ? +m[11] : 0)) : 0;
       if (m[10] && (+m[10] > 23 || (m[11] && +m[11] > 59))) return undefined;
+      const offMin = m[9] ? (m[9] === '-' ? -1 : 1) * (+m[10] * 60 + (m[11] ? +m[11] : 0)) : 0;
       wall = clock.wallMs(local - offMin * 60_000);
     } else {
       wall = local;
