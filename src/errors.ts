@@ -55,7 +55,8 @@ export class TidemarkError extends Error {
       .filter(Boolean)
       .join(', ');
     const text = place ? `${place}: ${this.message}` : this.message;
-    return this.hint ? `${text}. ${this.hint}` : text;
+    if (!this.hint) return text;
+    return `${text}. ${this.hint.charAt(0).toUpperCase()}${this.hint.slice(1)}`;
   }
 }
 
@@ -93,4 +94,10 @@ export function didYouMean(input: string, candidates: readonly string[]): string
 export function suggestion(input: string, candidates: readonly string[]): string | undefined {
   const m = didYouMean(input, candidates);
   return m ? `did you mean '${m}'?` : undefined;
+}
+
+/** The same error, located in `file` when it had no file yet (for errors raised on a file's parsed content). */
+export function inFile(err: unknown, file: string): unknown {
+  if (!(err instanceof TidemarkError) || err.where.file) return err;
+  return new TidemarkError(err.code, err.message, { ...err.where, file }, err.hint);
 }

@@ -34,9 +34,10 @@ export function addFormatOptions(cmd: Command, dflt: Format): Command {
     .option('--out <file>', 'write the result to a file instead of standard output');
 }
 
-export function addEventOptions(cmd: Command): Command {
+/** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
+export function addEventOptions(cmd: Command, withEvents = true): Command {
+  if (withEvents) cmd.requiredOption('--events <files...>', 'event log(s): CSV or NDJSON (by extension)');
   return cmd
-    .requiredOption('--events <files...>', 'event log(s): CSV or NDJSON (by extension)')
     .option('--rules <file>', 'rules file (YAML); default: the packaged rules/weekly.yaml')
     .option('--from <date>', 'first period to output (YYYY-MM-DD inside it); earlier events still shape states')
     .option('--to <date>', 'last period to analyse (YYYY-MM-DD inside it); later events are ignored')

@@ -8,6 +8,7 @@ import type { Io } from './io.js';
 import { classifyCommand } from './commands/classify.js';
 import { demoCommand } from './commands/demo.js';
 import { flowsCommand } from './commands/flows.js';
+import { projectCommand } from './commands/project.js';
 import { rulesCommand } from './commands/rules.js';
 
 export function buildProgram(io: Io): Command {
@@ -20,6 +21,7 @@ export function buildProgram(io: Io): Command {
     .configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) });
   classifyCommand(program, io);
   flowsCommand(program, io);
+  projectCommand(program, io);
   demoCommand(program, io);
   rulesCommand(program, io);
   for (const c of program.commands) applyOverrides(c, io);

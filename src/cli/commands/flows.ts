@@ -89,6 +89,6 @@ export function flowsCommand(program: Command, io: Io): void {
   const cmd = program
     .command('flows')
     .description('transition counts and rates between lifecycle states, period by period, with retention and growth accounting')
-    .option('--pool <range>', 'pool transitions into periods FROM..TO (labels; either side may be empty); default all');
+    .option('--pool <range>', 'transitions to pool into one matrix: all, N (the last N) or FROM..TO (period labels; either side may be empty)', 'all');
   addFormatOptions(addEventOptions(cmd), 'table').action((opts: FlowsOptions) => runFlows(opts, io));
 }

@@ -1,0 +1,250 @@
+/**
+ * `tidemark project`: the audience mix projected with a Markov chain fitted from the flows (or a
+ * planner's own matrix), with its long run, bands, what-if scenarios, time to a state and a backtest.
+ */
+import { readFileSync } from 'node:fs';
+import { Option, type Command } from 'commander';
+import { TidemarkError, inFile } from '../../errors.js';
+import { MemoryEngine } from '../../engines/memory.js';
+import { parseSelection } from '../../flows/select.js';
+import type { WaistTables } from '../../flows/types.js';
+import {
+  backtest, firstPassage, fitChain, project, projectionBands, stationary, validateModel, whatIf,
+  type Backtest, type Bands, type FirstPassage, type Stationary, type WhatIf,
+} from '../../markov/index.js';
+import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { emit, json, pct, textTable, type Format } from '../format.js';
+import type { Io } from '../io.js';
+
+export interface ProjectOptions extends Omit<CommonOptions, 'events'> {
+  events?: string[];
+  matrix?: string;
+  fit: string;
+  horizon: string;
+  inflow?: string;
+  until?: string;
+  whatIf: string[];
+  samples: string;
+  seed: string;
+  band: string;
+  backtest: boolean;
+  backtestHorizon: string;
+}
+
+type Counts = Record<string, number>;
+
+export interface ProjectionStep {
+  step: number;
+  total: number;
+  counts: Counts;
+  shares: Counts;
+  bands: { percentiles: [number, number]; counts: Record<string, [number, number]>; shares: Record<string, [number, number]> } | null;
+}
+
+export interface ProjectOutput {
+  states: string[];
+  source: { kind: 'events'; fit: { from: string; to: string; transitions: number }; emptyRows: string[] } | { kind: 'matrix'; file: string };
+  matrix: number[][];
+  start: Counts;
+  inflow: Counts;
+  horizon: number;
+  /** The stationary mix when the chain has one; null otherwise (see longRun). */
+  steadyState: Counts | null;
+  longRun: { kind: Stationary['kind']; sentence: string };
+  projection: ProjectionStep[];
+  firstPassage?: { target: string; expectedSteps: Record<string, number | null>; periodsInState: Record<string, Counts>; unreachable: { state: string; reason: string }[] };
+  scenario?: { edits: { text: string; before: number; after: number }[]; baseline: ProjectionStep[]; projected: ProjectionStep[]; difference: ProjectionStep[] };
+  backtest?: Backtest | { skipped: string };
+}
+
+const byState = (states: string[], v: number[]): Counts => Object.fromEntries(states.map((s, i) => [s, v[i]]));
+
+function steps(states: string[], p: { counts: number[][]; shares: number[][]; totals: number[] }, bands?: Bands): ProjectionStep[] {
+  return p.counts.map((c, t) => ({
+    step: t,
+    total: p.totals[t],
+    counts: byState(states, c),
+    shares: byState(states, p.shares[t]),
+    bands: bands
+      ? {
+          percentiles: [bands.percentiles[0], bands.percentiles[bands.percentiles.length - 1]],
+          counts: Object.fromEntries(states.map((s, i) => [s, [bands.counts[0][t][i], bands.counts[bands.counts.length - 1][t][i]]])),
+          shares: Object.fromEntries(states.map((s, i) => [s, [bands.shares[0][t][i], bands.shares[bands.shares.length - 1][t][i]]])),
+        }
+      : null,
+  }));
+}
+
+function parseBand(text: string): [number, number] {
+  const m = /^(\d+(?:\.\d+)?)[,-](\d+(?:\.\d+)?)$/.exec(text.trim());
+  const lo = m ? Number(m[1]) : NaN, hi = m ? Number(m[2]) : NaN;
+  if (!(lo >= 0 && hi <= 100 && lo < hi)) throw new TidemarkError('USAGE', `--band '${text}' is not two percentiles LO,HI with 0 ≤ LO < HI ≤ 100`, { key: '--band' }, 'For example --band 10,90');
+  return [lo, hi];
+}
+
+/** Everything `project` computes, from waist tables (events) or a planner's matrix document. */
+export function computeProjection(input: { tables: WaistTables } | { doc: unknown; file: string }, o: {
+  fit?: string; horizon: number; inflow?: number; until?: string; whatIf?: string[]; samples: number; seed: number; band: [number, number]; backtest?: boolean; backtestHorizon?: number;
+}): ProjectOutput {
+  let states: string[], matrix: number[][], start: number[], inflow: number[], counts: number[][] | undefined;
+  let source: ProjectOutput['source'];
+  if ('tables' in input) {
+    const fitted = fitChain(input.tables, { selection: parseSelection(o.fit ?? 'all') });
+    ({ states, matrix, start, inflow, counts } = fitted);
+    source = { kind: 'events', fit: fitted.range, emptyRows: fitted.emptyRows };
+  } else {
+    const model = validateModel(input.doc);
+    ({ states, matrix, inflow } = model);
+    if (!model.start) throw new TidemarkError('INPUT_INVALID', 'the matrix document has no "start" counts to project from', { file: input.file, key: 'start' }, 'Add "start": {"state": count, ...}');
+    start = model.start;
+    source = { kind: 'matrix', file: input.file };
+  }
+  if (o.inflow !== undefined) {
+    const fi = states.indexOf('fresh');
+    const into = fi >= 0 ? fi : inflow.findIndex((v) => v > 0);
+    if (into < 0) throw new TidemarkError('USAGE', '--inflow needs a state that new users arrive in: no fresh state and no inflow given', { key: '--inflow' });
+    inflow = states.map((_, i) => (i === into ? o.inflow! : 0));
+  }
+  const chain = { states, matrix };
+  const long = stationary(chain);
+  const base = project(matrix, start, inflow, o.horizon);
+  const bands = counts ? projectionBands(counts, start, inflow, o.horizon, { samples: o.samples, seed: o.seed, percentiles: [o.band[0], 50, o.band[1]] }) : undefined;
+  const out: ProjectOutput = {
+    states,
+    source,
+    matrix,
+    start: byState(states, start),
+    inflow: byState(states, inflow),
+    horizon: o.horizon,
+    steadyState: long.kind === 'unique' ? byState(states, long.distribution) : null,
+    longRun: { kind: long.kind, sentence: long.sentence },
+    projection: steps(states, base, bands),
+  };
+  if (o.until) out.firstPassage = passageOutput(states, firstPassage(chain, o.until), o.until);
+  if (o.whatIf && o.whatIf.length > 0) {
+    const w: WhatIf = whatIf({ states, matrix, inflow }, o.whatIf, start, o.horizon);
+    out.scenario = { edits: w.scenario.changes, baseline: steps(states, w.baseline), projected: steps(states, w.projected), difference: steps(states, w.difference) };
+  }
+  if ('tables' in input && o.backtest !== false) {
+    try {
+      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band });
+    } catch (e) {
+      if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') out.backtest = { skipped: e.message };
+      else throw e;
+    }
+  }
+  return out;
+}
+
+function passageOutput(states: string[], fp: FirstPassage, target: string): NonNullable<ProjectOutput['firstPassage']> {
+  return {
+    target,
+    expectedSteps: byState(states, fp.expected as number[]),
+    periodsInState: Object.fromEntries(fp.transient.map((i, k) => [states[i], Object.fromEntries(fp.transient.map((j, l) => [states[j], fp.fundamental[k][l]]))])),
+    unreachable: fp.infinite.map((x) => ({ state: states[x.state], reason: x.reason })),
+  };
+}
+
+const n0 = (x: number) => (Math.round(x) || 0).toLocaleString('en-US');
+const signed = (x: number) => `${Math.round(x) > 0 ? '+' : ''}${n0(x)}`;
+
+export function formatProjection(p: ProjectOutput, format: Format): string {
+  if (format === 'json') return json(p);
+  if (format === 'csv') {
+    const head = ['step', 'state', 'count', 'share', 'count_lo', 'count_hi', 'share_lo', 'share_hi'];
+    const rows = p.projection.flatMap((s) => p.states.map((st) => [s.step, st, s.counts[st], s.shares[st], s.bands?.counts[st][0] ?? '', s.bands?.counts[st][1] ?? '', s.bands?.shares[st][0] ?? '', s.bands?.shares[st][1] ?? '']));
+    return [head.join(','), ...rows.map((r) => r.join(','))].join('\n') + '\n';
+  }
+  const out: string[] = [];
+  const src = p.source.kind === 'events' ? `fitted on ${p.source.fit.transitions} transitions ${p.source.fit.from} to ${p.source.fit.to}` : `matrix from ${p.source.file}`;
+  const inflow = Object.entries(p.inflow).filter(([, v]) => v > 0).map(([s, v]) => `${n0(v)} ${s}`).join(', ') || 'none';
+  out.push(`Projection ${p.horizon} periods ahead, ${src}; inflow per period: ${inflow}`);
+  if (p.source.kind === 'events' && p.source.emptyRows.length) out.push(`note: no transitions seen out of ${p.source.emptyRows.join(', ')}; kept absorbing`);
+  out.push(`Long run: ${p.longRun.sentence}`);
+  if (p.steadyState) out.push(`Steady-state mix: ${p.states.map((s) => `${s} ${pct(p.steadyState![s])}`).join(', ')}`);
+  const H = p.horizon;
+  const show = [...new Set([0, 1, Math.min(4, H), Math.min(8, H), H])].filter((k) => k <= H);
+  const last = p.projection[H];
+  const band = last.bands ? `+${H} ${last.bands.percentiles[0]}-${last.bands.percentiles[1]}%` : undefined;
+  const rows = p.states.map((s) => [s, ...show.map((k) => n0(p.projection[k].counts[s])), ...(band ? [`${n0(last.bands!.counts[s][0])}-${n0(last.bands!.counts[s][1])}`] : []), pct(last.shares[s])]);
+  rows.push(['total', ...show.map((k) => n0(p.projection[k].total)), ...(band ? [''] : []), '']);
+  out.push('', textTable(['state', ...show.map((k) => (k === 0 ? 'now' : `+${k}`)), ...(band ? [band] : []), `share +${H}`], rows).trimEnd());
+  if (p.scenario) {
+    out.push('', `What-if ${p.scenario.edits.map((e) => `${e.text} (${e.before.toFixed(3)} -> ${e.after.toFixed(3)})`).join('; ')}, at +${H}:`);
+    const b = p.scenario.baseline[H], s = p.scenario.projected[H], d = p.scenario.difference[H];
+    const r = p.states.map((st) => [st, n0(b.counts[st]), n0(s.counts[st]), signed(d.counts[st]), `${d.shares[st] * 100 >= 0.05 ? '+' : ''}${(Math.abs(d.shares[st] * 100) < 0.05 ? 0 : d.shares[st] * 100).toFixed(1)} pts`]);
+    r.push(['total', n0(b.total), n0(s.total), signed(d.total), '']);
+    out.push(textTable(['state', 'baseline', 'scenario', 'change', 'share change'], r).trimEnd());
+  }
+  if (p.firstPassage) {
+    const fp = p.firstPassage;
+    out.push('', `Expected periods until first ${fp.target}:`);
+    out.push(textTable(['from', 'periods'], p.states.filter((s) => s !== fp.target).map((s) => [s, fp.expectedSteps[s] === null ? 'never (see note)' : fp.expectedSteps[s]!.toFixed(1)])).trimEnd());
+    for (const u of fp.unreachable) out.push(`note: ${u.state}: ${u.reason}`);
+  }
+  if (p.backtest) {
+    if ('skipped' in p.backtest) out.push('', `Backtest skipped: ${p.backtest.skipped}`);
+    else {
+      out.push('', `Backtest over ${p.backtest.origins.length} origins: mean absolute error of state shares (points)`);
+      out.push(textTable(['ahead', 'origins', 'model', 'no change', 'band coverage'], p.backtest.rows.map((r) => [r.horizon, r.origins, (r.mae * 100).toFixed(2), (r.naiveMae * 100).toFixed(2), pct(r.coverage, 0)])).trimEnd());
+      const nominal = (p.projection[0].bands?.percentiles[1] ?? 90) - (p.projection[0].bands?.percentiles[0] ?? 10);
+      if (p.backtest.rows.some((r) => r.coverage * 100 < nominal - 20)) {
+        out.push(`note: the bands cover far less than ${nominal}% of what happened. They reflect sampling error in the fitted rates only; the flows themselves shifted over time, so read the bands as a floor on the uncertainty.`);
+      }
+    }
+  }
+  return `${out.join('\n')}\n`;
+}
+
+export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
+  const horizon = intOption(o.horizon, '--horizon', 1);
+  const common = {
+    fit: o.fit, horizon, until: o.until, whatIf: o.whatIf, samples: intOption(o.samples, '--samples', 1), seed: intOption(o.seed, '--seed', 0),
+    band: parseBand(o.band), backtest: o.backtest, backtestHorizon: intOption(o.backtestHorizon, '--backtest-horizon', 1),
+    inflow: o.inflow === undefined ? undefined : Number(o.inflow),
+  };
+  if (common.inflow !== undefined && !(common.inflow >= 0)) throw new TidemarkError('USAGE', `--inflow must be a count ≥ 0, not '${o.inflow}'`, { key: '--inflow' });
+  let result: ProjectOutput;
+  if (o.matrix) {
+    if (o.events) throw new TidemarkError('USAGE', 'give either --events or --matrix, not both', { key: '--matrix' });
+    let doc: unknown;
+    try {
+      doc = JSON.parse(readFileSync(o.matrix, 'utf8'));
+    } catch (e) {
+      const missing = (e as { code?: string }).code === 'ENOENT';
+      throw new TidemarkError(missing ? 'FILE_NOT_FOUND' : 'INPUT_INVALID', missing ? 'cannot read the matrix file' : `not valid JSON: ${(e as Error).message}`, { file: o.matrix });
+    }
+    try {
+      result = computeProjection({ doc, file: o.matrix }, common);
+    } catch (e) {
+      throw inFile(e, o.matrix);
+    }
+  } else {
+    if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --matrix', { key: '--events' }, 'See tidemark project --help');
+    const rules = resolveRules(o as CommonOptions);
+    const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, rangeOf(o as CommonOptions));
+    note(io, o, rowLine(r.rows));
+    result = computeProjection({ tables: r.waist }, common);
+  }
+  emit(formatProjection(result, o.format), o.out, io);
+}
+
+export function projectCommand(program: Command, io: Io): void {
+  const cmd = program
+    .command('project')
+    .description('project the state mix with a Markov chain fitted from the flows (or your own matrix): long run, bands, what-ifs, backtest')
+    .option('--matrix <file>', 'a planner\'s matrix instead of events: {"states","matrix","start","inflow"} (JSON)')
+    .option('--fit <range>', 'transitions to fit on: all, N (the last N) or FROM..TO', 'all')
+    .option('--horizon <n>', 'periods to project ahead', '12')
+    .option('--inflow <n>', 'new users per period (default: the mean fresh count over the fitted range)')
+    .option('--until <state>', 'expected periods until first reaching this state, from each other state')
+    .option('--what-if <edit>', 'scenario edit, repeatable: "lapsing->dormant*0.8", "lapsing->dormant=0.3", "inflow*1.2", "inflow=500"', (v: string, acc: string[]) => [...acc, v], [] as string[])
+    .option('--samples <n>', 'sampled matrices for the uncertainty bands', '500')
+    .option('--seed <n>', 'random seed for the bands and backtest', '1')
+    .option('--band <lo,hi>', 'band percentiles', '10,90')
+    .addOption(new Option('--no-backtest', 'skip the backtest'))
+    .option('--backtest-horizon <n>', 'periods ahead scored in the backtest', '4');
+  cmd.option('--events <files...>', 'event log(s): CSV or NDJSON');
+  addEventOptions(cmd, false);
+  addFormatOptions(cmd, 'table').action((opts: ProjectOptions) => runProject(opts, io));
+}

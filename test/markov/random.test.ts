@@ -1,0 +1,91 @@
+import { describe, expect, it } from 'vitest';
+import { dirichletParameters, sampleDirichlet, sampleTransitionMatrix } from '../../src/markov/dirichlet.js';
+import { gamma } from '../../src/markov/gamma.js';
+import { mulberry32, normal } from '../../src/markov/random.js';
+import { expectClose, expectRefusal } from './helpers.js';
+
+function moments(xs: number[]): { mean: number; variance: number } {
+  const mean = xs.reduce((a, b) => a + b, 0) / xs.length;
+  return { mean, variance: xs.reduce((s, x) => s + (x - mean) ** 2, 0) / (xs.length - 1) };
+}
+const draw = (n: number, f: () => number): number[] => Array.from({ length: n }, f);
+
+describe('mulberry32', () => {
+  it('the same seed gives the same stream; another seed another stream', () => {
+    const a = draw(100, mulberry32(2026));
+    expect(draw(100, mulberry32(2026))).toEqual(a);
+    expect(draw(100, mulberry32(2027))).not.toEqual(a);
+  });
+
+  it('draws lie in the open interval (0, 1) with uniform mean 1/2 and variance 1/12 (seeded, 5 standard errors)', () => {
+    const xs = draw(50000, mulberry32(11));
+    expect(xs.every((x) => x > 0 && x < 1)).toBe(true);
+    const m = moments(xs);
+    expect(Math.abs(m.mean - 0.5)).toBeLessThan(5 * Math.sqrt(1 / 12 / 50000));
+    expect(Math.abs(m.variance - 1 / 12)).toBeLessThan(0.002);
+  });
+
+  it('refuses a seed that is not a 32-bit whole number', () => {
+    expectRefusal(() => mulberry32(1.5), 'INPUT_INVALID', /seed/);
+    expectRefusal(() => mulberry32(-1), 'INPUT_INVALID', /seed/);
+    expectRefusal(() => mulberry32(2 ** 32), 'INPUT_INVALID', /seed/);
+  });
+});
+
+describe('normal (Box–Muller)', () => {
+  it('has mean 0 and variance 1 (seeded, 40000 draws)', () => {
+    const rng = mulberry32(5);
+    const m = moments(draw(40000, () => normal(rng)));
+    expect(Math.abs(m.mean)).toBeLessThan(5 / Math.sqrt(40000));
+    expect(Math.abs(m.variance - 1)).toBeLessThan(0.03);
+  });
+});
+
+describe('gamma (Marsaglia & Tsang 2000, with the α < 1 boost)', () => {
+  // Gamma(α, 1) has mean α and variance α (definition); tolerances are 5 standard errors of the mean.
+  for (const alpha of [0.3, 0.5, 1, 2.5, 10, 150]) {
+    it(`α = ${alpha}: mean ≈ α, variance ≈ α, all draws > 0 (seeded, 40000 draws)`, () => {
+      const rng = mulberry32(100 + Math.round(alpha * 10));
+      const xs = draw(40000, () => gamma(rng, alpha));
+      expect(xs.every((x) => x > 0)).toBe(true);
+      const m = moments(xs);
+      expect(Math.abs(m.mean - alpha)).toBeLessThan(5 * Math.sqrt(alpha / 40000));
+      expect(Math.abs(m.variance / alpha - 1)).toBeLessThan(0.06);
+    });
+  }
+
+  it('refuses a shape that is not > 0', () => {
+    expectRefusal(() => gamma(mulberry32(1), 0), 'INPUT_INVALID', /gamma shape/);
+    expectRefusal(() => gamma(mulberry32(1), Number.NaN), 'INPUT_INVALID', /gamma shape/);
+  });
+});
+
+describe('Dirichlet', () => {
+  it('Dirichlet(2, 0, 3): component means 0.4, 0, 0.6 and a zero component stays 0 (seeded, 20000 draws)', () => {
+    const rng = mulberry32(9);
+    const xs = draw(20000, () => sampleDirichlet(rng, [2, 0, 3])[0]);
+    // Var of a Beta(2, 3) component = αβ/((α+β)²(α+β+1)) = 6/150 = 0.04.
+    expect(Math.abs(moments(xs).mean - 0.4)).toBeLessThan(5 * Math.sqrt(0.04 / 20000));
+    expectClose(moments(xs).variance, 0.04, 0.003);
+    expect(sampleDirichlet(rng, [2, 0, 3])[1]).toBe(0);
+  });
+
+  it('parameters: prior 0.5 on observed cells only by default; allowed widens; empty rows are null', () => {
+    expect(dirichletParameters([[3, 0], [1, 1]])).toEqual([[3.5, 0], [1.5, 1.5]]);
+    expect(dirichletParameters([[3, 0], [0, 0]], { prior: 1, allowed: [[true, true], [false, false]] })).toEqual([[4, 1], null]);
+  });
+
+  it('a sampled matrix is row-stochastic, keeps empty rows absorbing and never invents a move', () => {
+    const p = sampleTransitionMatrix(mulberry32(3), [[0, 30, 10], [0, 50, 0], [0, 0, 0]]);
+    p.forEach((row) => expectClose(row.reduce((a, b) => a + b, 0), 1, 1e-12));
+    expect(p[0][0]).toBe(0);
+    expect(p[1]).toEqual([0, 1, 0]);
+    expect(p[2]).toEqual([0, 0, 1]);
+  });
+
+  it('refuses a bad prior, a mask of the wrong size and all-zero parameters', () => {
+    expectRefusal(() => dirichletParameters([[1]], { prior: 0 }), 'INPUT_INVALID', /prior/);
+    expectRefusal(() => dirichletParameters([[1, 0], [0, 1]], { allowed: [[true]] }), 'INPUT_INVALID', /allowed mask must be 2 × 2/);
+    expectRefusal(() => sampleDirichlet(mulberry32(1), [0, 0]), 'INPUT_INVALID', /not all 0/);
+  });
+});
