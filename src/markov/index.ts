@@ -38,5 +38,8 @@ export { quantileSorted } from './quantile.js';
 export { projectionBands, type BandOptions, type Bands } from './bands.js';
 export { backtest, type BacktestOptions, type BacktestRow, type Backtest } from './backtest.js';
 
+// The whole projection job
+export { computeProjection, parseBand, type ProjectOutput, type ProjectionOptions, type ProjectionStep } from './run.js';
+
 // Linear algebra (small dense helpers, exported for tests and other modules)
 export { identity, transpose, vecMat, matVec, matMul, solve, solveMany, inverse } from './linalg.js';
