@@ -7,9 +7,12 @@ import { reportError } from './errors.js';
 import type { Io } from './io.js';
 import { classifyCommand } from './commands/classify.js';
 import { demoCommand } from './commands/demo.js';
+import { curveCommand } from './commands/curve.js';
+import { explainCommand } from './commands/explain.js';
 import { flowsCommand } from './commands/flows.js';
 import { projectCommand } from './commands/project.js';
 import { rulesCommand } from './commands/rules.js';
+import { survivalCommand } from './commands/survival.js';
 
 export function buildProgram(io: Io): Command {
   const program = new Command('tidemark')
@@ -21,7 +24,10 @@ export function buildProgram(io: Io): Command {
     .configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) });
   classifyCommand(program, io);
   flowsCommand(program, io);
+  explainCommand(program, io);
   projectCommand(program, io);
+  survivalCommand(program, io);
+  curveCommand(program, io);
   demoCommand(program, io);
   rulesCommand(program, io);
   for (const c of program.commands) applyOverrides(c, io);

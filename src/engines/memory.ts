@@ -9,7 +9,9 @@ import { activePeriods } from '../lifecycle/activity.js';
 import { classify, type Classified } from '../lifecycle/classify.js';
 import { compilePlan } from '../lifecycle/plan.js';
 import { ACTIVE_STATES } from '../lifecycle/states.js';
-import { aggregate } from '../flows/aggregate.js';
+import { aggregate, durationRows } from '../flows/aggregate.js';
+import { segmentCells } from '../flows/segments.js';
+import { activeAttribute, activeIndex } from '../lifecycle/attributes.js';
 import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
 import { optionKey, resolveRange, type ResolvedRange } from '../periods/range.js';
 import type { Rules } from '../rules/schema.js';
@@ -55,6 +57,13 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}):
     warmup,
     tenureBands: rules.tenureBands,
   });
+  if (range.by) {
+    const attr = activeAttribute(log, range.by, active);
+    const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount: ACTIVE_STATES.length, labels, firstFlow: r.outStart + warmup });
+    waist.segmentCells = { by: range.by, cells };
+    const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
+    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf) };
+  }
   const lastKey = r.startKey + r.span - 1;
   const startMs = periodStartDay(lastKey, scheme) * DAY;
   const endMs = periodEndDay(lastKey, scheme) * DAY;

@@ -21,6 +21,8 @@ export interface RangeOptions {
   to?: string;
   /** Overrides rules.warmup. */
   warmup?: number;
+  /** An attribute column to split retention cells by (WaistTables.segmentCells). */
+  by?: string;
 }
 
 /** How complete the last period is: the latest event's position in it, 0–1. */

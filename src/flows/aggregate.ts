@@ -7,7 +7,8 @@
  */
 import * as aq from 'arquero';
 import type { Classified } from '../lifecycle/classify.js';
-import type { CohortRow, DurationRow, RetentionCell, TransitionCounts, WaistTables } from './types.js';
+import { cohortRowFromUsers } from '../explain/cohortExt.js';
+import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from './types.js';
 
 export interface AggregateOptions {
   states: readonly string[];
@@ -98,6 +99,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     if (size === 0) continue;
     cohorts.push({ cohort: o.labels[k], size, active: Array.from({ length: span - k }, (_, a) => byAge.get(k * span + a) ?? 0) });
   }
+  extendCohorts(c, cohorts, o, firstFlow, span);
 
   return {
     states: [...o.states],
@@ -108,12 +110,15 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     transitions,
     tenureCells,
     cohorts,
-    durations: durationRows(c, o, firstFlow, span),
+    durations: durationRows(c, firstFlow, span, (_u, first) => o.labels[first]),
   };
 }
 
-/** Periods from first active to first dormant per user, censored at the range end, by cohort. */
-function durationRows(c: Classified, o: AggregateOptions, firstFlow: number, span: number): DurationRow[] {
+/**
+ * Periods from first active to first dormant per user, censored at the range end, for users first
+ * active from `firstFlow` on, grouped by `groupOf(user, firstActiveOffset)`.
+ */
+export function durationRows(c: Classified, firstFlow: number, span: number, groupOf: (user: number, first: number) => string): DurationRow[] {
   const m = new Map<string, DurationRow>();
   for (let u = 0; u < c.firstActive.length; u++) {
     const first = c.firstActive[u];
@@ -121,10 +126,49 @@ function durationRows(c: Classified, o: AggregateOptions, firstFlow: number, spa
     const d = c.firstDormant[u];
     const observed: 0 | 1 = d >= 0 ? 1 : 0;
     const duration = observed ? d - first : span - 1 - first;
-    const key = `${first}|${duration}|${observed}`;
+    const group = groupOf(u, first);
+    const key = `${group}|${duration}|${observed}`;
     const row = m.get(key);
     if (row) row.users++;
-    else m.set(key, { group: o.labels[first], duration, observed, users: 1 });
+    else m.set(key, { group, duration, observed, users: 1 });
   }
   return [...m.values()].sort((a, b) => (a.group < b.group ? -1 : a.group > b.group ? 1 : a.duration - b.duration || a.observed - b.observed));
+}
+
+/**
+ * Add the per-member cohort summaries (lastActiveAge; windowActive up to WINDOW_MAX_AGE ages) that
+ * on-or-after and window retention need. Each user's rows are contiguous in the classified table, so
+ * the members of a cohort are a list of row blocks.
+ */
+function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions, firstFlow: number, span: number): void {
+  const blocks = new Map<number, number[]>();
+  for (let r = 0; r < c.size; r++) {
+    if (r > 0 && c.user[r] === c.user[r - 1]) continue;
+    const k = c.cohort[r];
+    if (k < firstFlow) continue;
+    let list = blocks.get(k);
+    if (!list) blocks.set(k, (list = []));
+    list.push(r);
+  }
+  for (const row of cohorts) {
+    const k = o.labels.indexOf(row.cohort);
+    const A = span - 1 - k;
+    const starts = blocks.get(k) ?? [];
+    function* members(): Generator<number[]> {
+      for (const r0 of starts) {
+        const ages: number[] = [];
+        for (let r = r0; r < c.size && c.user[r] === c.user[r0]; r++) if (c.state[r] < o.activeCount) ages.push(c.tenure[r]);
+        yield ages;
+      }
+    }
+    if (A <= WINDOW_MAX_AGE) {
+      const ext = cohortRowFromUsers(row.cohort, A, members());
+      row.lastActiveAge = ext.lastActiveAge;
+      row.windowActive = ext.windowActive;
+    } else {
+      const last = new Array<number>(A + 1).fill(0);
+      for (const ages of members()) last[ages[ages.length - 1]]++;
+      row.lastActiveAge = last;
+    }
+  }
 }

@@ -5,7 +5,8 @@
  * `..TO` with period labels (`YYYY-MM-DD`). A range keeps the transitions whose earlier period is at
  * or after FROM and whose later period is at or before TO.
  */
-import { TidemarkError, suggestion } from '../errors.js';
+import { TidemarkError } from '../errors.js';
+import { periodHint } from '../periods/suggest.js';
 import type { TransitionCounts, WaistTables } from './types.js';
 
 export type TransitionSelection = { last: number } | { from?: string; to?: string };
@@ -60,7 +61,7 @@ export function selectTransitions(tables: Pick<WaistTables, 'periods' | 'transit
 function periodIndex(periods: readonly string[], label: string, side: 'from' | 'to'): number {
   const i = periods.indexOf(label);
   if (i < 0) {
-    throw new TidemarkError('RANGE_INVALID', `'${label}' (range ${side}) is not a period of the data`, { key: `range.${side}` }, suggestion(label, periods) ?? `periods run from ${periods[0]} to ${periods[periods.length - 1]}`);
+    throw new TidemarkError('RANGE_INVALID', `'${label}' (range ${side}) is not a period of the data`, { key: `range.${side}` }, periodHint(label, periods));
   }
   return i;
 }

@@ -40,7 +40,17 @@ export interface CohortRow {
   size: number;
   /** active[k]: cohort members active k periods after their first (active[0] === size); observed ages only. */
   active: number[];
+  /** lastActiveAge[k]: members whose last active age (within the observed ages) is k; sums to size. */
+  lastActiveAge?: number[];
+  /**
+   * windowActive[a][j]: members active at least once at ages a … a + j (see explain/cohorts.ts).
+   * Filled for cohorts observed over at most {@link WINDOW_MAX_AGE} ages; absent beyond.
+   */
+  windowActive?: number[][];
 }
+
+/** Oldest age for which engines fill CohortRow.windowActive (it grows with the square of the ages). */
+export const WINDOW_MAX_AGE = 60;
 
 /** Durations from first active to first dormant, aggregated: `users` users share this row. */
 export interface DurationRow {
@@ -71,4 +81,8 @@ export interface WaistTables {
   cohorts: CohortRow[];
   /** Time-to-dormant durations, grouped by cohort. */
   durations: DurationRow[];
+  /** Retention cells by prior state and an attribute's value in the earlier period (when asked for). */
+  segmentCells?: { by: string; cells: RetentionCell[] };
+  /** Time-to-dormant durations grouped by that attribute's value in each user's first active period. */
+  segmentDurations?: { by: string; rows: DurationRow[] };
 }

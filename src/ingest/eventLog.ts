@@ -133,7 +133,7 @@ export class EventLogBuilder {
     if (userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId);
     const wall = parseTimestamp(ts, this.clock);
     if (wall === undefined) {
-      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, or pass --skip-bad-rows');
+      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows');
     }
     if (this.keyEvents) {
       if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '');

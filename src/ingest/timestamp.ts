@@ -7,13 +7,15 @@
  *    otherwise seconds (1e11 s is in the year 5138; 1e11 ms is in 1973, so the two ranges don't meet
  *    for real event data).
  * 2. ISO 8601 `YYYY-MM-DD`, optionally `T` or a space and `HH:MM[:SS[.fraction]]`, optionally an offset
- *    `Z`, `±HH:MM`, `±HHMM` or `±HH`. With an offset it is an instant, put into the zone. Without
+ *    `Z`, `±HH:MM`, `±HHMM` or `±HH`; or the basic format `YYYYMMDDTHHMM[SS[.fraction]]` with the
+ *    same offsets (the `T` is required there: eight digits alone would read as epoch seconds). With an offset it is an instant, put into the zone. Without
  *    one it is already local time in the rules' zone, so its date is its period's date as written.
  * Anything else, and any impossible date or time, is refused (undefined). Years 1900–2199 only.
  */
 import type { ZoneClock } from '../periods/zone.js';
 
 const ISO = /^(\d{4})-(\d{2})-(\d{2})(?:[Tt ](\d{2}):(\d{2})(?::(\d{2})(?:[.,](\d{1,9}))?)?)?\s*(?:([Zz])|([+-])(\d{2})(?::?(\d{2}))?)?$/;
+const ISO_BASIC = /^(\d{4})(\d{2})(\d{2})[Tt](\d{2})(\d{2})(?:(\d{2})(?:[.,](\d{1,9}))?)?(?:([Zz])|([+-])(\d{2})(\d{2})?)?$/;
 const EPOCH = /^[+-]?\d+(?:\.\d+)?$/;
 const MIN_MS = Date.UTC(1900, 0, 1);
 const MAX_MS = Date.UTC(2200, 0, 1);
@@ -62,7 +64,7 @@ export function parseTimestamp(text: string, clock: ZoneClock): number | undefin
     const ms = Math.abs(v) >= 1e11 ? v : v * 1000;
     wall = clock.wallMs(Math.floor(ms));
   } else {
-    const m = ISO.exec(s);
+    const m = ISO.exec(s) ?? ISO_BASIC.exec(s);
     if (!m) return undefined;
     const y = +m[1], mo = +m[2], d = +m[3];
     const h = m[4] ? +m[4] : 0, mi = m[5] ? +m[5] : 0, sec = m[6] ? +m[6] : 0;

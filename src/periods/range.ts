@@ -1,6 +1,7 @@
 /**
- * The analysis range: from the period of the earliest event to the period of the latest, narrowed or
- * widened by --from/--to. Keys are period keys of one scheme (consecutive integers).
+ * The analysis range: from the period of the earliest event to the period of the latest, narrowed by
+ * --from/--to (a --from before the data or a --to after them changes nothing). Keys are period keys
+ * of one scheme (consecutive integers).
  */
 import { TidemarkError } from '../errors.js';
 import { periodKeyOfDate, type PeriodScheme } from './calendar.js';
@@ -23,9 +24,12 @@ export interface ResolvedRange {
 }
 
 export function resolveRange(minKey: number, maxKey: number, fromKey: number | undefined, toKey: number | undefined, labelOf: (k: number) => string): ResolvedRange {
-  const end = toKey ?? maxKey;
-  const start = Math.min(minKey, fromKey ?? minKey);
-  const outKey = fromKey ?? start;
+  const end = Math.min(toKey ?? maxKey, maxKey);
+  const start = minKey;
+  const outKey = Math.max(fromKey ?? start, start);
+  if (fromKey !== undefined && toKey !== undefined && fromKey > toKey) {
+    throw new TidemarkError('RANGE_INVALID', `--from ${labelOf(fromKey)} is after --to ${labelOf(toKey)}`, { key: '--from' }, 'Put the earlier date in --from');
+  }
   if (outKey > end) {
     throw new TidemarkError('RANGE_INVALID', `--from ${labelOf(outKey)} is after the last period ${labelOf(end)}`, { key: '--from' }, `The data run from ${labelOf(minKey)} to ${labelOf(maxKey)}`);
   }

@@ -95,9 +95,10 @@ describe('selection', () => {
     expectRefusal(() => parseSelection('..'), 'RANGE_INVALID', /"\.\."/);
   });
 
-  it('refuses a label that is not a period, with did-you-mean', () => {
+  it('refuses a label that is not a period, naming the period that holds it', () => {
     const e = expectRefusal(() => selectTransitions(tables, { from: '2026-01-13' }), 'RANGE_INVALID', /'2026-01-13' \(range from\) is not a period/);
-    expect(e.hint).toMatch(/did you mean '2026-01-12'/);
+    // the hint points to the period holding that date (periods are labelled by start date)
+    expect(e.hint).toMatch(/lies in the period labelled 2026-01-12/);
     expectRefusal(() => selectTransitions(tables, { to: '2025-13-40' }), 'RANGE_INVALID', /'2025-13-40' \(range to\)/);
   });
 

@@ -6,12 +6,7 @@ import { readFileSync } from 'node:fs';
 import { Option, type Command } from 'commander';
 import { TidemarkError, inFile } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
-import { parseSelection } from '../../flows/select.js';
-import type { WaistTables } from '../../flows/types.js';
-import {
-  backtest, firstPassage, fitChain, project, projectionBands, stationary, validateModel, whatIf,
-  type Backtest, type Bands, type FirstPassage, type Stationary, type WhatIf,
-} from '../../markov/index.js';
+import { computeProjection, parseBand, type ProjectOutput } from '../../markov/run.js';
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, type Format } from '../format.js';
 import type { Io } from '../io.js';
@@ -29,120 +24,6 @@ export interface ProjectOptions extends Omit<CommonOptions, 'events'> {
   band: string;
   backtest: boolean;
   backtestHorizon: string;
-}
-
-type Counts = Record<string, number>;
-
-export interface ProjectionStep {
-  step: number;
-  total: number;
-  counts: Counts;
-  shares: Counts;
-  bands: { percentiles: [number, number]; counts: Record<string, [number, number]>; shares: Record<string, [number, number]> } | null;
-}
-
-export interface ProjectOutput {
-  states: string[];
-  source: { kind: 'events'; fit: { from: string; to: string; transitions: number }; emptyRows: string[] } | { kind: 'matrix'; file: string };
-  matrix: number[][];
-  start: Counts;
-  inflow: Counts;
-  horizon: number;
-  /** The stationary mix when the chain has one; null otherwise (see longRun). */
-  steadyState: Counts | null;
-  longRun: { kind: Stationary['kind']; sentence: string };
-  projection: ProjectionStep[];
-  firstPassage?: { target: string; expectedSteps: Record<string, number | null>; periodsInState: Record<string, Counts>; unreachable: { state: string; reason: string }[] };
-  scenario?: { edits: { text: string; before: number; after: number }[]; baseline: ProjectionStep[]; projected: ProjectionStep[]; difference: ProjectionStep[] };
-  backtest?: Backtest | { skipped: string };
-}
-
-const byState = (states: string[], v: number[]): Counts => Object.fromEntries(states.map((s, i) => [s, v[i]]));
-
-function steps(states: string[], p: { counts: number[][]; shares: number[][]; totals: number[] }, bands?: Bands): ProjectionStep[] {
-  return p.counts.map((c, t) => ({
-    step: t,
-    total: p.totals[t],
-    counts: byState(states, c),
-    shares: byState(states, p.shares[t]),
-    bands: bands
-      ? {
-          percentiles: [bands.percentiles[0], bands.percentiles[bands.percentiles.length - 1]],
-          counts: Object.fromEntries(states.map((s, i) => [s, [bands.counts[0][t][i], bands.counts[bands.counts.length - 1][t][i]]])),
-          shares: Object.fromEntries(states.map((s, i) => [s, [bands.shares[0][t][i], bands.shares[bands.shares.length - 1][t][i]]])),
-        }
-      : null,
-  }));
-}
-
-function parseBand(text: string): [number, number] {
-  const m = /^(\d+(?:\.\d+)?)[,-](\d+(?:\.\d+)?)$/.exec(text.trim());
-  const lo = m ? Number(m[1]) : NaN, hi = m ? Number(m[2]) : NaN;
-  if (!(lo >= 0 && hi <= 100 && lo < hi)) throw new TidemarkError('USAGE', `--band '${text}' is not two percentiles LO,HI with 0 ≤ LO < HI ≤ 100`, { key: '--band' }, 'For example --band 10,90');
-  return [lo, hi];
-}
-
-/** Everything `project` computes, from waist tables (events) or a planner's matrix document. */
-export function computeProjection(input: { tables: WaistTables } | { doc: unknown; file: string }, o: {
-  fit?: string; horizon: number; inflow?: number; until?: string; whatIf?: string[]; samples: number; seed: number; band: [number, number]; backtest?: boolean; backtestHorizon?: number;
-}): ProjectOutput {
-  let states: string[], matrix: number[][], start: number[], inflow: number[], counts: number[][] | undefined;
-  let source: ProjectOutput['source'];
-  if ('tables' in input) {
-    const fitted = fitChain(input.tables, { selection: parseSelection(o.fit ?? 'all') });
-    ({ states, matrix, start, inflow, counts } = fitted);
-    source = { kind: 'events', fit: fitted.range, emptyRows: fitted.emptyRows };
-  } else {
-    const model = validateModel(input.doc);
-    ({ states, matrix, inflow } = model);
-    if (!model.start) throw new TidemarkError('INPUT_INVALID', 'the matrix document has no "start" counts to project from', { file: input.file, key: 'start' }, 'Add "start": {"state": count, ...}');
-    start = model.start;
-    source = { kind: 'matrix', file: input.file };
-  }
-  if (o.inflow !== undefined) {
-    const fi = states.indexOf('fresh');
-    const into = fi >= 0 ? fi : inflow.findIndex((v) => v > 0);
-    if (into < 0) throw new TidemarkError('USAGE', '--inflow needs a state that new users arrive in: no fresh state and no inflow given', { key: '--inflow' });
-    inflow = states.map((_, i) => (i === into ? o.inflow! : 0));
-  }
-  const chain = { states, matrix };
-  const long = stationary(chain);
-  const base = project(matrix, start, inflow, o.horizon);
-  const bands = counts ? projectionBands(counts, start, inflow, o.horizon, { samples: o.samples, seed: o.seed, percentiles: [o.band[0], 50, o.band[1]] }) : undefined;
-  const out: ProjectOutput = {
-    states,
-    source,
-    matrix,
-    start: byState(states, start),
-    inflow: byState(states, inflow),
-    horizon: o.horizon,
-    steadyState: long.kind === 'unique' ? byState(states, long.distribution) : null,
-    longRun: { kind: long.kind, sentence: long.sentence },
-    projection: steps(states, base, bands),
-  };
-  if (o.until) out.firstPassage = passageOutput(states, firstPassage(chain, o.until), o.until);
-  if (o.whatIf && o.whatIf.length > 0) {
-    const w: WhatIf = whatIf({ states, matrix, inflow }, o.whatIf, start, o.horizon);
-    out.scenario = { edits: w.scenario.changes, baseline: steps(states, w.baseline), projected: steps(states, w.projected), difference: steps(states, w.difference) };
-  }
-  if ('tables' in input && o.backtest !== false) {
-    try {
-      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band });
-    } catch (e) {
-      if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') out.backtest = { skipped: e.message };
-      else throw e;
-    }
-  }
-  return out;
-}
-
-function passageOutput(states: string[], fp: FirstPassage, target: string): NonNullable<ProjectOutput['firstPassage']> {
-  return {
-    target,
-    expectedSteps: byState(states, fp.expected as number[]),
-    periodsInState: Object.fromEntries(fp.transient.map((i, k) => [states[i], Object.fromEntries(fp.transient.map((j, l) => [states[j], fp.fundamental[k][l]]))])),
-    unreachable: fp.infinite.map((x) => ({ state: states[x.state], reason: x.reason })),
-  };
 }
 
 const n0 = (x: number) => (Math.round(x) || 0).toLocaleString('en-US');

@@ -1,0 +1,76 @@
+/** `tidemark survival`: Kaplan–Meier time to dormant, by cohort or attribute, with the log-rank test. */
+import { readFileSync } from 'node:fs';
+import type { Command } from 'commander';
+import { TidemarkError } from '../../errors.js';
+import { MemoryEngine } from '../../engines/memory.js';
+import type { DurationRow } from '../../flows/types.js';
+import { parseDurationsCsv } from '../../survival/durations.js';
+import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../survival/run.js';
+import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import type { Io } from '../io.js';
+
+export interface SurvivalCliOptions extends Omit<CommonOptions, 'events'> {
+  events?: string[];
+  durations?: string;
+  by: string;
+  merge: string;
+}
+
+export function formatSurvival(s: SurvivalOutput, format: Format): string {
+  if (format === 'json') return json(s);
+  const rows = s.groups.flatMap((g) => g.points.map((p) => [g.group, p.t, p.survival, p.atRisk, p.events, p.se, p.lower, p.upper]));
+  if (format === 'csv') return toCsv(['group', 't', 'survival', 'at_risk', 'events', 'se', 'lower95', 'upper95'], rows);
+  const out = [`Kaplan-Meier: ${s.measure}, by ${s.groupedBy} (censored at the end of the data)`];
+  out.push(textTable(['group', 'users', 'reached', 'median', 'S(1)', 'S(4)', 'S(8)'], s.groups.map((g) => {
+    const at = (t: number) => {
+      const p = [...g.points].reverse().find((q) => q.t <= t);
+      const lastT = g.points[g.points.length - 1]?.t ?? 0;
+      return p && (t <= lastT || g.points.some((q) => q.t >= t)) ? pct(p.survival, 0) : '-';
+    };
+    return [g.group || 'all', g.users, g.events, g.median === null ? 'not reached' : g.median, at(1), at(4), at(8)];
+  })).trimEnd());
+  if (s.logRank) out.push(`Log-rank test across groups: chi-square ${s.logRank.chiSquare.toFixed(2)}, df ${s.logRank.df}, p ${s.logRank.pValue < 0.0001 ? s.logRank.pValue.toExponential(2) : s.logRank.pValue.toFixed(4)}`);
+  if (s.note) out.push(`note: ${s.note}`);
+  return `${out.join('\n')}\n`;
+}
+
+export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> {
+  let rows: DurationRow[];
+  let by = o.by;
+  if (o.durations) {
+    if (o.events) throw new TidemarkError('USAGE', 'give either --events or --durations, not both', { key: '--durations' });
+    let text: string;
+    try {
+      text = readFileSync(o.durations, 'utf8');
+    } catch {
+      throw new TidemarkError('FILE_NOT_FOUND', 'cannot read the durations file', { file: o.durations });
+    }
+    rows = parseDurationsCsv(text, o.durations);
+    by = rows.some((r) => r.group !== '') ? 'group' : 'none';
+    if (by === 'none') rows = rows.map((r) => ({ ...r, group: 'all' }));
+  } else {
+    if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --durations', { key: '--events' }, 'See tidemark survival --help');
+    const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
+    const rules = resolveRules(o as CommonOptions);
+    const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, { ...rangeOf(o as CommonOptions), by: column });
+    note(io, o, rowLine(r.rows));
+    rows = column ? r.waist.segmentDurations!.rows : r.waist.durations;
+    if (o.by === 'none') rows = rows.map((x) => ({ ...x, group: 'all' }));
+    if (o.by === 'cohort') rows = mergeCohorts(rows, intOption(o.merge, '--merge', 1));
+  }
+  if (rows.length === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'no users to follow after the warm-up', {}, 'Lower the warm-up or use a longer log');
+  emit(formatSurvival(survivalCurves(rows, by), o.format), o.out, io);
+}
+
+export function survivalCommand(program: Command, io: Io): void {
+  const cmd = program
+    .command('survival')
+    .description('Kaplan-Meier curves of the time from first active to first dormant, with the log-rank test across groups')
+    .option('--events <files...>', 'event log(s): CSV or NDJSON')
+    .option('--durations <file>', 'durations computed elsewhere: CSV with duration, observed (1/0) and an optional group column')
+    .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period)', 'none')
+    .option('--merge <k>', 'with --by cohort: pool k consecutive cohorts into one curve', '1');
+  addEventOptions(cmd, false);
+  addFormatOptions(cmd, 'table').action((opts: SurvivalCliOptions) => runSurvival(opts, io));
+}

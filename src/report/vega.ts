@@ -1,0 +1,31 @@
+/**
+ * Vega-Lite specs → inline SVG, in Node (no browser, no network). The renderer is Vega's SVG string
+ * renderer; every text it writes is XML-escaped by Vega itself.
+ */
+import * as vega from 'vega';
+import * as vl from 'vega-lite';
+import type { TopLevelSpec } from 'vega-lite';
+
+/** Shared look: fonts, sizes and axis style for every chart. */
+export const CHART_CONFIG = {
+  font: 'DejaVu Sans, Verdana, Segoe UI, Helvetica, Arial, sans-serif',
+  background: 'white',
+  view: { stroke: null },
+  axis: { labelFontSize: 11, titleFontSize: 12, titleFontWeight: 'normal', gridColor: '#e6e9ef', domainColor: '#9aa3ad', tickColor: '#9aa3ad' },
+  legend: { labelFontSize: 11, titleFontSize: 12, orient: 'bottom', direction: 'horizontal' },
+  title: { fontSize: 14, fontWeight: 'bold', anchor: 'start', offset: 10 },
+} as const;
+
+/** Render one Vega-Lite spec to an SVG string. Rejects a spec that Vega-Lite cannot compile. */
+export async function renderSvg(spec: TopLevelSpec): Promise<string> {
+  const full = { ...spec, config: { ...CHART_CONFIG, ...(spec.config ?? {}) } } as TopLevelSpec;
+  const compiled = vl.compile(full).spec;
+  const view = new vega.View(vega.parse(compiled), { renderer: 'none', logLevel: vega.Error });
+  try {
+    const svg = await view.toSVG();
+    // Responsive: keep the viewBox, let CSS size the picture
+    return svg.replace(/^<svg([^>]*) width="([\d.]+)" height="([\d.]+)"/, '<svg$1 width="$2" height="$3" preserveAspectRatio="xMinYMin meet"');
+  } finally {
+    view.finalize();
+  }
+}
