@@ -7,6 +7,7 @@ import { reportError } from './errors.js';
 import type { Io } from './io.js';
 import { classifyCommand } from './commands/classify.js';
 import { demoCommand } from './commands/demo.js';
+import { cohortsCommand } from './commands/cohorts.js';
 import { curveCommand } from './commands/curve.js';
 import { explainCommand } from './commands/explain.js';
 import { flowsCommand } from './commands/flows.js';
@@ -26,6 +27,7 @@ export function buildProgram(io: Io): Command {
   flowsCommand(program, io);
   explainCommand(program, io);
   projectCommand(program, io);
+  cohortsCommand(program, io);
   survivalCommand(program, io);
   curveCommand(program, io);
   demoCommand(program, io);
