@@ -14,4 +14,5 @@ process.exitCode = await main(process.argv.slice(2), {
   stdout: (s) => process.stdout.write(s),
   stderr: (s) => process.stderr.write(s),
   stderrIsTTY: Boolean(process.stderr.isTTY),
+  stdoutIsTTY: Boolean(process.stdout.isTTY),
 });

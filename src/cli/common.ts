@@ -63,11 +63,11 @@ export function resolveRules(o: CommonOptions): Rules {
   };
 }
 
-export function sourceOf(o: CommonOptions): EventSource {
+export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows'>): EventSource {
   return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows };
 }
 
-export function rangeOf(o: CommonOptions): RangeOptions {
+export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup'>): RangeOptions {
   return { from: o.from, to: o.to, warmup: o.warmup === undefined ? undefined : intOption(o.warmup, '--warmup', 0) };
 }
 

@@ -9,17 +9,7 @@ import type { Io } from './io.js';
 export type Format = 'table' | 'csv' | 'json';
 export const FORMATS: readonly Format[] = ['table', 'csv', 'json'];
 
-/** Quote a CSV field when it holds a comma, a quote, or a line break (RFC 4180). */
-export function csvField(v: unknown): string {
-  const s = v === null || v === undefined ? '' : String(v);
-  return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
-
-export function toCsv(header: string[], rows: unknown[][]): string {
-  const lines = [header.map(csvField).join(',')];
-  for (const r of rows) lines.push(r.map(csvField).join(','));
-  return `${lines.join('\n')}\n`;
-}
+export { csvField, toCsv } from '../output/csv.js';
 
 /** An aligned text table; numbers right-aligned. */
 export function textTable(header: string[], rows: unknown[][]): string {

@@ -3,6 +3,7 @@ export interface Io {
   stdout(text: string): void;
   stderr(text: string): void;
   stderrIsTTY?: boolean;
+  stdoutIsTTY?: boolean;
 }
 
 /** An Io that collects everything, for tests. */

@@ -12,6 +12,7 @@ import { curveCommand } from './commands/curve.js';
 import { explainCommand } from './commands/explain.js';
 import { flowsCommand } from './commands/flows.js';
 import { projectCommand } from './commands/project.js';
+import { reportCommand } from './commands/report.js';
 import { rulesCommand } from './commands/rules.js';
 import { survivalCommand } from './commands/survival.js';
 
@@ -30,6 +31,7 @@ export function buildProgram(io: Io): Command {
   cohortsCommand(program, io);
   survivalCommand(program, io);
   curveCommand(program, io);
+  reportCommand(program, io);
   demoCommand(program, io);
   rulesCommand(program, io);
   for (const c of program.commands) applyOverrides(c, io);

@@ -71,7 +71,10 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}):
   const lastPeriod: LastPeriod = { label: labels[r.span - 1], coverage, complete: maxWall >= endMs - (endMs - startMs) / 7 };
   let users = 0;
   for (let u = 0; u < classified.firstActive.length; u++) if (classified.firstActive[u] >= 0) users++;
-  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, users } };
+  const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
+  const events = [...log.eventNames].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));
+  const attributes = log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 }));
+  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, users, events, attributes } };
 }
 
 export class MemoryEngine implements Engine {

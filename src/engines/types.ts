@@ -40,6 +40,10 @@ export interface EngineResult {
   lastPeriod: LastPeriod;
   /** Number of distinct users with at least one active period in the range. */
   users: number;
+  /** Rows per event name, most frequent first (at most 50), and whether each counts toward activity. */
+  events: { name: string; rows: number; key: boolean }[];
+  /** Attribute columns kept from the input, with their number of distinct values. */
+  attributes: { name: string; values: number }[];
 }
 
 /** One classified user-period, for `tidemark classify`. */

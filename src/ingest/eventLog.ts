@@ -54,6 +54,8 @@ export interface EventLog {
   scheme: PeriodScheme;
   /** The source file names, for messages. */
   files: string[];
+  /** Rows read per event name (key events and others), for the report's data section. */
+  eventNames: Map<string, number>;
 }
 
 /**
@@ -84,6 +86,7 @@ export class EventLogBuilder {
   private readonly keyEvents: Set<string> | undefined;
   private readonly scheme: PeriodScheme;
   private readonly files: string[] = [];
+  private readonly eventNames = new Map<string, number>();
 
   constructor(private readonly opts: BuilderOptions) {
     this.clock = new ZoneClock(opts.rules.timezone);
@@ -135,6 +138,7 @@ export class EventLogBuilder {
     if (wall === undefined) {
       return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows');
     }
+    if (event !== undefined) this.eventNames.set(event, (this.eventNames.get(event) ?? 0) + 1);
     if (this.keyEvents) {
       if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '');
       if (!this.keyEvents.has(event)) {
@@ -174,6 +178,7 @@ export class EventLogBuilder {
       rows: this.rows,
       scheme: this.scheme,
       files: this.files,
+      eventNames: this.eventNames,
     };
   }
 }

@@ -18,7 +18,7 @@ export function projectionChart(p: ProjectOutput, grainWord: string): Chart {
     data: { values: rows },
     encoding: {
       x: { field: 'step', type: 'quantitative', title: `${grainWord}s ahead`, axis: { tickMinStep: 1 } },
-      color: { field: 'state', type: 'nominal', sort: p.states, scale: { domain: p.states, range: stateColours(p.states) }, title: 'state' },
+      color: { field: 'state', type: 'nominal', sort: p.states, scale: { domain: p.states, range: stateColours(p.states) }, title: 'state', legend: { symbolOpacity: 1 } },
     },
     layer: [
       { mark: { type: 'area', opacity: 0.25 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'share of users', axis: { format: '.0%' } }, y2: { field: 'upper' } } },

@@ -35,7 +35,7 @@ export function rateHeatmap(h: HeatmapInput): Chart {
       {
         mark: { type: 'rect', stroke: 'white', strokeWidth: 2 },
         encoding: {
-          color: { field: 'rate', type: 'quantitative', scale: { domain: [0, 1], range: RAMP }, title: 'rate (share of row)', legend: { format: '.0%' } },
+          color: { field: 'rate', type: 'quantitative', scale: { domain: [0, 1], range: RAMP }, title: 'share of row', legend: { format: '.0%' } },
           opacity: { condition: { test: 'datum.small', value: 0.35 }, value: 1 },
           tooltip: [{ field: 'from' }, { field: 'to' }, { field: 'users', format: ',' }, { field: 'n', title: 'row users', format: ',' }, { field: 'rate', format: '.1%' }],
         },

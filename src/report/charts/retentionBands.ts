@@ -25,7 +25,7 @@ export function retentionBands(points: RetentionPoint[], activeStates: string[],
     data: { values: rows },
     encoding: {
       x: { field: 'to', type: 'temporal', title: `period retained into (start date)`, axis: { format: '%d %b', labelAngle: 0, tickCount: 8 } },
-      color: { field: 'state', type: 'nominal', sort: activeStates, scale: { domain: activeStates, range: colours }, title: 'prior state' },
+      color: { field: 'state', type: 'nominal', sort: activeStates, scale: { domain: activeStates, range: colours }, title: 'prior state', legend: { symbolOpacity: 1 } },
     },
     layer: [
       { mark: { type: 'area', opacity: 0.22 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'retained next period', axis: { format: '.0%' }, scale: { zero: false } }, y2: { field: 'upper' } } },

@@ -1,0 +1,47 @@
+/** The report's findings in Markdown (summary.md): the same text as the page, and its tables. */
+import type { ReportModel } from './build.js';
+import { displayCell, type DataTable } from './charts/types.js';
+
+/**
+ * Escape data text for Markdown: HTML-significant characters become entities (many viewers render raw
+ * HTML), Markdown punctuation gets a backslash, and line breaks become spaces.
+ */
+export function mdEscape(value: unknown, max = 80): string {
+  let s = String(value ?? '').replace(/[\r\n]+/g, ' ');
+  if (s.length > max) s = `${s.slice(0, max - 1)}…`;
+  return s
+    .replace(/&/g, '&amp;')
+    .replace(/</g, '&lt;')
+    .replace(/>/g, '&gt;')
+    .replace(/([\\`*_{}[\]()#+!|~])/g, '\\$1');
+}
+
+export function mdTable(t: DataTable): string {
+  const head = `| ${t.header.map((h) => mdEscape(h)).join(' | ')} |`;
+  const rule = `|${t.header.map((_, i) => (i === 0 ? ' --- ' : ' ---: ')).join('|')}|`;
+  const body = t.rows.map((r) => `| ${r.map((v, i) => mdEscape(displayCell(v, t.formats?.[i]), 48)).join(' | ')} |`);
+  return [head, rule, ...body].join('\n');
+}
+
+export function reportMarkdown(m: ReportModel, generatedAt: string): string {
+  const out: string[] = [`# ${mdEscape(m.title, 200)}`, '', mdEscape(m.subtitle, 300), '', `Generated ${mdEscape(generatedAt)} by tidemark.`, '', '## Findings', ''];
+  for (const f of m.findings) out.push(`- ${mdEscape(f.text, 2000)}`);
+  if (m.warnings.length) {
+    out.push('', '**Read with care**', '');
+    for (const w of m.warnings) out.push(`- ${mdEscape(w, 2000)}`);
+  }
+  out.push('', '## Cautions', '');
+  for (const c of m.cautions) out.push(`- ${mdEscape(c, 2000)}`);
+  out.push('', '## Charts', '');
+  for (const c of m.charts) {
+    out.push(`### ${mdEscape(c.title, 200)}`, '', mdEscape(c.reading, 2000), '');
+    if (c.note) out.push(`_${mdEscape(c.note, 2000)}_`, '');
+    out.push(`Data: \`${c.table.name}.csv\`, \`${c.table.name}.json\``, '');
+  }
+  for (const t of m.tables) {
+    out.push(`## ${mdEscape(t.title, 200)}`, '');
+    if (t.note) out.push(mdEscape(t.note, 2000), '');
+    out.push(mdTable(t), '');
+  }
+  return `${out.join('\n').trimEnd()}\n`;
+}
