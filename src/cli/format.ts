@@ -38,3 +38,27 @@ export function emit(text: string, out: string | undefined, io: Io): void {
 export function json(value: unknown): string {
   return `${JSON.stringify(value, null, 2)}\n`;
 }
+
+/**
+ * Wrap prose lines longer than `width` at spaces, for an 80-column terminal. Table rows (lines with
+ * runs of two spaces) are left as they are.
+ */
+export function wrapProse(text: string, width = 80): string {
+  return text
+    .split('\n')
+    .map((line) => {
+      if (line.length <= width || /\S {2,}\S/.test(line)) return line;
+      const indent = /^(\* |! |- )/.test(line) ? '  ' : '';
+      const out: string[] = [];
+      let cur = '';
+      for (const word of line.split(' ')) {
+        if (cur && cur.length + 1 + word.length > width) {
+          out.push(cur);
+          cur = indent + word;
+        } else cur = cur ? `${cur} ${word}` : word;
+      }
+      if (cur) out.push(cur);
+      return out.join('\n');
+    })
+    .join('\n');
+}

@@ -1,34 +1,35 @@
 /** Append-only typed arrays that double when full: columnar storage without per-row objects. */
-export class GrowableInt32 {
-  private buf = new Int32Array(1024);
+type Typed = Int32Array | Float64Array;
+
+class Growable<T extends Typed> {
+  private buf: T;
   length = 0;
+  constructor(private readonly make: (n: number) => T) {
+    this.buf = make(1024);
+  }
   push(v: number): void {
     if (this.length === this.buf.length) {
-      const next = new Int32Array(this.buf.length * 2);
+      const next = this.make(this.buf.length * 2);
       next.set(this.buf);
       this.buf = next;
     }
     this.buf[this.length++] = v;
   }
-  /** A trimmed copy-free view of the values pushed so far. */
-  view(): Int32Array {
-    return this.buf.subarray(0, this.length);
+  /** A copy-free view of the values pushed so far. */
+  view(): T {
+    return this.buf.subarray(0, this.length) as T;
   }
 }
 
-export class GrowableFloat64 {
-  private buf = new Float64Array(1024);
-  length = 0;
-  push(v: number): void {
-    if (this.length === this.buf.length) {
-      const next = new Float64Array(this.buf.length * 2);
-      next.set(this.buf);
-      this.buf = next;
-    }
-    this.buf[this.length++] = v;
+export class GrowableInt32 extends Growable<Int32Array> {
+  constructor() {
+    super((n) => new Int32Array(n));
   }
-  view(): Float64Array {
-    return this.buf.subarray(0, this.length);
+}
+
+export class GrowableFloat64 extends Growable<Float64Array> {
+  constructor() {
+    super((n) => new Float64Array(n));
   }
 }
 

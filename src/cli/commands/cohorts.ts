@@ -5,7 +5,7 @@ import { TidemarkError } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
 import { cohortReport, type CohortsOutput } from '../../explain/cohortReport.js';
 import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface CohortsCliOptions extends CommonOptions {
@@ -46,7 +46,7 @@ export function formatCohorts(c: CohortsOutput, format: Format): string {
   const rules = [...new Set(c.shapes.filter((s) => s.reading !== 'too short').map((s) => s.reading))];
   out.push('', `Shape readings (${rules.join(', ') || 'none'}): decided per cohort from the mean slope of its last ages against its first; the rule is in the JSON output (shapes[].rule).`);
   out.push('Note: a habit that goes with staying in these curves is a correlation, not a cause; test it with an experiment.');
-  return `${out.join('\n')}\n`;
+  return wrapProse(`${out.join('\n')}\n`);
 }
 
 export async function runCohorts(o: CohortsCliOptions, io: Io): Promise<void> {

@@ -5,7 +5,7 @@ import { TidemarkError } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
 import type { DurationRow, WaistTables } from '../../flows/types.js';
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface CurveCliOptions extends Omit<CommonOptions, 'events'> {
@@ -48,7 +48,7 @@ export function formatCurve(c: CurveOutput, format: Format): string {
   ])).trimEnd());
   out.push(`"more periods": expected further periods a member still alive at the last observed age stays (summed over the next ${c.fits[0]?.lifetimeCap ?? 100}).`);
   for (const s of c.skipped) out.push(`skipped ${s.cohort}: ${s.reason}`);
-  return `${out.join('\n')}\n`;
+  return wrapProse(`${out.join('\n')}\n`);
 }
 
 export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {

@@ -4,7 +4,7 @@ import { MemoryEngine } from '../../engines/memory.js';
 import { explainRetention, type Decomposition, type ExplainOutput } from '../../explain/run.js';
 import type { RetentionChange } from '../../explain/retention.js';
 import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface ExplainCliOptions extends CommonOptions {
@@ -50,7 +50,7 @@ export function formatExplain(e: ExplainOutput, format: Format): string {
   if (e.bySegment) {
     out.push('', `By ${e.bySegment.by}: ${e.bySegment.sentence}`, groupTable(e.bySegment, e.bySegment.by), '', changeTable(e.bySegment.changes, e.bySegment.by, 'segment'), `Caution: ${e.bySegment.caution}`);
   }
-  return `${out.filter((l, i) => l !== '' || out[i - 1] !== '').join('\n')}\n`;
+  return wrapProse(`${out.filter((l, i) => l !== '' || out[i - 1] !== '').join('\n')}\n`);
 }
 
 export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {

@@ -5,7 +5,7 @@ import type { EngineResult } from '../../engines/types.js';
 import { summariseFlows, type FlowsSummary } from '../../flows/summary.js';
 import type { Rules } from '../../rules/schema.js';
 import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface FlowsOptions extends CommonOptions {
@@ -75,7 +75,7 @@ function flowsTable(f: FlowsOutput): string {
     const pr = f.states.map((s, i) => [s, ...f.states.map((_, j) => (f.pooled!.rates[i] ? pct(f.pooled!.rates[i]![j]) : '-')), f.pooled!.n[i]]);
     out.push(textTable(['from\\to', ...f.states, 'n'], pr).trimEnd());
   }
-  return `${out.join('\n')}\n`;
+  return wrapProse(`${out.join('\n')}\n`);
 }
 
 export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {

@@ -8,7 +8,7 @@ import { TidemarkError, inFile } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
 import { computeProjection, parseBand, type ProjectOutput } from '../../markov/run.js';
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, pct, textTable, type Format } from '../format.js';
+import { emit, json, pct, textTable, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface ProjectOptions extends Omit<CommonOptions, 'events'> {
@@ -74,7 +74,7 @@ export function formatProjection(p: ProjectOutput, format: Format): string {
       }
     }
   }
-  return `${out.join('\n')}\n`;
+  return wrapProse(`${out.join('\n')}\n`);
 }
 
 export async function runProject(o: ProjectOptions, io: Io): Promise<void> {

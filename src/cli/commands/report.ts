@@ -8,7 +8,7 @@ import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
 import { addEventOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, toCsv, type Format } from '../format.js';
+import { emit, json, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
 import type { Io } from '../io.js';
 import { progress } from '../progress.js';
@@ -49,7 +49,7 @@ export function headline(m: ReportModel, colour: boolean): string {
   const paint = (t: string) => (colour ? STATES.reduce((acc, s) => acc.replace(new RegExp(`\\b${s}\\b`, 'g'), ansiState(s, s, true)), t) : t);
   const lines = [m.title, m.subtitle, '', ...m.findings.map((f) => `* ${paint(f.text)}`)];
   if (m.warnings.length) lines.push('', ...m.warnings.map((w) => `! ${w}`));
-  return `${lines.join('\n')}\n`;
+  return wrapProse(`${lines.join('\n')}\n`);
 }
 
 export function formatHeadline(m: ReportModel, format: Format, colour: boolean, files: string[], dir: string): string {

@@ -7,7 +7,7 @@ import type { DurationRow } from '../../flows/types.js';
 import { parseDurationsCsv } from '../../survival/durations.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../survival/run.js';
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, pct, textTable, toCsv, type Format } from '../format.js';
+import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface SurvivalCliOptions extends Omit<CommonOptions, 'events'> {
@@ -32,7 +32,7 @@ export function formatSurvival(s: SurvivalOutput, format: Format): string {
   })).trimEnd());
   if (s.logRank) out.push(`Log-rank test across groups: chi-square ${s.logRank.chiSquare.toFixed(2)}, df ${s.logRank.df}, p ${s.logRank.pValue < 0.0001 ? s.logRank.pValue.toExponential(2) : s.logRank.pValue.toFixed(4)}`);
   if (s.note) out.push(`note: ${s.note}`);
-  return `${out.join('\n')}\n`;
+  return wrapProse(`${out.join('\n')}\n`);
 }
 
 export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> {
