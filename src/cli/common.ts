@@ -22,6 +22,7 @@ export interface CommonOptions {
   warmup?: string;
   skipBadRows?: boolean;
   inputFormat?: 'csv' | 'ndjson';
+  delimiter?: string;
   userColumn?: string;
   timestampColumn?: string;
   eventColumn?: string;
@@ -36,7 +37,8 @@ export function addFormatOptions(cmd: Command, dflt: Format): Command {
 
 /** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
 export function addEventOptions(cmd: Command, withEvents = true): Command {
-  if (withEvents) cmd.requiredOption('--events <files...>', 'event log(s): CSV or NDJSON (by extension)');
+  // checked in sourceOf rather than as a required option, so that a misspelt option is reported as such
+  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV or NDJSON (by extension); required');
   return cmd
     .option('--rules <file>', 'rules file (YAML); default: the packaged rules/weekly.yaml')
     .option('--from <date>', 'first period to output (YYYY-MM-DD inside it); earlier events still shape states')
@@ -44,6 +46,7 @@ export function addEventOptions(cmd: Command, withEvents = true): Command {
     .option('--warmup <n>', 'leading periods classified but left out of flows and retention (overrides the rules)')
     .option('--skip-bad-rows', 'skip and count bad rows instead of stopping at the first')
     .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell').choices(['csv', 'ndjson']))
+    .option('--delimiter <char>', 'CSV field delimiter (default ","; use "\\t" for tab)')
     .option('--user-column <name>', 'column holding the user id (overrides the rules)')
     .option('--timestamp-column <name>', 'column holding the event time (overrides the rules)')
     .option('--event-column <name>', 'column holding the event name (overrides the rules)')
@@ -63,8 +66,13 @@ export function resolveRules(o: CommonOptions): Rules {
   };
 }
 
-export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows'>): EventSource {
-  return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows };
+export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter'>): EventSource {
+  if (!o.events || o.events.length === 0) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
+  const delimiter = o.delimiter === '\\t' || o.delimiter === 'tab' ? '\t' : o.delimiter;
+  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter === '"' || delimiter === '\n')) {
+    throw new TidemarkError('USAGE', `--delimiter must be one character other than a quote or newline, not '${o.delimiter}'`, { key: '--delimiter' });
+  }
+  return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter };
 }
 
 export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup'>): RangeOptions {

@@ -83,7 +83,7 @@ export class MemoryEngine implements Engine {
   private async prepare(source: EventSource, rules: Rules, range: RangeOptions): Promise<Prepared> {
     const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
     const toKey = optionKey(range.to, scheme, '--to');
-    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey });
+    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter });
     return { log, ...runOnLog(log, rules, range) };
   }
 

@@ -12,6 +12,8 @@ export interface EventSource {
   files: string[];
   format?: EventFormat;
   skipBadRows?: boolean;
+  /** CSV field delimiter (default ','). */
+  delimiter?: string;
 }
 
 export interface RangeOptions {

@@ -12,7 +12,7 @@ import { lineOfRowAfter } from './lineAt.js';
 
 const NONE: readonly string[] = [];
 
-export async function readCsv(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean): Promise<void> {
+export async function readCsv(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean, delimiter = ','): Promise<void> {
   let plan: ReturnType<typeof headerPlan> | undefined;
   let prevCursor = 0;
   let failure: unknown;
@@ -21,6 +21,7 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
     stream.on('error', () => reject(new TidemarkError('FILE_NOT_FOUND', 'cannot read the events file', { file }, 'Check the path given to --events')));
     Papa.parse<string[]>(stream as unknown as File, {
       skipEmptyLines: false,
+      delimiter,
       step: (res, parser) => {
         try {
           const start = prevCursor;

@@ -28,6 +28,10 @@ export function headerPlan(header: string[], columns: { user: string; timestamp:
     }
     return i;
   };
+  if (names.length === 1 && /[;\t|]/.test(names[0])) {
+    const sep = names[0].includes(';') ? ';' : names[0].includes('\t') ? '\\t' : '|';
+    throw new TidemarkError('EVENTS_FORMAT', `the header '${names[0].slice(0, 60)}' is one field: the file is not comma-separated`, { file, line: 1 }, `Pass --delimiter '${sep}'`);
+  }
   const user = find(columns.user, 'user', true);
   const timestamp = find(columns.timestamp, 'timestamp', true);
   const event = find(columns.event, 'event', needEvent);

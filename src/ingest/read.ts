@@ -17,6 +17,8 @@ export interface ReadEventsOptions {
   skipBadRows?: boolean;
   /** Drop events in periods after this period key (they cannot change earlier states). */
   toKey?: number;
+  /** CSV field delimiter (default ','). */
+  delimiter?: string;
 }
 
 export function formatOf(file: string, format?: EventFormat): EventFormat {
@@ -33,7 +35,7 @@ export async function readEvents(files: string[], opts: ReadEventsOptions): Prom
   const needEvent = opts.rules.activity.keyEvents !== undefined;
   for (const file of files) {
     const fmt = formatOf(file, opts.format);
-    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent);
+    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',');
     else await readNdjson(file, builder, opts.rules.columns);
   }
   const log = builder.build();
