@@ -1,0 +1,68 @@
+/**
+ * tidemark's library API. Everything exported here is stable within a minor version; modules not
+ * re-exported are internal.
+ *
+ * @example
+ * import { loadRulesFile, MemoryEngine, summariseFlows, explainRetention } from 'tidemark';
+ * const rules = loadRulesFile('rules/weekly.yaml');
+ * const { waist } = await new MemoryEngine().run({ files: ['events.csv'] }, rules);
+ * summariseFlows(waist).transitions.at(-1)?.retention;
+ */
+
+// Errors
+export { TidemarkError, type ErrorCode, type ErrorLocation } from './errors.js';
+
+// Rules
+export { loadRulesFile, parseRules } from './rules/load.js';
+export { rulesSchema, rulesJsonSchema, type Rules, type RulesInput, type Grain, type Weekday } from './rules/schema.js';
+
+// Input and periods
+export { readEvents, type EventFormat, type ReadEventsOptions } from './ingest/read.js';
+export type { EventLog, RowAccount } from './ingest/eventLog.js';
+export { periodKeyOfDay, periodLabel, periodStartDay, type PeriodScheme } from './periods/calendar.js';
+
+// Lifecycle
+export { STATES, ACTIVE_STATES, type StateName } from './lifecycle/states.js';
+export { lifecycleMachine } from './lifecycle/machine.js';
+export { compilePlan, type LifecyclePlan } from './lifecycle/plan.js';
+
+// Engines and the waist tables
+export { MemoryEngine, runOnLog } from './engines/memory.js';
+export type { Engine, EngineResult, EventSource, RangeOptions, ClassifiedRow, LastPeriod } from './engines/types.js';
+export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow } from './flows/types.js';
+
+// Flows
+export { summariseFlows, type FlowsSummary, type TransitionSummary, type PooledSummary } from './flows/summary.js';
+export { parseSelection, selectTransitions, type TransitionSelection } from './flows/select.js';
+export { rowRates } from './flows/rates.js';
+export { growthAccount, type GrowthAccount } from './flows/growth.js';
+export { statusRetention, type StateRetention } from './flows/retention.js';
+
+// Explaining retention
+export { explainRetention, collapseCells, type ExplainOptions, type ExplainOutput } from './explain/run.js';
+export { kitagawa, kitagawaFromCounts, type KitagawaResult } from './explain/kitagawa.js';
+export { decompositionSentence } from './explain/sentence.js';
+export { retentionRates, retentionChanges, decomposeRetention } from './explain/retention.js';
+export { cohortReport, type CohortsOutput } from './explain/cohortReport.js';
+export { cohortTriangle, classicRetention, onOrAfterRetention, windowRetention } from './explain/cohorts.js';
+
+// Statistics
+export { wilsonInterval } from './stats/wilson.js';
+export { newcombeDifference } from './stats/newcombe.js';
+export { twoProportionZTest } from './stats/ztest.js';
+export { bhAdjust, bhRejected } from './stats/bh.js';
+
+// Projection
+export * as markov from './markov/index.js';
+export { computeProjection, type ProjectOutput, type ProjectionOptions } from './markov/run.js';
+
+// Survival and cohort curves
+export { kaplanMeier, kaplanMeierByGroup } from './survival/kaplanMeier.js';
+export { logRank } from './survival/logRank.js';
+export { survivalCurves, type SurvivalOutput } from './survival/run.js';
+export { fitSbg, sbgSurvival, type SbgFit } from './curve/sbg.js';
+
+// Report
+export { buildReport, type ReportModel, type ReportOptions } from './report/build.js';
+export { writeReport } from './report/write.js';
+export { STATE_COLOURS } from './report/palette.js';
