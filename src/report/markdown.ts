@@ -4,7 +4,8 @@ import { displayCell, type DataTable } from './charts/types.js';
 
 /**
  * Escape data text for Markdown: HTML-significant characters become entities (many viewers render raw
- * HTML), Markdown punctuation gets a backslash, and line breaks become spaces.
+ * HTML), inline Markdown punctuation gets a backslash (so no emphasis, code, table cell or link can
+ * form), and line breaks become spaces.
  */
 export function mdEscape(value: unknown, max = 80): string {
   let s = String(value ?? '').replace(/[\r\n]+/g, ' ');
@@ -13,7 +14,8 @@ export function mdEscape(value: unknown, max = 80): string {
     .replace(/&/g, '&amp;')
     .replace(/</g, '&lt;')
     .replace(/>/g, '&gt;')
-    .replace(/([\\`*_{}[\]()#+!|~])/g, '\\$1');
+    .replace(/([\\`*_[\]|~])/g, '\\$1')
+    .replace(/\\\]\(/g, '\\]\\(');
 }
 
 export function mdTable(t: DataTable): string {
