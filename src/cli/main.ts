@@ -13,6 +13,7 @@ import { explainCommand } from './commands/explain.js';
 import { flowsCommand } from './commands/flows.js';
 import { projectCommand } from './commands/project.js';
 import { reportCommand } from './commands/report.js';
+import { retentionCommand } from './commands/retention.js';
 import { rulesCommand } from './commands/rules.js';
 import { survivalCommand } from './commands/survival.js';
 
@@ -26,6 +27,7 @@ export function buildProgram(io: Io): Command {
     .configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) });
   classifyCommand(program, io);
   flowsCommand(program, io);
+  retentionCommand(program, io);
   explainCommand(program, io);
   projectCommand(program, io);
   cohortsCommand(program, io);

@@ -36,6 +36,8 @@ export interface ProjectOutput {
   /** `unobserved`: states no user was ever seen in (left out of the class analysis, share 0). */
   longRun: { kind: Stationary['kind']; sentence: string; unobserved: string[] };
   projection: ProjectionStep[];
+  /** How the bands were made (null without bands: a planner's matrix has no counts to sample from). */
+  uncertainty: { method: string; prior: number; samples: number; seed: number; percentiles: [number, number] } | null;
   firstPassage?: { target: string; expectedSteps: Record<string, number | null>; periodsInState: Record<string, Counts>; unreachable: { state: string; reason: string }[] };
   scenario?: { edits: { text: string; before: number; after: number }[]; baseline: ProjectionStep[]; projected: ProjectionStep[]; difference: ProjectionStep[] };
   backtest?: Backtest | { skipped: string };
@@ -67,6 +69,9 @@ export function parseBand(text: string): [number, number] {
 }
 
 /** Everything `project` computes, from waist tables (events) or a planner's matrix document. */
+/** The Dirichlet prior added to each observed cell when sampling rows for the bands (Jeffreys). */
+const PRIOR = 0.5;
+
 export interface ProjectionOptions {
   /** Transitions to fit on: 'all', 'N' or 'FROM..TO' (default all). */
   fit?: string;
@@ -110,7 +115,7 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
   const chain = { states, matrix };
   const long = observedLongRun(chain, start, inflow, counts);
   const base = project(matrix, start, inflow, o.horizon);
-  const bands = counts ? projectionBands(counts, start, inflow, o.horizon, { samples: o.samples, seed: o.seed, percentiles: [o.band[0], 50, o.band[1]] }) : undefined;
+  const bands = counts ? projectionBands(counts, start, inflow, o.horizon, { samples: o.samples, seed: o.seed, percentiles: [o.band[0], 50, o.band[1]], prior: PRIOR }) : undefined;
   const out: ProjectOutput = {
     states,
     source,
@@ -121,6 +126,15 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
     steadyState: long.kind === 'unique' ? byState(states, long.distribution) : null,
     longRun: { kind: long.kind, sentence: long.sentence, unobserved: long.unobserved },
     projection: steps(states, base, bands),
+    uncertainty: bands
+      ? {
+          method: 'each row of P sampled from Dirichlet(counts + prior) over the transitions seen in the data; every sample projected; percentiles per step',
+          prior: PRIOR,
+          samples: o.samples,
+          seed: o.seed,
+          percentiles: o.band,
+        }
+      : null,
   };
   if (o.until) out.firstPassage = passageOutput(states, firstPassage(chain, o.until), o.until);
   if (o.whatIf && o.whatIf.length > 0) {
@@ -129,7 +143,7 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
   }
   if ('tables' in input && o.backtest !== false) {
     try {
-      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band });
+      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band, prior: PRIOR });
     } catch (e) {
       if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') out.backtest = { skipped: e.message };
       else throw e;

@@ -42,6 +42,7 @@ export function formatProjection(p: ProjectOutput, format: Format): string {
   out.push(`Projection ${p.horizon} periods ahead, ${src}; inflow per period: ${inflow}`);
   if (p.source.kind === 'events' && p.source.emptyRows.length) out.push(`note: no transitions seen out of ${p.source.emptyRows.join(', ')}; kept absorbing`);
   out.push(`Long run: ${p.longRun.sentence}`);
+  if (p.uncertainty) out.push(`Bands: ${p.uncertainty.percentiles[0]}th-${p.uncertainty.percentiles[1]}th percentiles of ${p.uncertainty.samples} chains sampled row by row from Dirichlet(counts + ${p.uncertainty.prior}), seed ${p.uncertainty.seed}.`);
   if (p.steadyState) out.push(`Steady-state mix: ${p.states.map((s) => `${s} ${pct(p.steadyState![s])}`).join(', ')}`);
   const H = p.horizon;
   const show = [...new Set([0, 1, Math.min(4, H), Math.min(8, H), H])].filter((k) => k <= H);
