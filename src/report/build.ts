@@ -106,7 +106,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
     if (small.length) warnings.push(`Small cells: in the latest transition, ${small.join(', ')} had fewer than ${rules.minCell} users; their rates are shown faded and should not be read alone.`);
   }
   charts.push(stateMix(w.states, w.periods, w.stateCounts, grainWord));
-  charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell));
+  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell));
 
   // explanation: latest change, and the chosen comparison
   if (flows.transitions.length >= 2) {
@@ -136,12 +136,12 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
 
   // cohorts and survival
   let cohorts: CohortsOutput | undefined;
-  if (w.cohorts.length > 0) {
+  if (w.cohorts.some((c) => c.active.length > 1)) {
     cohorts = cohortReport(w.cohorts, { ages: [1, 4, 12], window: [4, 8], groupBy: 'month', minN: rules.minCell });
     documents.push({ name: 'cohorts', value: cohorts });
     charts.push(cohortTriangleChart(cohorts, grainWord, rules.minCell));
   }
-  if (w.durations.length > 0) {
+  if (w.durations.some((d) => d.observed === 1)) {
     const blocks = Math.max(1, Math.ceil(new Set(w.durations.map((d) => d.group)).size / 5));
     const surv: SurvivalOutput = survivalCurves(mergeCohorts(w.durations, blocks), 'cohort');
     documents.push({ name: 'survival', value: surv });

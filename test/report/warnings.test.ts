@@ -64,3 +64,18 @@ describe('leftCensoringHint', () => {
     expect(leftCensoringHint(summary(0.42, 0.4, 0.8), 'week')).toBeUndefined();
   });
 });
+
+describe('short logs', () => {
+  it.each([1, 2, 3])('with %i week(s) of data the report is written and reads sensibly (no NaN, undefined or null)', async (weeks) => {
+    const dir = tempDir();
+    const rows = ['user_id,timestamp,event'];
+    for (let m = 0; m < 50; m++) for (let w = 0; w < weeks; w++) if (w === 0 || (m + w) % 2 === 0) rows.push(`m${m},${new Date(MONDAY + w * 7 * DAY + 3_600_000).toISOString()},booking_made`);
+    writeFileSync(join(dir, 'e.csv'), rows.join('\n'));
+    const r = await runCli(['report', '--events', join(dir, 'e.csv'), '--out', join(dir, 'out'), '--include-partial', '--quiet']);
+    expect(r.code, r.err).toBe(0);
+    const html = readFileSync(join(dir, 'out', 'index.html'), 'utf8');
+    const text = html.replace(/<svg[\s\S]*?<\/svg>/g, '');
+    expect(text).not.toMatch(/NaN|undefined|>null</);
+    expect((html.match(/<figure class="chart"/g) ?? []).length).toBeGreaterThanOrEqual(weeks === 1 ? 1 : 4);
+  }, 30_000);
+});

@@ -82,7 +82,7 @@ export function reportCommand(program: Command, io: Io): void {
     .command('report')
     .description('write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart')
     .requiredOption('--out <dir>', 'folder to write the report into')
-    .option('--base <period>', 'base period of the chosen comparison (a period retained into)')
+    .option('--base <period>', 'base period of the chosen comparison, a period retained into (default: four periods before --compare)')
     .option('--compare <period>', 'compared period of the chosen comparison (default: the latest)')
     .option('--by <column>', 'also split retention by this attribute column')
     .option('--horizon <n>', 'periods to project ahead', '12')

@@ -24,7 +24,7 @@ export function cohortTriangleChart(c: CohortsOutput, grainWord: string, minCell
   const one = c.classic[0];
   const readings = c.shapes.filter((s) => s.reading !== 'too short');
   const falling = readings.filter((s) => s.reading === 'still falling').length;
-  const reading = `${one ? `Pooled, ${(Number(one.pooled.rate) * 100).toFixed(0)}% of members are active ${one.from} ${grainWord}${one.from === 1 ? '' : 's'} after their first; ` : ''}${falling} of ${readings.length} cohorts with enough history are still falling, the rest flattening or rising.`;
+  const reading = `${one && one.pooled.rate !== null ? `Pooled, ${(Number(one.pooled.rate) * 100).toFixed(0)}% of members are active ${one.from} ${grainWord}${one.from === 1 ? '' : 's'} after their first; ` : ''}${readings.length ? `${falling} of ${readings.length} cohorts with enough history are still falling, the rest flattening or rising.` : 'no cohort has enough history yet for a reading of its curve\'s shape.'}`;
   return {
     id: 'cohort-triangle',
     title: 'Acquisition cohorts',

@@ -108,7 +108,7 @@ export function flowRibbons(f: FlowInput): Chart {
   for (let i = 0; i < S; i++) for (let j = 0; j < S; j++) if (i !== j && f.counts[i][j] > best.n) best = { n: f.counts[i][j], from: f.states[i], to: f.states[j] };
   const stayed = f.states.map((s, i) => ({ s, n: f.counts[i][i] })).sort((a, b) => b.n - a.n)[0];
   const reading = best.n > 0
-    ? `The largest move was ${best.from} → ${best.to} (${best.n.toLocaleString('en-US')} users, ${((best.n / Math.max(left[f.states.indexOf(best.from)], 1)) * 100).toFixed(0)}% of ${best.from}); ${f.fresh.toLocaleString('en-US')} users arrived, and the largest group staying put was ${stayed.s} (${stayed.n.toLocaleString('en-US')}).`
+    ? `The largest move was ${best.from} → ${best.to} (${best.n.toLocaleString('en-US')} users, ${((best.n / Math.max(left[f.states.indexOf(best.from)], 1)) * 100).toFixed(0)}% of ${best.from}); ${f.fresh.toLocaleString('en-US')} users arrived${stayed.n > 0 ? `, and the largest group staying put was ${stayed.s} (${stayed.n.toLocaleString('en-US')})` : ''}.`
     : `No user changed state; ${f.fresh.toLocaleString('en-US')} users arrived.`;
   return { id: 'flow-latest', title: `Flows ${f.from} → ${f.to}`, reading, spec, table };
 }

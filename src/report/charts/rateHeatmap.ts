@@ -50,11 +50,13 @@ export function rateHeatmap(h: HeatmapInput): Chart {
     ],
   } as unknown as TopLevelSpec;
   const off = cells.filter((c) => c.from !== c.to && c.rate !== null).sort((a, b) => (b.rate ?? 0) - (a.rate ?? 0))[0];
-  const stay = cells.filter((c) => c.from === c.to && c.rate !== null).sort((a, b) => (b.rate ?? 0) - (a.rate ?? 0))[0];
+  const stay = cells.filter((c) => c.from === c.to && (c.rate ?? 0) > 0).sort((a, b) => (b.rate ?? 0) - (a.rate ?? 0))[0];
   const small = cells.some((c) => c.small && c.n > 0);
-  const reading = off && stay
-    ? `The stickiest state is ${stay.from} (${stay.label} stay); the strongest move to another state is ${off.from} → ${off.to} (${off.label}).`
-    : 'Too few transitions to read rates.';
+  const parts = [
+    stay ? `The stickiest state is ${stay.from} (${stay.label} stay)` : 'No user stayed in the same state',
+    off ? `the strongest move to another state is ${off.from} → ${off.to} (${off.label})` : 'no user changed state',
+  ];
+  const reading = off || stay ? `${parts.join('; ')}.` : 'Too few transitions to read rates.';
   return {
     id: 'transition-rates',
     title: 'Transition rates',
