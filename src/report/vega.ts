@@ -12,7 +12,7 @@ export const CHART_CONFIG = {
   background: 'white',
   view: { stroke: null },
   axis: { labelFontSize: 11, titleFontSize: 12, titleFontWeight: 'normal', gridColor: '#e6e9ef', domainColor: '#9aa3ad', tickColor: '#9aa3ad' },
-  legend: { labelFontSize: 11, titleFontSize: 12, orient: 'bottom', direction: 'horizontal' },
+  legend: { labelFontSize: 11, titleFontSize: 12, orient: 'bottom', direction: 'horizontal', labelLimit: 320 },
   title: { fontSize: 14, fontWeight: 'bold', anchor: 'start', offset: 10 },
 } as const;
 

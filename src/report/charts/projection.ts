@@ -58,7 +58,7 @@ export function backtestChart(b: Backtest, grainWord: string): Chart {
       x: { field: 'horizon', type: 'ordinal', title: `${grainWord}s ahead`, axis: { labelAngle: 0 } },
       xOffset: { field: 'method' },
       y: { field: 'mae', type: 'quantitative', title: 'mean absolute error (points)' },
-      color: { field: 'method', type: 'nominal', scale: { range: [GAIN, LOSS] }, title: null },
+      color: { field: 'method', type: 'nominal', scale: { range: [GAIN, LOSS] }, title: null, legend: { labelLimit: 320 } },
       tooltip: [{ field: 'horizon' }, { field: 'method' }, { field: 'mae', format: '.2f' }],
     },
   } as unknown as TopLevelSpec;
