@@ -6,7 +6,7 @@ import { TidemarkError } from '../errors.js';
 import type { EventLog } from '../ingest/eventLog.js';
 import { readEvents } from '../ingest/read.js';
 import { activePeriods } from '../lifecycle/activity.js';
-import { classify, type Classified } from '../lifecycle/classify.js';
+import { classifiedSize, classify, firstActivePeriods, type Classified } from '../lifecycle/classify.js';
 import { compilePlan } from '../lifecycle/plan.js';
 import { ACTIVE_STATES } from '../lifecycle/states.js';
 import { aggregate, durationRows } from '../flows/aggregate.js';
@@ -18,6 +18,8 @@ import type { Rules } from '../rules/schema.js';
 import type { ClassifiedRow, Engine, EngineResult, EventSource, LastPeriod, RangeOptions } from './types.js';
 
 const DAY = 86_400_000;
+/** User-periods the in-memory engine classifies at most (about 17 bytes each). */
+export const MAX_USER_PERIODS = 300_000_000;
 
 interface Prepared {
   log: EventLog;
@@ -28,7 +30,7 @@ interface Prepared {
 }
 
 /** Run the heavy stage on an event log already in memory. */
-export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}): Omit<Prepared, 'log'> {
+export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, maxUserPeriods = MAX_USER_PERIODS): Omit<Prepared, 'log'> {
   const scheme: PeriodScheme = log.scheme;
   let minKey = Infinity, maxKey = -Infinity, maxWall = -Infinity;
   for (let i = 0; i < log.size; i++) {
@@ -48,6 +50,11 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}):
   const labels = Array.from({ length: r.span }, (_, i) => periodLabel(r.startKey + i, scheme));
   const plan = compilePlan(rules);
   const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span);
+  const rows = classifiedSize(firstActivePeriods(active, log.users.length), r.span, r.outStart);
+  if (rows > maxUserPeriods) {
+    throw new TidemarkError('RANGE_INVALID', `${labels[0]} to ${labels[r.span - 1]} is ${r.span} periods: classifying it would take ${rows.toLocaleString('en-US')} user-periods, more than ${maxUserPeriods.toLocaleString('en-US')} fit in memory`, { key: '--from' },
+      'Narrow the range with --from/--to or use a coarser grain (an outlying timestamp can stretch the range)');
+  }
   const classified = classify(active, plan, log.users.length, r.outStart);
   const waist = aggregate(classified, {
     states: plan.states,

@@ -28,6 +28,20 @@ export interface Classified {
   firstActive: Int32Array;
 }
 
+/** Per user code: the offset of the first active period, or -1. */
+export function firstActivePeriods(active: ActivePeriods, users: number): Int32Array {
+  const firstActive = new Int32Array(users).fill(-1);
+  for (let i = active.user.length - 1; i >= 0; i--) firstActive[active.user[i]] = active.offset[i];
+  return firstActive;
+}
+
+/** Rows the classification emits: each user's periods from max(first active, outStart) to the end. */
+export function classifiedSize(firstActive: Int32Array, span: number, outStart: number): number {
+  let size = 0;
+  for (let u = 0; u < firstActive.length; u++) if (firstActive[u] >= 0) size += span - Math.max(firstActive[u], outStart);
+  return size;
+}
+
 /**
  * Walk each user's periods through the plan.
  * @param users number of user codes in the log
@@ -36,10 +50,8 @@ export interface Classified {
 export function classify(active: ActivePeriods, plan: LifecyclePlan, users: number, outStart = 0): Classified {
   const { span } = active;
   const L = plan.idleLevels;
-  const firstActive = new Int32Array(users).fill(-1);
-  for (let i = active.user.length - 1; i >= 0; i--) firstActive[active.user[i]] = active.offset[i];
-  let size = 0;
-  for (let u = 0; u < users; u++) if (firstActive[u] >= 0) size += span - Math.max(firstActive[u], outStart);
+  const firstActive = firstActivePeriods(active, users);
+  const size = classifiedSize(firstActive, span, outStart);
   const out: Classified = {
     size,
     user: new Int32Array(size),
