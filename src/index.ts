@@ -61,6 +61,7 @@ export { kaplanMeier, kaplanMeierByGroup } from './survival/kaplanMeier.js';
 export { logRank } from './survival/logRank.js';
 export { survivalCurves, type SurvivalOutput } from './survival/run.js';
 export { fitSbg, sbgSurvival, type SbgFit } from './curve/sbg.js';
+export { cohortSurvivors } from './curve/survivors.js';
 
 // Report
 export { buildReport, type ReportModel, type ReportOptions } from './report/build.js';

@@ -101,4 +101,3 @@ export function note(io: Io, o: { quiet?: boolean }, text: string): void {
   if (!o.quiet) io.stderr(`${text}\n`);
 }
 
-export { suggestion };

@@ -70,7 +70,9 @@ export function groupedCurves(
   const groups = new Map<string, CohortRowExt[]>();
   for (const r of rows) {
     const g = groupOf(r);
-    groups.set(g, [...(groups.get(g) ?? []), r]);
+    const list = groups.get(g);
+    if (list) list.push(r);
+    else groups.set(g, [r]);
   }
   return [...groups].map(([group, list]) => ({ group, curve: groupedCurve(list, measure) }));
 }

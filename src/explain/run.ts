@@ -53,7 +53,7 @@ export interface ExplainOutput {
   mixEffect: number | null;
   simpson: boolean;
   sentence: string;
-  byState: { state: string; nBase: number; nCompare: number; weightBase: number; weightCompare: number; rateBase: number | null; rateCompare: number | null; rateEffect: number | null; mixEffect: number | null }[];
+  byState: (Omit<GroupRow, 'group'> & { state: string })[];
   /** Change of each state's retention, with Newcombe interval, z-test and BH-adjusted p. */
   changes: RetentionChange[];
   byTenure: Decomposition;

@@ -39,7 +39,7 @@ export { projectionBands, type BandOptions, type Bands } from './bands.js';
 export { backtest, type BacktestOptions, type BacktestRow, type Backtest } from './backtest.js';
 
 // The whole projection job
-export { computeProjection, parseBand, type ProjectOutput, type ProjectionOptions, type ProjectionStep } from './run.js';
+export { computeProjection, type ProjectOutput, type ProjectionOptions, type ProjectionStep } from './run.js';
 
 // Linear algebra (small dense helpers, exported for tests and other modules)
 export { identity, transpose, vecMat, matVec, matMul, solve, solveMany, inverse } from './linalg.js';

@@ -61,14 +61,7 @@ function steps(states: string[], p: { counts: number[][]; shares: number[][]; to
   }));
 }
 
-export function parseBand(text: string): [number, number] {
-  const m = /^(\d+(?:\.\d+)?)[,-](\d+(?:\.\d+)?)$/.exec(text.trim());
-  const lo = m ? Number(m[1]) : NaN, hi = m ? Number(m[2]) : NaN;
-  if (!(lo >= 0 && hi <= 100 && lo < hi)) throw new TidemarkError('USAGE', `--band '${text}' is not two percentiles LO,HI with 0 ≤ LO < HI ≤ 100`, { key: '--band' }, 'For example --band 10,90');
-  return [lo, hi];
-}
 
-/** Everything `project` computes, from waist tables (events) or a planner's matrix document. */
 /** The Dirichlet prior added to each observed cell when sampling rows for the bands (Jeffreys). */
 const PRIOR = 0.5;
 

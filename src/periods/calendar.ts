@@ -10,6 +10,9 @@ import { DateTime } from 'luxon';
 import type { Grain, Weekday } from '../rules/schema.js';
 import { WEEKDAYS } from '../rules/schema.js';
 
+/** The word for one period of a grain ('week'); 'one-week' style adjectives are built from it. */
+export const GRAIN_NOUN = { day: 'day', week: 'week', month: 'month' } as const;
+
 export interface PeriodScheme {
   grain: Grain;
   weekStart: Weekday;

@@ -7,6 +7,7 @@ import { cohortReport, type CohortsOutput } from '../explain/cohortReport.js';
 import { explainRetention, type ExplainOutput } from '../explain/run.js';
 import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
 import { computeProjection, type ProjectOutput } from '../markov/run.js';
+import { GRAIN_NOUN } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../survival/run.js';
 import { cohortTriangleChart } from './charts/cohortTriangle.js';
@@ -58,7 +59,6 @@ export interface ReportModel {
   documents: { name: string; value: unknown }[];
 }
 
-export const GRAIN_WORDS = { day: 'day', week: 'week', month: 'month' } as const;
 
 const p1 = (x: number | null | undefined) => (x === null || x === undefined ? '–' : `${(x * 100).toFixed(1)}%`);
 const pts = (x: number) => `${x >= 0 ? '+' : '−'}${Math.abs(x * 100).toFixed(1)}`;
@@ -73,7 +73,7 @@ export const CAUTIONS = [
 /** Build the report from one engine run. */
 export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions = {}): ReportModel {
   const w = result.waist;
-  const grainWord = GRAIN_WORDS[rules.grain];
+  const grainWord = GRAIN_NOUN[rules.grain];
   const oneGrain = `one-${grainWord}`;
   const flows: FlowsSummary = summariseFlows(w);
   const charts: Chart[] = [];
@@ -225,9 +225,4 @@ export function leftCensoringHint(f: FlowsSummary, grainWord: string): string | 
     return `The data may start in the middle of users' histories: users first seen in ${f.periods[0]} kept ${p1(first.rate)} active the next ${grainWord}, like engaged users (${p1(engaged)}), not like later newcomers (${p1(freshLater)}). Consider a warm-up (rules key warmup, or --warmup) of a few ${grainWord}s.`;
   }
   return undefined;
-}
-
-/** Every data table behind every chart. */
-export function chartTables(m: ReportModel): DataTable[] {
-  return m.charts.map((c) => c.table);
 }

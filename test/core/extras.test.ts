@@ -6,7 +6,7 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { cohortSurvivors } from '../../src/cli/commands/curve.js';
+import { cohortSurvivors } from '../../src/curve/survivors.js';
 import { MemoryEngine } from '../../src/engines/memory.js';
 import type { WaistTables } from '../../src/flows/types.js';
 import { mulberry32 } from '../../src/markov/random.js';

@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { fitSbg, type SbgFit } from '../../curve/sbg.js';
 import { TidemarkError } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
-import type { DurationRow, WaistTables } from '../../flows/types.js';
+import { cohortSurvivors } from '../../curve/survivors.js';
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -19,23 +19,6 @@ export interface CurveOutput {
   model: string;
   fits: ({ cohort: string; survivors: number[] } & Omit<SbgFit, 'projection'> & { projection: { t: number; survival: number }[] })[];
   skipped: { cohort: string; reason: string }[];
-}
-
-/**
- * Survivors n₀ … n_{A−L} of each cohort, in the sense of a contractual setting with dormancy as the
- * loss: a member is lost at the first period of the inactive run that made them dormant for the
- * first time (first dormant age d − lapseLimit L). Survivors are exact up to age A − L: a member still
- * lapsing at the end of the data cannot have started that run earlier.
- */
-export function cohortSurvivors(w: WaistTables, lapseLimit: number): { cohort: string; survivors: number[] }[] {
-  const byCohort = new Map<string, DurationRow[]>();
-  for (const r of w.durations) byCohort.set(r.group, [...(byCohort.get(r.group) ?? []), r]);
-  return w.cohorts.map((c) => {
-    const rows = byCohort.get(c.cohort) ?? [];
-    const last = c.active.length - 1 - lapseLimit;
-    const survivors = Array.from({ length: Math.max(0, last + 1) }, (_, t) => c.size - rows.filter((r) => r.observed === 1 && r.duration - lapseLimit <= t).reduce((a, r) => a + r.users, 0));
-    return { cohort: c.cohort, survivors };
-  });
 }
 
 export function formatCurve(c: CurveOutput, format: Format): string {

@@ -14,7 +14,8 @@ import { loadRulesFile } from '../../rules/load.js';
 import { DEFAULT_RULES, intOption, rowLine } from '../common.js';
 import { csvField } from '../format.js';
 import type { Io } from '../io.js';
-import { GRAIN_WORD, formatExplain } from './explain.js';
+import { formatExplain } from './explain.js';
+import { GRAIN_NOUN } from '../../periods/calendar.js';
 import { formatProjection } from './project.js';
 import { headline, reportRun } from './report.js';
 
@@ -46,7 +47,7 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(`demo: report written to ${o.out}/index.html (${files.length} files)\n`);
 
-  const explained = explainRetention(result.waist, { base, compare, grainWord: GRAIN_WORD[rules.grain], minCell: rules.minCell });
+  const explained = explainRetention(result.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
   const projection = computeProjection({ tables: result.waist }, { fit: '8', horizon: 12, whatIf: ['lapsing->dormant*0.8'], until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
   const colour = Boolean(io.stdoutIsTTY);
   io.stdout([

@@ -6,6 +6,7 @@ import type { RetentionChange } from '../../explain/retention.js';
 import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
+import { GRAIN_NOUN } from '../../periods/calendar.js';
 
 export interface ExplainCliOptions extends CommonOptions {
   base?: string;
@@ -13,7 +14,6 @@ export interface ExplainCliOptions extends CommonOptions {
   by?: string;
 }
 
-export const GRAIN_WORD = { day: 'one-day', week: 'one-week', month: 'one-month' } as const;
 const pts = (x: number | null) => (x === null ? '-' : `${x >= 0 ? '+' : ''}${(x * 100).toFixed(2)}`);
 
 function groupTable(d: Decomposition, label: string): string {
@@ -57,7 +57,7 @@ export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const r = await new MemoryEngine().run(sourceOf(o), rules, { ...rangeOf(o), by: o.by });
   note(io, o, rowLine(r.rows));
-  const e = explainRetention(r.waist, { base: o.base, compare: o.compare, grainWord: GRAIN_WORD[rules.grain], minCell: rules.minCell });
+  const e = explainRetention(r.waist, { base: o.base, compare: o.compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
   emit(formatExplain(e, o.format), o.out, io);
 }
 

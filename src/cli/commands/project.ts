@@ -6,7 +6,7 @@ import { readFileSync } from 'node:fs';
 import { Option, type Command } from 'commander';
 import { TidemarkError, inFile } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
-import { computeProjection, parseBand, type ProjectOutput } from '../../markov/run.js';
+import { computeProjection, type ProjectOutput } from '../../markov/run.js';
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -24,6 +24,14 @@ export interface ProjectOptions extends Omit<CommonOptions, 'events'> {
   band: string;
   backtest: boolean;
   backtestHorizon: string;
+}
+
+/** --band LO,HI: two percentiles with 0 ≤ LO < HI ≤ 100. */
+export function parseBand(text: string): [number, number] {
+  const m = /^(\d+(?:\.\d+)?)[,-](\d+(?:\.\d+)?)$/.exec(text.trim());
+  const lo = m ? Number(m[1]) : NaN, hi = m ? Number(m[2]) : NaN;
+  if (!(lo >= 0 && hi <= 100 && lo < hi)) throw new TidemarkError('USAGE', `--band '${text}' is not two percentiles LO,HI with 0 ≤ LO < HI ≤ 100`, { key: '--band' }, 'For example --band 10,90');
+  return [lo, hi];
 }
 
 const n0 = (x: number) => (Math.round(x) || 0).toLocaleString('en-US');

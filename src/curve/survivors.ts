@@ -1,0 +1,23 @@
+/** Cohort survivors for the shifted-beta-geometric fit, from the waist tables. Pure. */
+import type { DurationRow, WaistTables } from '../flows/types.js';
+
+/**
+ * Survivors n₀ … n_{A−L} of each cohort, in the sense of a contractual setting with dormancy as the
+ * loss: a member is lost at the first period of the inactive run that made them dormant for the
+ * first time (first dormant age d − lapseLimit L). Survivors are exact up to age A − L: a member still
+ * lapsing at the end of the data cannot have started that run earlier.
+ */
+export function cohortSurvivors(w: WaistTables, lapseLimit: number): { cohort: string; survivors: number[] }[] {
+  const byCohort = new Map<string, DurationRow[]>();
+  for (const r of w.durations) {
+    const list = byCohort.get(r.group);
+    if (list) list.push(r);
+    else byCohort.set(r.group, [r]);
+  }
+  return w.cohorts.map((c) => {
+    const rows = byCohort.get(c.cohort) ?? [];
+    const last = c.active.length - 1 - lapseLimit;
+    const survivors = Array.from({ length: Math.max(0, last + 1) }, (_, t) => c.size - rows.filter((r) => r.observed === 1 && r.duration - lapseLimit <= t).reduce((a, r) => a + r.users, 0));
+    return { cohort: c.cohort, survivors };
+  });
+}
