@@ -55,10 +55,29 @@ export class TidemarkError extends Error {
       .filter(Boolean)
       .join(', ');
     const text = place ? `${place}: ${this.message}` : this.message;
-    if (!this.hint) return text;
-    return `${text}. ${this.hint.charAt(0).toUpperCase()}${this.hint.slice(1)}`;
+    if (!this.hint) return escapeControls(text);
+    return escapeControls(`${text}. ${this.hint.charAt(0).toUpperCase()}${this.hint.slice(1)}`);
   }
 }
+
+/**
+ * A value from the data, made safe for a one-line message: control characters (C0, C1, DEL), line and
+ * paragraph separators and bidirectional overrides are written as `\\n`, `\\u001b`…, and a value
+ * longer than `max` characters is cut with an ellipsis. Nothing from the data reaches a terminal raw.
+ * @example showValue('a\nb\u001b[31m') // 'a\\nb\\u001b[31m'
+ */
+export function showValue(value: unknown, max = 60): string {
+  const s = String(value ?? '');
+  const cut = s.length > max ? `${s.slice(0, Math.max(1, max - 1))}…` : s;
+  return escapeControls(cut);
+}
+
+/** Escape control and invisible-direction characters as `\\n`, `\\t`, `\\r` or `\\uXXXX`. */
+export function escapeControls(s: string): string {
+  return s.replace(CONTROL, (c) => (c === '\n' ? '\\n' : c === '\r' ? '\\r' : c === '\t' ? '\\t' : `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`));
+}
+// C0 and C1 controls, DEL, line/paragraph separators, bidi embeddings, overrides and isolates
+const CONTROL = /[\u0000-\u001f\u007f-\u009f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g;
 
 /** Levenshtein distance, for "did you mean" suggestions. */
 export function editDistance(a: string, b: string): number {

@@ -5,7 +5,7 @@
  * attribute values are stored once in dictionaries; rows hold integer codes. 10 million events take
  * about 16 bytes each plus 4 per attribute column.
  */
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 import { periodKeyOfDay, type PeriodScheme } from '../periods/calendar.js';
 import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
@@ -123,7 +123,7 @@ export class EventLogBuilder {
   reject(reason: RejectReason, file: string, line: LineRef, column: string | undefined, value: string | undefined, hint?: string): void {
     this.rows.read++;
     if (!this.opts.skipBadRows) {
-      const shown = value === undefined ? '' : `: '${value.length > 60 ? `${value.slice(0, 57)}...` : value}'`;
+      const shown = value === undefined ? '' : `: '${showValue(value)}'`;
       throw new TidemarkError('EVENTS_BAD_ROW', `${reason}${shown}`, { file, line: this.lineOf(line), column },
         hint ?? 'Fix the row, or pass --skip-bad-rows to skip and count such rows');
     }
