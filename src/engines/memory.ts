@@ -69,19 +69,21 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
     const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount: ACTIVE_STATES.length, labels, firstFlow: r.outStart + warmup });
     waist.segmentCells = { by: range.by, cells };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
-    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf) };
+    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels) };
   }
   const lastKey = r.startKey + r.span - 1;
   const startMs = periodStartDay(lastKey, scheme) * DAY;
   const endMs = periodEndDay(lastKey, scheme) * DAY;
   const coverage = Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));
   const lastPeriod: LastPeriod = { label: labels[r.span - 1], coverage, complete: maxWall >= endMs - (endMs - startMs) / 7 };
+  let rowsInLastPeriod = 0;
+  for (let i = 0; i < log.size; i++) if (log.period[i] === lastKey) rowsInLastPeriod++;
   let users = 0;
   for (let u = 0; u < classified.firstActive.length; u++) if (classified.firstActive[u] >= 0) users++;
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
   const events = [...log.eventNames].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));
   const attributes = log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 }));
-  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, users, events, attributes } };
+  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, rowsInLastPeriod, users, events, attributes } };
 }
 
 export class MemoryEngine implements Engine {

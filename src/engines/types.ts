@@ -40,6 +40,8 @@ export interface EngineResult {
   waist: WaistTables;
   rows: RowAccount;
   lastPeriod: LastPeriod;
+  /** Used rows whose period is the last one of the range. */
+  rowsInLastPeriod: number;
   /** Number of distinct users with at least one active period in the range. */
   users: number;
   /** Rows per event name, most frequent first (at most 50), and whether each counts toward activity. */

@@ -8,6 +8,7 @@
 import * as aq from 'arquero';
 import type { Classified } from '../lifecycle/classify.js';
 import { cohortRowFromUsers } from '../explain/cohortExt.js';
+import { canonicalDurations } from '../waist/canonical.js';
 import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from './types.js';
 
 export interface AggregateOptions {
@@ -110,7 +111,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     transitions,
     tenureCells,
     cohorts,
-    durations: durationRows(c, firstFlow, span, (_u, first) => o.labels[first]),
+    durations: durationRows(c, firstFlow, span, (_u, first) => o.labels[first], o.labels),
   };
 }
 
@@ -118,7 +119,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
  * Periods from first active to first dormant per user, censored at the range end, for users first
  * active from `firstFlow` on, grouped by `groupOf(user, firstActiveOffset)`.
  */
-export function durationRows(c: Classified, firstFlow: number, span: number, groupOf: (user: number, first: number) => string): DurationRow[] {
+export function durationRows(c: Classified, firstFlow: number, span: number, groupOf: (user: number, first: number) => string, labels: readonly string[]): DurationRow[] {
   const m = new Map<string, DurationRow>();
   for (let u = 0; u < c.firstActive.length; u++) {
     const first = c.firstActive[u];
@@ -127,12 +128,12 @@ export function durationRows(c: Classified, firstFlow: number, span: number, gro
     const observed: 0 | 1 = d >= 0 ? 1 : 0;
     const duration = observed ? d - first : span - 1 - first;
     const group = groupOf(u, first);
-    const key = `${group}|${duration}|${observed}`;
+    const key = `${group}\u0000${first}|${duration}|${observed}`;
     const row = m.get(key);
     if (row) row.users++;
-    else m.set(key, { group, duration, observed, users: 1 });
+    else m.set(key, { group, cohort: labels[first], duration, observed, users: 1 });
   }
-  return [...m.values()].sort((a, b) => (a.group < b.group ? -1 : a.group > b.group ? 1 : a.duration - b.duration || a.observed - b.observed));
+  return canonicalDurations([...m.values()]);
 }
 
 /**
@@ -161,7 +162,8 @@ function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions,
         yield ages;
       }
     }
-    if (A <= WINDOW_MAX_AGE) {
+    // windows one age further than the analyses use, so that leaving out the last period stays exact
+    if (A <= WINDOW_MAX_AGE + 1) {
       const ext = cohortRowFromUsers(row.cohort, A, members());
       row.lastActiveAge = ext.lastActiveAge;
       row.windowActive = ext.windowActive;
@@ -170,5 +172,8 @@ function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions,
       for (const ages of members()) last[ages[ages.length - 1]]++;
       row.lastActiveAge = last;
     }
+    const before = new Array<number>(A).fill(0);
+    if (A > 0) for (const ages of members()) before[ages[ages.length - 1] < A ? ages[ages.length - 1] : ages[ages.length - 2]]++;
+    row.lastActiveAgeBeforeFinal = before;
   }
 }

@@ -47,6 +47,11 @@ export interface CohortRow {
    * Filled for cohorts observed over at most {@link WINDOW_MAX_AGE} ages; absent beyond.
    */
   windowActive?: number[][];
+  /**
+   * lastActiveAgeBeforeFinal[k]: members whose last active age up to A − 1 is k (length A). Only in a
+   * waist's full form, so that leaving out an incomplete last period stays exact (src/waist/derive.ts).
+   */
+  lastActiveAgeBeforeFinal?: number[];
 }
 
 /** Oldest age for which engines fill CohortRow.windowActive (it grows with the square of the ages). */
@@ -56,6 +61,8 @@ export const WINDOW_MAX_AGE = 60;
 export interface DurationRow {
   /** Group label ('' when ungrouped; the cohort label when grouped by cohort). */
   group: string;
+  /** The users' first active period; only in a waist's full form (src/waist/derive.ts merges it away). */
+  cohort?: string;
   /** Periods from first active to first dormant (observed) or to the end of the data (censored). */
   duration: number;
   /** 1 when the user reached dormant, 0 when right-censored. */

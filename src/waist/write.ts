@@ -1,0 +1,32 @@
+/** Write a waist folder: manifest.json and one CSV a table (see ./tables.ts). */
+import { mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { TidemarkError } from '../errors.js';
+import { waistCsv } from './csv.js';
+import { WAIST_TABLES, tablesToRows, type TableName } from './tables.js';
+import type { Waist } from './types.js';
+
+/** The files of a waist folder, name → text, in the order written. */
+export function waistFiles(w: Waist): Map<string, string> {
+  const arrival = w.manifest.states.filter((s) => s.role === 'arrival').map((s) => s.name);
+  const rows = tablesToRows(w.tables, arrival);
+  const files = new Map<string, string>();
+  files.set('manifest.json', `${JSON.stringify(w.manifest, null, 2)}\n`);
+  for (const name of Object.keys(WAIST_TABLES) as TableName[]) {
+    const spec = WAIST_TABLES[name];
+    files.set(spec.file, waistCsv(spec.columns, rows[name]));
+  }
+  return files;
+}
+
+/** Write the waist into `dir` (created if needed). Returns the file names written. */
+export function writeWaist(w: Waist, dir: string): string[] {
+  const files = waistFiles(w);
+  try {
+    mkdirSync(dir, { recursive: true });
+    for (const [name, text] of files) writeFileSync(join(dir, name), text);
+  } catch {
+    throw new TidemarkError('FILE_UNREADABLE', 'cannot write the waist folder', { file: dir }, 'Check that the folder is writable');
+  }
+  return [...files.keys()];
+}
