@@ -168,6 +168,8 @@ describe('control codes never reach the terminal raw', () => {
     expectClean(r);
     expect(r.code, r.err).toBe(0);
     expect(r.out.replace(/\n/g, '')).not.toMatch(RAW_CONTROL);
+    // the page and the Markdown are safe to print on a terminal too
+    for (const f of ['index.html', 'summary.md']) expect(readFileSync(join(out, f), 'utf8').replace(/\n/g, ''), f).not.toMatch(RAW_CONTROL);
   }, 60_000);
 
   it('in CSV data on standard output: escaped on a terminal, exact through a pipe', async () => {
