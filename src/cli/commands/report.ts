@@ -8,7 +8,7 @@ import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
 import { addEventOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, toCsv, type Format, wrapProse } from '../format.js';
+import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
 import type { Io } from '../io.js';
 import { progress } from '../progress.js';
@@ -73,7 +73,9 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
     bar.stop();
     note(io, o, rowLine(result.rows));
     note(io, o, `report: ${files.length} files in ${o.out} (open ${o.out}/index.html)`);
-    io.stdout(formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out));
+    const text = formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out);
+    // table text is escaped before it is coloured; CSV and JSON are escaped only on a terminal
+    io.stdout(o.format !== 'table' && io.stdoutIsTTY ? terminalText(text) : text);
   } finally {
     bar.stop();
   }
