@@ -103,8 +103,13 @@ export function replaceFolder(dir: string, files: ReadonlyMap<string, string | U
     }
   });
   guard(dir, 'the report folder', () => {
-    if (!st) return renameSync(fresh, target);
-    renameSync(target, aside);
+    try {
+      if (!st) return renameSync(fresh, target);
+      renameSync(target, aside);
+    } catch (err) {
+      rmSync(fresh, { recursive: true, force: true }); // another run moved DIR meanwhile, or DIR appeared
+      throw err;
+    }
     hooks.step?.('old set aside');
     try {
       renameSync(fresh, target);
