@@ -10,6 +10,7 @@ export type ErrorCode =
   | 'USAGE' // bad command-line usage (exit 2)
   | 'FILE_NOT_FOUND'
   | 'FILE_UNREADABLE'
+  | 'FILE_UNWRITABLE' // an output file or folder cannot be written (full disk, permissions…)
   | 'RULES_SYNTAX' // YAML does not parse
   | 'RULES_INVALID' // a value breaks the schema
   | 'RULES_UNKNOWN_KEY'

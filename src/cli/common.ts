@@ -6,7 +6,7 @@ import type { EventSource, RangeOptions } from '../engines/types.js';
 import type { RowAccount } from '../ingest/eventLog.js';
 import { loadRulesFile } from '../rules/load.js';
 import type { Rules } from '../rules/schema.js';
-import { FORMATS, type Format } from './format.js';
+import { FORMATS, terminalText, type Format } from './format.js';
 import type { Io } from './io.js';
 
 /** The packaged weekly rules, used when --rules is not given. */
@@ -98,6 +98,6 @@ export function rowLine(r: RowAccount): string {
 }
 
 export function note(io: Io, o: { quiet?: boolean }, text: string): void {
-  if (!o.quiet) io.stderr(`${text}\n`);
+  if (!o.quiet) io.stderr(`${terminalText(text)}\n`);
 }
 

@@ -12,6 +12,7 @@ import { ACTIVE_STATES } from '../lifecycle/states.js';
 import { aggregate, durationRows } from '../flows/aggregate.js';
 import { segmentCells } from '../flows/segments.js';
 import { activeAttribute, activeIndex } from '../lifecycle/attributes.js';
+import { checkSplitColumn } from '../lifecycle/perPerson.js';
 import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
 import { optionKey, resolveRange, type ResolvedRange } from '../periods/range.js';
 import type { Rules } from '../rules/schema.js';
@@ -32,6 +33,7 @@ interface Prepared {
 /** Run the heavy stage on an event log already in memory. */
 export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, maxUserPeriods = MAX_USER_PERIODS): Omit<Prepared, 'log'> {
   const scheme: PeriodScheme = log.scheme;
+  const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
   let minKey = Infinity, maxKey = -Infinity, maxWall = -Infinity;
   for (let i = 0; i < log.size; i++) {
     const k = log.period[i];
@@ -67,9 +69,9 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   if (range.by) {
     const attr = activeAttribute(log, range.by, active);
     const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount: ACTIVE_STATES.length, labels, firstFlow: r.outStart + warmup });
-    waist.segmentCells = { by: range.by, cells };
+    waist.segmentCells = { by: range.by, cells, perPerson: split?.perPerson };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
-    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf) };
+    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf), perPerson: split?.perPerson };
   }
   const lastKey = r.startKey + r.span - 1;
   const startMs = periodStartDay(lastKey, scheme) * DAY;

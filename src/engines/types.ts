@@ -25,6 +25,11 @@ export interface RangeOptions {
   warmup?: number;
   /** An attribute column to split retention cells by (WaistTables.segmentCells). */
   by?: string;
+  /**
+   * Split by `by` even when its values are nearly unique per user (lifecycle/perPerson.ts); without
+   * it such a column is refused. Sentences never name the values of such a column either way.
+   */
+  allowPerPersonColumn?: boolean;
 }
 
 /** How complete the last period is: the latest event's position in it, 0–1. */

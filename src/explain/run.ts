@@ -3,7 +3,7 @@
  * intervals and tests, the Kitagawa mix-versus-rate decomposition by prior state (and by tenure band,
  * and by an attribute when the waist has one), and one plain sentence. Pure: no I/O.
  */
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 import { periodHint } from '../periods/suggest.js';
 import type { RetentionCell, WaistTables } from '../flows/types.js';
 import type { KitagawaResult } from './kitagawa.js';
@@ -139,10 +139,12 @@ export function explainRetention(w: WaistTables, o: ExplainOptions): ExplainOutp
   if (w.segmentCells) {
     const cells = w.segmentCells.cells;
     const seg = decomposeRetention(cells, { ...opts, by: 'segment' });
-    const labels = Object.fromEntries(seg.groups.map((g) => [g.key, `${g.key} users`]));
+    // a value from the data enters the sentence escaped and shortened; a per-person column's never does
+    const labels = Object.fromEntries(seg.groups.map((g) => [g.key, `${showValue(g.key, 40)} users`]));
+    const unnamedGroups = Boolean(w.segmentCells.perPerson);
     out.bySegment = {
       by: w.segmentCells.by,
-      ...decomposition(seg, decompositionSentence(seg, { grain: o.grainWord, labels, behaviouralGroups: true })),
+      ...decomposition(seg, decompositionSentence(seg, { grain: o.grainWord, labels, behaviouralGroups: true, unnamedGroups })),
       changes: retentionChanges(collapseCells(cells, 'segment'), { ...opts, minN: o.minCell, q: o.q }),
       caution: 'Groups split by an attribute or behaviour show which groups go with staying; that is a correlation, not a cause. Test a change with an experiment before acting on it.',
     };

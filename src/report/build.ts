@@ -3,6 +3,7 @@
  * charts and data tables. Pure: no I/O (see write.ts for the files).
  */
 import type { EngineResult } from '../engines/types.js';
+import { showValue } from '../errors.js';
 import { cohortReport, type CohortsOutput } from '../explain/cohortReport.js';
 import { explainRetention, type ExplainOutput } from '../explain/run.js';
 import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
@@ -177,7 +178,8 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   const seg = chosenDoc?.bySegment;
   if (seg) {
     tables.push({
-      name: `by-${seg.by}`.replace(/[^A-Za-z0-9_-]/g, '_'), title: `Retention by ${seg.by}, ${chosenDoc!.base} to ${chosenDoc!.compare}`,
+      // a file name holds at most 255 bytes: keep the column's part short
+      name: `by-${seg.by}`.replace(/[^A-Za-z0-9_-]/g, '_').slice(0, 64), title: `Retention by ${showValue(seg.by, 40)}, ${chosenDoc!.base} to ${chosenDoc!.compare}`,
       note: `${seg.sentence} ${seg.caution}`,
       header: [seg.by, 'users before', 'retention before', 'users after', 'retention after', 'rate effect (pts)', 'mix effect (pts)'],
       formats: ['text', 'int', 'pct', 'int', 'pct', 'num', 'num'],

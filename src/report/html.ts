@@ -55,7 +55,7 @@ function cell(v: unknown, format: Parameters<typeof displayCell>[1]): string {
 }
 
 export function htmlTable(t: DataTable): string {
-  return `<div class="scroll"><table><thead><tr>${t.header.map((h) => `<th>${e(h)}</th>`).join('')}</tr></thead><tbody>${t.rows.map((r) => `<tr>${r.map((v, i) => cell(v, t.formats?.[i])).join('')}</tr>`).join('')}</tbody></table></div>`;
+  return `<div class="scroll"><table><thead><tr>${t.header.map((h) => `<th>${escapeShort(h, 48)}</th>`).join('')}</tr></thead><tbody>${t.rows.map((r) => `<tr>${r.map((v, i) => cell(v, t.formats?.[i])).join('')}</tr>`).join('')}</tbody></table></div>`;
 }
 
 /** The natural width of a rendered SVG, from its width attribute. */

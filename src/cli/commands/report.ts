@@ -8,12 +8,13 @@ import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
 import { addEventOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
-import { emit, json, toCsv, type Format, wrapProse } from '../format.js';
+import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
 import type { Io } from '../io.js';
 import { progress } from '../progress.js';
+import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
 
-export interface ReportCliOptions extends Omit<CommonOptions, 'out'> {
+export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonOption {
   out: string;
   base?: string;
   compare?: string;
@@ -25,12 +26,12 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'> {
 }
 
 /** What a report run reads: the event source and range options, an attribute to split by, and whether to keep a partial last period. */
-export type ReportRunOptions = Pick<CommonOptions, 'events' | 'from' | 'to' | 'warmup' | 'skipBadRows' | 'inputFormat'> & { by?: string; includePartial?: boolean };
+export type ReportRunOptions = Pick<CommonOptions, 'events' | 'from' | 'to' | 'warmup' | 'skipBadRows' | 'inputFormat'> & PerPersonOption & { by?: string; includePartial?: boolean };
 
 /** The engine run the report reads: the last period left out when the data stop partway through it. */
 export async function reportRun(o: ReportRunOptions, rules: Rules, onStage?: (label: string) => void): Promise<{ result: EngineResult; dropped?: string }> {
   const engine = new MemoryEngine();
-  const range = { ...rangeOf(o), by: o.by };
+  const range = { ...rangeOf(o), by: o.by, allowPerPersonColumn: o.publishPerPersonValues };
   onStage?.('reading and classifying');
   const result = await engine.run(sourceOf(o), rules, range);
   const lp = result.lastPeriod;
@@ -47,9 +48,10 @@ export async function reportRun(o: ReportRunOptions, rules: Rules, onStage?: (la
 /** Headline findings for the terminal, with state names in their report colours on a colour terminal. */
 export function headline(m: ReportModel, colour: boolean): string {
   const paint = (t: string) => (colour ? STATES.reduce((acc, s) => acc.replace(new RegExp(`\\b${s}\\b`, 'g'), ansiState(s, s, true)), t) : t);
-  const lines = [m.title, m.subtitle, '', ...m.findings.map((f) => `* ${paint(f.text)}`)];
+  const lines = [m.title, m.subtitle, '', ...m.findings.map((f) => `* ${f.text}`)];
   if (m.warnings.length) lines.push('', ...m.warnings.map((w) => `! ${w}`));
-  return wrapProse(`${lines.join('\n')}\n`);
+  // escape and wrap first (data never drives the terminal), then colour the state names
+  return paint(wrapProse(`${lines.join('\n')}\n`));
 }
 
 export function formatHeadline(m: ReportModel, format: Format, colour: boolean, files: string[], dir: string): string {
@@ -71,7 +73,9 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
     bar.stop();
     note(io, o, rowLine(result.rows));
     note(io, o, `report: ${files.length} files in ${o.out} (open ${o.out}/index.html)`);
-    io.stdout(formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out));
+    const text = formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out);
+    // table text is escaped before it is coloured; CSV and JSON are escaped only on a terminal
+    io.stdout(o.format !== 'table' && io.stdoutIsTTY ? terminalText(text) : text);
   } finally {
     bar.stop();
   }
@@ -84,10 +88,11 @@ export function reportCommand(program: Command, io: Io): void {
     .requiredOption('--out <dir>', 'folder to write the report into')
     .option('--base <period>', 'base period of the chosen comparison, a period retained into (default: four periods before --compare)')
     .option('--compare <period>', 'compared period of the chosen comparison (default: the latest)')
-    .option('--by <column>', 'also split retention by this attribute column')
+    .option('--by <column>', 'also split retention by this attribute column (refused when its values are nearly unique per user)')
     .option('--horizon <n>', 'periods to project ahead', '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')
     .option('--include-partial', 'keep an incomplete last period in the rates')
     .addOption(new Option('--format <format>', 'format of the headline findings on standard output').choices(['table', 'csv', 'json']).default('table'));
+  addPerPersonOption(cmd);
   addEventOptions(cmd).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
 }

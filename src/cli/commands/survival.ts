@@ -9,8 +9,10 @@ import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../surviva
 import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
+import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
+import { showValue } from '../../errors.js';
 
-export interface SurvivalCliOptions extends Omit<CommonOptions, 'events'> {
+export interface SurvivalCliOptions extends Omit<CommonOptions, 'events'>, PerPersonOption {
   events?: string[];
   durations?: string;
   by: string;
@@ -21,7 +23,7 @@ export function formatSurvival(s: SurvivalOutput, format: Format): string {
   if (format === 'json') return json(s);
   const rows = s.groups.flatMap((g) => g.points.map((p) => [g.group, p.t, p.survival, p.atRisk, p.events, p.se, p.lower, p.upper]));
   if (format === 'csv') return toCsv(['group', 't', 'survival', 'at_risk', 'events', 'se', 'lower95', 'upper95'], rows);
-  const out = [`Kaplan-Meier: ${s.measure}, by ${s.groupedBy} (censored at the end of the data)`];
+  const out = [`Kaplan-Meier: ${s.measure}, by ${showValue(s.groupedBy, 40)} (censored at the end of the data)`];
   out.push(textTable(['group', 'users', 'reached', 'median', 'S(1)', 'S(4)', 'S(8)'], s.groups.map((g) => {
     const at = (t: number) => {
       const p = [...g.points].reverse().find((q) => q.t <= t);
@@ -53,7 +55,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --durations', { key: '--events' }, 'See tidemark survival --help');
     const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
     const rules = resolveRules(o as CommonOptions);
-    const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, { ...rangeOf(o as CommonOptions), by: column });
+    const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, { ...rangeOf(o as CommonOptions), by: column, allowPerPersonColumn: o.publishPerPersonValues });
     note(io, o, rowLine(r.rows));
     rows = column ? r.waist.segmentDurations!.rows : r.waist.durations;
     if (o.by === 'none') rows = rows.map((x) => ({ ...x, group: 'all' }));
@@ -69,8 +71,9 @@ export function survivalCommand(program: Command, io: Io): void {
     .description('Kaplan-Meier curves of the time from first active to first dormant, with the log-rank test across groups')
     .option('--events <files...>', 'event log(s): CSV or NDJSON')
     .option('--durations <file>', 'durations computed elsewhere: CSV with duration, observed (1/0) and an optional group column')
-    .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period)', 'none')
+    .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period; refused when its values are nearly unique per user)', 'none')
     .option('--merge <k>', 'with --by cohort: pool k consecutive cohorts into one curve', '1');
+  addPerPersonOption(cmd);
   addEventOptions(cmd, false);
   addFormatOptions(cmd, 'table').action((opts: SurvivalCliOptions) => runSurvival(opts, io));
 }
