@@ -25,6 +25,7 @@ export { periodKeyOfDay, periodLabel, periodStartDay, type PeriodScheme } from '
 export { STATES, ACTIVE_STATES, type StateName } from './lifecycle/states.js';
 export { lifecycleMachine } from './lifecycle/machine.js';
 export { compilePlan, type LifecyclePlan } from './lifecycle/plan.js';
+export { lifecycleMoves, type LifecycleMoves, type Move } from './lifecycle/moves.js';
 
 // Engines and the waist tables
 export { MemoryEngine, runOnLog } from './engines/memory.js';

@@ -157,8 +157,8 @@ export function partialSentence(result: Pick<EngineResult, 'lastPeriod' | 'rows'
   const f = (n: number) => n.toLocaleString('en-US');
   const looks = `The last period, ${lp.label}, looks incomplete (the data stop ${(lp.coverage * 100).toFixed(0)}% of the way through it)`;
   if (lp.leftOut) return `${looks}, so it is left out of every rate (${f(result.rows.partial)} rows); pass --include-partial to keep it.`;
-  const why = range.partial === 'drop' ? 'too few periods remain to leave it out' : 'kept as asked';
-  return `${looks}; it is kept (${why}), so its rates miss users who may still be active later in it.`;
+  const why = range.partial === 'drop' ? 'as too few periods would remain without it' : 'as asked';
+  return `${looks}; it is kept, ${why}, so its rates miss users who may still be active later in it.`;
 }
 
 /** The note on stderr about an incomplete last period. */
