@@ -49,10 +49,10 @@ export class TidemarkError extends Error {
     return this.code === 'USAGE' ? 2 : 1;
   }
 
-  /** One line: `file:line: column/key: message (hint)`. */
+  /** One line: `file:line: column/key: message (hint)`; a command-line flag as key is shown as itself (`--fit: …`). */
   oneLine(): string {
     const w = this.where;
-    const place = [w.file && (w.line ? `${w.file}:${w.line}` : w.file), w.column && `column ${w.column}`, w.key && `key ${w.key}`]
+    const place = [w.file && (w.line ? `${w.file}:${w.line}` : w.file), w.column && `column ${w.column}`, w.key && (w.key.startsWith('--') ? w.key : `key ${w.key}`)]
       .filter(Boolean)
       .join(', ');
     const text = place ? `${place}: ${this.message}` : this.message;

@@ -26,6 +26,7 @@ export { STATES, ACTIVE_STATES, type StateName } from './lifecycle/states.js';
 export { lifecycleMachine } from './lifecycle/machine.js';
 export { compilePlan, type LifecyclePlan } from './lifecycle/plan.js';
 export { columnUniqueness, perPersonColumns, checkSplitColumn, PER_PERSON_SHARE, PER_PERSON_MIN_USERS, type ColumnUniqueness } from './lifecycle/perPerson.js';
+export { lifecycleMoves, type LifecycleMoves, type Move } from './lifecycle/moves.js';
 
 // Engines and the waist tables
 export { MemoryEngine, runOnLog } from './engines/memory.js';

@@ -34,20 +34,25 @@ interface Prepared {
 export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, maxUserPeriods = MAX_USER_PERIODS): Omit<Prepared, 'log'> {
   const scheme: PeriodScheme = log.scheme;
   const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
-  let minKey = Infinity, maxKey = -Infinity, maxWall = -Infinity;
+  let minKey = Infinity, maxKey = -Infinity;
   for (let i = 0; i < log.size; i++) {
     const k = log.period[i];
     if (k < minKey) minKey = k;
     if (k > maxKey) maxKey = k;
-    if (log.wallMs[i] > maxWall) maxWall = log.wallMs[i];
   }
-  const fromKey = optionKey(range.from, scheme, '--from');
-  const toKey = optionKey(range.to, scheme, '--to');
-  const r = resolveRange(minKey, maxKey, fromKey, toKey, (k) => periodLabel(k, scheme));
+  const fromKey = optionKey(range.from, scheme, 'from');
+  const toKey = optionKey(range.to, scheme, 'to');
+  let r = resolveRange(minKey, maxKey, fromKey, toKey, (k) => periodLabel(k, scheme));
   const warmup = range.warmup ?? rules.warmup;
+  const last = lastPeriodOf(log, r.startKey + r.span - 1, scheme);
   const outPeriods = r.span - r.outStart;
-  if (warmup >= outPeriods) {
-    throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${outPeriods})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
+  // an incomplete last period is left out when asked, if two periods remain and one of them is past the warm-up
+  const leaveOut = range.partial === 'drop' && !last.complete && outPeriods >= 3 && outPeriods - 1 > warmup;
+  if (leaveOut) r = { ...r, span: r.span - 1 };
+  const rowAccount = { ...log.rows, used: log.rows.used - (leaveOut ? last.rows : 0), partial: leaveOut ? last.rows : 0 };
+  const lastPeriod: LastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete, leftOut: leaveOut };
+  if (warmup >= r.span - r.outStart) {
+    throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${r.span - r.outStart})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
   }
   const labels = Array.from({ length: r.span }, (_, i) => periodLabel(r.startKey + i, scheme));
   const plan = compilePlan(rules);
@@ -73,17 +78,32 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf), perPerson: split?.perPerson };
   }
-  const lastKey = r.startKey + r.span - 1;
-  const startMs = periodStartDay(lastKey, scheme) * DAY;
-  const endMs = periodEndDay(lastKey, scheme) * DAY;
-  const coverage = Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));
-  const lastPeriod: LastPeriod = { label: labels[r.span - 1], coverage, complete: maxWall >= endMs - (endMs - startMs) / 7 };
   let users = 0;
   for (let u = 0; u < classified.firstActive.length; u++) if (classified.firstActive[u] >= 0) users++;
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
   const events = [...log.eventNames].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));
   const attributes = log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 }));
-  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, users, events, attributes } };
+  return { range: r, labels, classified, result: { waist, rows: rowAccount, lastPeriod, users, events, attributes } };
+}
+
+/**
+ * How complete the period `lastKey` is: the latest event in it, as a share of the period's wall-clock
+ * length. Complete when that event lies in the period's last seventh, or when later events exist (in the
+ * log, or dropped at reading as after --to): then the data did not stop there. `rows` counts its events.
+ */
+function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { label: string; coverage: number; complete: boolean; rows: number } {
+  let maxWall = -Infinity, rows = 0, later = log.rows.afterRange > 0;
+  for (let i = 0; i < log.size; i++) {
+    const k = log.period[i];
+    if (k === lastKey) {
+      rows++;
+      if (log.wallMs[i] > maxWall) maxWall = log.wallMs[i];
+    } else if (k > lastKey) later = true;
+  }
+  const startMs = periodStartDay(lastKey, scheme) * DAY;
+  const endMs = periodEndDay(lastKey, scheme) * DAY;
+  const coverage = later ? 1 : Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));
+  return { label: periodLabel(lastKey, scheme), coverage, complete: later || maxWall >= endMs - (endMs - startMs) / 7, rows };
 }
 
 export class MemoryEngine implements Engine {
@@ -91,7 +111,7 @@ export class MemoryEngine implements Engine {
 
   private async prepare(source: EventSource, rules: Rules, range: RangeOptions): Promise<Prepared> {
     const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
-    const toKey = optionKey(range.to, scheme, '--to');
+    const toKey = optionKey(range.to, scheme, 'to');
     const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter });
     return { log, ...runOnLog(log, rules, range) };
   }

@@ -93,9 +93,9 @@ function decomposition(r: KitagawaResult, sentence: string): Decomposition {
   };
 }
 
-function checkPeriod(label: string, periods: string[], option: string): void {
+function checkPeriod(label: string, periods: string[], key: 'base' | 'compare'): void {
   if (!periods.includes(label)) {
-    throw new TidemarkError('RANGE_INVALID', `${label} is not a period retained into`, { key: option }, periodHint(label, periods));
+    throw new TidemarkError('RANGE_INVALID', `${showValue(label)} is not a period retained into`, { key }, periodHint(label, periods));
   }
 }
 
@@ -109,10 +109,10 @@ export function explainRetention(w: WaistTables, o: ExplainOptions): ExplainOutp
     throw new TidemarkError('NOT_ENOUGH_DATA', `explaining a change needs two periods retained into; the data have ${into.length}`, {}, 'Use a longer event log');
   }
   const compare = o.compare ?? into[into.length - 1];
-  checkPeriod(compare, into, '--compare');
+  checkPeriod(compare, into, 'compare');
   const base = o.base ?? into[into.indexOf(compare) - 1];
-  if (base === undefined) throw new TidemarkError('RANGE_INVALID', `no period before ${compare} to compare with`, { key: '--base' }, 'Give --base');
-  checkPeriod(base, into, '--base');
+  if (base === undefined) throw new TidemarkError('RANGE_INVALID', `no period before ${compare} to compare with`, { key: 'base' }, 'Name the base period');
+  checkPeriod(base, into, 'base');
   const byStateCells = collapseCells(w.tenureCells, 'state');
   const opts = { base, compare };
   const main = decomposeRetention(byStateCells, { ...opts, by: 'state' });

@@ -21,12 +21,14 @@ export type RejectReason =
   | 'not valid JSON'
   | 'unclosed quote';
 
-/** Where every input row went. read = used + notKeyEvent + afterRange + Σ rejected. */
+/** Where every input row went. read = used + notKeyEvent + afterRange + partial + Σ rejected. */
 export interface RowAccount {
   read: number;
   used: number;
   notKeyEvent: number;
   afterRange: number;
+  /** Rows of an incomplete last period that the engine left out (RangeOptions.partial 'drop'). */
+  partial: number;
   rejected: Partial<Record<RejectReason, number>>;
   /** Blank lines, not counted as rows. */
   blankLines: number;
@@ -74,7 +76,7 @@ export interface BuilderOptions {
 
 /** Accumulates rows into an {@link EventLog}. */
 export class EventLogBuilder {
-  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, rejected: {}, blankLines: 0 };
+  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, blankLines: 0 };
   private readonly user = new GrowableInt32();
   private readonly period = new GrowableInt32();
   private readonly wall = new GrowableFloat64();

@@ -19,7 +19,7 @@ export function activeAttribute(log: EventLog, name: string, active: ActivePerio
   const col = log.attributes.find((a) => a.name === name);
   if (!col) {
     const names = log.attributes.map((a) => a.name);
-    throw new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(name, 40)}' to split by`, { key: '--by' },
+    throw new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(name, 40)}' to split by`, { key: 'by' },
       suggestion(name, names) ?? (names.length ? `Columns you can split by: ${names.map((n) => showValue(n, 40)).join(', ')}` : 'The events have no extra columns'));
   }
   const { span, startKey } = active;

@@ -45,7 +45,7 @@ export function columnUniqueness(log: EventLog, column: string): ColumnUniquenes
   const col = log.attributes.find((a) => a.name === column);
   if (!col) {
     const names = log.attributes.map((a) => a.name);
-    throw new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(column, 40)}' to split by`, { key: '--by' },
+    throw new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(column, 40)}' to split by`, { key: 'by' },
       suggestion(column, names) ?? (names.length ? `Columns you can split by: ${names.map((n) => showValue(n, 40)).join(', ')}` : 'The events have no extra columns'));
   }
   // owner[v]: the one user seen with value v so far, -1 none yet, -2 two or more users
@@ -86,7 +86,7 @@ export function checkSplitColumn(log: EventLog, column: string, allow = false): 
   if (u.perPerson && !allow) {
     throw new TidemarkError('INPUT_INVALID',
       `column '${showValue(column, 40)}' looks like a per-person column: ${u.usersWithOwnValue.toLocaleString('en-US')} of ${u.usersWithValue.toLocaleString('en-US')} users (${Math.round(u.share! * 100)}%) hold a value no other user holds, so splitting by it would publish one value per person`,
-      { key: '--by' },
+      { column },
       `Split by a column that groups users (plan, region), or pass ${PER_PERSON_FLAG} to split by it anyway`);
   }
   return u;

@@ -17,7 +17,7 @@ export interface SurvivalOutput {
 
 /** Merge consecutive cohort labels into blocks of `size` (labelled by the block's first cohort). */
 export function mergeCohorts(rows: readonly DurationRow[], size: number): DurationRow[] {
-  if (!(Number.isInteger(size) && size >= 1)) throw new TidemarkError('USAGE', `--merge must be a whole number ≥ 1, not ${size}`, { key: '--merge' });
+  if (!(Number.isInteger(size) && size >= 1)) throw new TidemarkError('INPUT_INVALID', `cohorts are merged in blocks of a whole number ≥ 1, not ${size}`, { key: 'size' });
   const labels = [...new Set(rows.map((r) => r.group))].sort();
   const blockOf = new Map(labels.map((l, i) => [l, labels[i - (i % size)]]));
   const m = new Map<string, DurationRow>();

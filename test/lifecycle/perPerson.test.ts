@@ -131,7 +131,7 @@ describe('checkSplitColumn(log, column, allow)', () => {
     const e = err as TidemarkError;
     expect(e.code).toBe('INPUT_INVALID');
     expect(e.exitCode).toBe(1);
-    expect(e.where.key).toBe('--by');
+    expect(e.where.column).toBe('email');
     expect(e.oneLine()).toMatch(/column 'email'.*40 of 40 users \(100%\)/);
     expect(e.oneLine()).toContain(PER_PERSON_FLAG);
   });

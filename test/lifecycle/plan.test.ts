@@ -6,9 +6,16 @@ import { compilePlan } from '../../src/lifecycle/plan.js';
 
 const NAMES = ['unseen', 'fresh', 'engaged', 'returned', 'lapsing', 'dormant'];
 
+// One plan and one machine per lapse limit, built once: compiling them for each of the 400 random
+// paths made this file take seconds on a busy machine. The walks themselves are unchanged.
+const plans = new Map<number, ReturnType<typeof compilePlan>>();
+const machines = new Map<number, ReturnType<typeof lifecycleMachine>>();
+const planFor = (L: number) => plans.get(L) ?? plans.set(L, compilePlan({ lapseLimit: L })).get(L)!;
+const machineFor = (L: number) => machines.get(L) ?? machines.set(L, lifecycleMachine({ lapseLimit: L })).get(L)!;
+
 /** Walk a sequence through the tabulated plan. */
 function walkPlan(lapseLimit: number, seq: boolean[]): string[] {
-  const p = compilePlan({ lapseLimit });
+  const p = planFor(lapseLimit);
   let cur = 0;
   return seq.map((a) => {
     cur = p.next[cur * 2 + (a ? 1 : 0)];
@@ -18,7 +25,7 @@ function walkPlan(lapseLimit: number, seq: boolean[]): string[] {
 
 /** Walk the same sequence through the xstate machine itself. */
 function walkMachine(lapseLimit: number, seq: boolean[]): string[] {
-  const m = lifecycleMachine({ lapseLimit });
+  const m = machineFor(lapseLimit);
   let [snap] = initialTransition(m);
   return seq.map((active) => {
     [snap] = transition(m, snap, { type: 'PERIOD', active });

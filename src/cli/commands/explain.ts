@@ -1,9 +1,9 @@
 /** `tidemark explain`: why retention moved between two periods — mix versus rate, with intervals. */
 import type { Command } from 'commander';
-import { MemoryEngine } from '../../engines/memory.js';
 import { explainRetention, type Decomposition, type ExplainOutput } from '../../explain/run.js';
 import type { RetentionChange } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { asFlags, dateOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
@@ -58,10 +58,14 @@ export function formatExplain(e: ExplainOutput, format: Format): string {
 
 export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const r = await new MemoryEngine().run(sourceOf(o), rules, { ...rangeOf(o), by: o.by, allowPerPersonColumn: o.publishPerPersonValues });
+  const base = dateOption(o.base, '--base');
+  const compare = dateOption(o.compare, '--compare');
+  const run = eventRun(o, rules, true, o.by);
+  const r = await runEngine(run, rules);
   note(io, o, rowLine(r.rows));
-  const e = explainRetention(r.waist, { base: o.base, compare: o.compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
-  emit(formatExplain(e, o.format), o.out, io);
+  notePartial(io, o, r, run.range);
+  const e = asFlags(() => explainRetention(r.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell }), { base: '--base', compare: '--compare' }, periodFlagHint(r, rules, { base, compare }));
+  emit(formatExplain({ ...e, ...partialJson(r) }, o.format), o.out, io);
 }
 
 export function explainCommand(program: Command, io: Io): void {
@@ -72,5 +76,5 @@ export function explainCommand(program: Command, io: Io): void {
     .option('--compare <period>', 'compared period (default: the latest)')
     .option('--by <column>', 'also decompose over an attribute column (plan, region, channel…), by the user\'s value in the earlier period (refused when its values are nearly unique per user)');
   addPerPersonOption(cmd);
-  addFormatOptions(addEventOptions(cmd), 'table').action((opts: ExplainCliOptions) => runExplain(opts, io));
+  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: ExplainCliOptions) => runExplain(opts, io));
 }

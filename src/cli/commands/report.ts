@@ -1,13 +1,14 @@
 /** `tidemark report`: the Monday report — one self-contained HTML page, Markdown, and data files. */
 import type { Command } from 'commander';
-import { MemoryEngine } from '../../engines/memory.js';
 import type { EngineResult } from '../../engines/types.js';
 import { buildReport, type ReportModel } from '../../report/build.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addPartialOption, eventRun, note, partialSentence, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { asFlags, dateOption, seedOption, wholeNumber } from '../options.js';
+import { MAX_HORIZON } from './project.js';
 import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
 import type { Io } from '../io.js';
@@ -26,23 +27,17 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
 }
 
 /** What a report run reads: the event source and range options, an attribute to split by, and whether to keep a partial last period. */
-export type ReportRunOptions = Pick<CommonOptions, 'events' | 'from' | 'to' | 'warmup' | 'skipBadRows' | 'inputFormat'> & PerPersonOption & { by?: string; includePartial?: boolean };
+export type ReportRunOptions = Pick<CommonOptions, 'events' | 'from' | 'to' | 'warmup' | 'skipBadRows' | 'inputFormat' | 'delimiter' | 'userColumn' | 'timestampColumn' | 'eventColumn'> & PerPersonOption & { by?: string; includePartial?: boolean };
 
-/** The engine run the report reads: the last period left out when the data stop partway through it. */
+/**
+ * The engine run the report reads, reading the input once: an incomplete last period is left out by
+ * the engine (unless --include-partial), and `dropped` says so (or why it was kept).
+ */
 export async function reportRun(o: ReportRunOptions, rules: Rules, onStage?: (label: string) => void): Promise<{ result: EngineResult; dropped?: string }> {
-  const engine = new MemoryEngine();
-  const range = { ...rangeOf(o), by: o.by, allowPerPersonColumn: o.publishPerPersonValues };
+  const run = eventRun({ format: 'table', ...o } as CommonOptions, rules, true, o.by);
   onStage?.('reading and classifying');
-  const result = await engine.run(sourceOf(o), rules, range);
-  const lp = result.lastPeriod;
-  const periods = result.waist.periods;
-  if (lp.complete || o.includePartial || periods.length < 3) return { result };
-  onStage?.('leaving out the incomplete last period');
-  const again = await engine.run(sourceOf(o), rules, { ...range, to: periods[periods.length - 2] });
-  return {
-    result: { ...again, rows: result.rows },
-    dropped: `The last period, ${lp.label}, looks incomplete (the data stop ${(lp.coverage * 100).toFixed(0)}% of the way through it), so it is left out of every rate and chart; pass --include-partial to keep it.`,
-  };
+  const result = await runEngine(run, rules);
+  return { result, dropped: partialSentence(result, run.range) };
 }
 
 /** Headline findings for the terminal, with state names in their report colours on a colour terminal. */
@@ -62,12 +57,16 @@ export function formatHeadline(m: ReportModel, format: Format, colour: boolean, 
 
 export async function runReport(o: ReportCliOptions & { format: Format }, io: Io & { stdoutIsTTY?: boolean }): Promise<void> {
   const rules = resolveRules(o as CommonOptions);
+  const base = dateOption(o.base, '--base');
+  const compare = dateOption(o.compare, '--compare');
+  const horizon = wholeNumber(o.horizon, '--horizon', 1, MAX_HORIZON);
+  const seed = seedOption(o.seed);
   const bar = progress(io, o.format !== 'json', 4);
   let stage = 0;
   try {
     const { result, dropped } = await reportRun(o, rules, (label) => bar.step(label, stage++));
     bar.step('analysing', 2);
-    const model = buildReport(result, rules, { base: o.base, compare: o.compare, horizon: intOption(o.horizon, '--horizon', 1), seed: intOption(o.seed, '--seed', 0), droppedPartial: dropped });
+    const model = asFlags(() => buildReport(result, rules, { base, compare, horizon, seed, droppedPartial: dropped }), { base: '--base', compare: '--compare' }, periodFlagHint(result, rules, { base, compare }));
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
@@ -89,10 +88,9 @@ export function reportCommand(program: Command, io: Io): void {
     .option('--base <period>', 'base period of the chosen comparison, a period retained into (default: four periods before --compare)')
     .option('--compare <period>', 'compared period of the chosen comparison (default: the latest)')
     .option('--by <column>', 'also split retention by this attribute column (refused when its values are nearly unique per user)')
-    .option('--horizon <n>', 'periods to project ahead', '12')
+    .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')
-    .option('--include-partial', 'keep an incomplete last period in the rates')
     .addOption(new Option('--format <format>', 'format of the headline findings on standard output').choices(['table', 'csv', 'json']).default('table'));
   addPerPersonOption(cmd);
-  addEventOptions(cmd).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
+  addPartialOption(addEventOptions(cmd)).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
 }
