@@ -1,8 +1,8 @@
 /** Options shared by the commands that read events. */
 import { fileURLToPath } from 'node:url';
 import { Command, Option } from 'commander';
-import { TidemarkError, suggestion } from '../errors.js';
-import type { EventSource, RangeOptions } from '../engines/types.js';
+import { TidemarkError, escapeControls, suggestion } from '../errors.js';
+import type { EngineResult, EventSource, RangeOptions } from '../engines/types.js';
 import type { RowAccount } from '../ingest/eventLog.js';
 import { loadRulesFile } from '../rules/load.js';
 import type { Rules } from '../rules/schema.js';
@@ -99,5 +99,11 @@ export function rowLine(r: RowAccount): string {
 
 export function note(io: Io, o: { quiet?: boolean }, text: string): void {
   if (!o.quiet) io.stderr(`${text}\n`);
+}
+
+/** After an engine run: the row accounting (unless --quiet), then each data warning (always), on standard error. */
+export function noteRun(io: Io, o: { quiet?: boolean }, r: Pick<EngineResult, 'rows' | 'warnings'>): void {
+  note(io, o, rowLine(r.rows));
+  for (const w of r.warnings) io.stderr(`warning: ${escapeControls(w)}\n`);
 }
 

@@ -82,6 +82,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   const documents: ReportModel['documents'] = [{ name: 'flows', value: { ...flows, rows: result.rows, lastPeriod: result.lastPeriod } }];
   const last = flows.transitions[flows.transitions.length - 1];
 
+  warnings.push(...result.warnings);
   if (o.droppedPartial) warnings.push(o.droppedPartial);
   if (w.warmup > 0) warnings.push(`The first ${w.warmup} ${grainWord}${w.warmup > 1 ? 's' : ''} (${w.periods.slice(0, w.warmup).join(', ')}) are a warm-up: classified, but left out of flows and retention.`);
   const censoring = leftCensoringHint(flows, grainWord);

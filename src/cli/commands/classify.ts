@@ -2,7 +2,7 @@
 import type { Command } from 'commander';
 import { MemoryEngine } from '../../engines/memory.js';
 import type { ClassifiedRow } from '../../engines/types.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, textTable, toCsv, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -15,7 +15,7 @@ export function formatClassified(rows: ClassifiedRow[], format: Format): string 
 export async function runClassify(o: CommonOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const { rows, result } = await new MemoryEngine().classify(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(result.rows));
+  noteRun(io, o, result);
   note(io, o, 'note: this output holds user ids: it is personal data; share it only as your privacy rules allow');
   emit(formatClassified(rows, o.format), o.out, io);
 }

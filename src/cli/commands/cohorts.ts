@@ -4,7 +4,7 @@ import { Option } from 'commander';
 import { TidemarkError } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
 import { cohortReport, type CohortsOutput } from '../../explain/cohortReport.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -52,7 +52,7 @@ export function formatCohorts(c: CohortsOutput, format: Format): string {
 export async function runCohorts(o: CohortsCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const r = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(r.rows));
+  noteRun(io, o, r);
   const c = cohortReport(r.waist.cohorts, { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group, minN: rules.minCell });
   emit(formatCohorts(c, o.format), o.out, io);
 }

@@ -4,7 +4,7 @@ import { fitSbg, type SbgFit } from '../../curve/sbg.js';
 import { TidemarkError } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
 import { cohortSurvivors } from '../../curve/survivors.js';
-import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, intOption, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -49,7 +49,7 @@ export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {
     if (!o.events) throw new TidemarkError('USAGE', 'give --alive n0,n1,… or --events', { key: '--alive' }, 'See tidemark curve --help');
     const rules = resolveRules(o as CommonOptions);
     const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, rangeOf(o as CommonOptions));
-    note(io, o, rowLine(r.rows));
+    noteRun(io, o, r);
     inputs = cohortSurvivors(r.waist, rules.lapseLimit);
   }
   const out: CurveOutput = { model, fits: [], skipped: [] };

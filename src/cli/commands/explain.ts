@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { MemoryEngine } from '../../engines/memory.js';
 import { explainRetention, type Decomposition, type ExplainOutput } from '../../explain/run.js';
 import type { RetentionChange } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
@@ -56,7 +56,7 @@ export function formatExplain(e: ExplainOutput, format: Format): string {
 export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const r = await new MemoryEngine().run(sourceOf(o), rules, { ...rangeOf(o), by: o.by });
-  note(io, o, rowLine(r.rows));
+  noteRun(io, o, r);
   const e = explainRetention(r.waist, { base: o.base, compare: o.compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
   emit(formatExplain(e, o.format), o.out, io);
 }

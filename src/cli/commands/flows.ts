@@ -4,7 +4,7 @@ import { MemoryEngine } from '../../engines/memory.js';
 import type { EngineResult } from '../../engines/types.js';
 import { summariseFlows, type FlowsSummary } from '../../flows/summary.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -81,7 +81,7 @@ function flowsTable(f: FlowsOutput): string {
 export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const result = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(result.rows));
+  noteRun(io, o, result);
   emit(formatFlows(flowsOutput(result, rules, o.pool), o.format), o.out, io);
 }
 

@@ -7,7 +7,7 @@ import { Option, type Command } from 'commander';
 import { TidemarkError, inFile } from '../../errors.js';
 import { MemoryEngine } from '../../engines/memory.js';
 import { computeProjection, type ProjectOutput } from '../../markov/run.js';
-import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, intOption, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -113,7 +113,7 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
     if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --matrix', { key: '--events' }, 'See tidemark project --help');
     const rules = resolveRules(o as CommonOptions);
     const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, rangeOf(o as CommonOptions));
-    note(io, o, rowLine(r.rows));
+    noteRun(io, o, r);
     result = computeProjection({ tables: r.waist }, common);
   }
   emit(formatProjection(result, o.format), o.out, io);

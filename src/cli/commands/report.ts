@@ -7,7 +7,7 @@ import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, intOption, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
 import type { Io } from '../io.js';
@@ -69,7 +69,7 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
-    note(io, o, rowLine(result.rows));
+    noteRun(io, o, result);
     note(io, o, `report: ${files.length} files in ${o.out} (open ${o.out}/index.html)`);
     io.stdout(formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out));
   } finally {

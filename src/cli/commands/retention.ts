@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { MemoryEngine } from '../../engines/memory.js';
 import { collapseCells } from '../../explain/run.js';
 import { retentionRates, type RetentionRate } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -31,7 +31,7 @@ export function formatRetention(rows: RetentionRate[], format: Format, split: bo
 export async function runRetention(o: RetentionCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const r = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(r.rows));
+  noteRun(io, o, r);
   const cells = o.tenure ? r.waist.tenureCells : collapseCells(r.waist.tenureCells, 'state');
   emit(formatRetention(retentionRates(cells, { minN: rules.minCell }), o.format, Boolean(o.tenure), rules.minCell), o.out, io);
 }

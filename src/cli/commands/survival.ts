@@ -6,7 +6,7 @@ import { MemoryEngine } from '../../engines/memory.js';
 import type { DurationRow } from '../../flows/types.js';
 import { parseDurationsCsv } from '../../survival/durations.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../survival/run.js';
-import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, intOption, note, noteRun, rangeOf, resolveRules, sourceOf, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -54,7 +54,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
     const rules = resolveRules(o as CommonOptions);
     const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, { ...rangeOf(o as CommonOptions), by: column });
-    note(io, o, rowLine(r.rows));
+    noteRun(io, o, r);
     rows = column ? r.waist.segmentDurations!.rows : r.waist.durations;
     if (o.by === 'none') rows = rows.map((x) => ({ ...x, group: 'all' }));
     if (o.by === 'cohort') rows = mergeCohorts(rows, intOption(o.merge, '--merge', 1));
