@@ -31,6 +31,12 @@ export const RULES_BOUNDS = {
 
 const fmt = (n: number) => n.toLocaleString('en-US');
 
+/** A whole number in [min, max]; every refusal (wrong type, NaN, Infinity, fraction, out of range) says so in one message. */
+function wholeNumber(what: string, min: number, max: number, unit: string) {
+  const message = `${what} must be a whole number from ${fmt(min)} to ${fmt(max)} ${unit}`;
+  return z.number({ error: message }).int(message).min(min, message).max(max, message);
+}
+
 const eventName = z.string().min(1, 'an event name must not be empty');
 const columnName = z.string().min(1, 'a column name must not be empty');
 
@@ -41,11 +47,7 @@ export const activitySchema = z
       .min(1, 'list at least one event name, or leave keyEvents out to count every event')
       .optional()
       .describe('Event names that count toward activity. Omitted: every event counts.'),
-    minEvents: z
-      .number()
-      .int('minEvents must be a whole number')
-      .min(1, 'minEvents must be at least 1')
-      .max(RULES_BOUNDS.minEvents, `minEvents must be at most ${fmt(RULES_BOUNDS.minEvents)} events`)
+    minEvents: wholeNumber('minEvents', 1, RULES_BOUNDS.minEvents, 'events')
       .default(1)
       .describe('Key events a user needs in a period to be active in it.'),
   })
@@ -78,29 +80,15 @@ export const rulesSchema = z
       })
       .describe('IANA time zone used to put timestamps into periods.'),
     activity: activitySchema.default({ minEvents: 1 }),
-    lapseLimit: z
-      .number()
-      .int('lapseLimit must be a whole number')
-      .min(0, 'lapseLimit must be 0 or more')
-      .max(RULES_BOUNDS.periods, `lapseLimit must be at most ${fmt(RULES_BOUNDS.periods)} periods`)
+    lapseLimit: wholeNumber('lapseLimit', 0, RULES_BOUNDS.periods, 'periods')
       .describe('Consecutive inactive periods a user is still lapsing before becoming dormant.'),
-    warmup: z
-      .number()
-      .int('warmup must be a whole number')
-      .min(0, 'warmup must be 0 or more')
-      .max(RULES_BOUNDS.periods, `warmup must be at most ${fmt(RULES_BOUNDS.periods)} periods`)
+    warmup: wholeNumber('warmup', 0, RULES_BOUNDS.periods, 'periods')
       .default(0)
       .describe(
         'Leading periods that are classified but left out of flows and retention (left-censoring guard).',
       ),
     tenureBands: z
-      .array(
-        z
-          .number()
-          .int('a tenure band edge must be a whole number of periods')
-          .min(0, 'a tenure band edge must be 0 or more')
-          .max(RULES_BOUNDS.periods, `a tenure band edge must be at most ${fmt(RULES_BOUNDS.periods)} periods`),
-      )
+      .array(wholeNumber('a tenure band edge', 0, RULES_BOUNDS.periods, 'periods'))
       .min(1, 'tenureBands needs at least one edge, 0')
       .max(RULES_BOUNDS.tenureBands, `tenureBands holds at most ${RULES_BOUNDS.tenureBands} edges`)
       .default([0, 1, 4, 12])
@@ -108,11 +96,7 @@ export const rulesSchema = z
         message: 'tenureBands must start at 0 and increase, for example [0, 1, 4, 12]',
       })
       .describe('Lower edges of tenure bands, in periods since first active: [0, 1, 4, 12] gives 0, 1-3, 4-11, 12+.'),
-    minCell: z
-      .number()
-      .int('minCell must be a whole number')
-      .min(1, 'minCell must be at least 1')
-      .max(RULES_BOUNDS.minCell, `minCell must be at most ${fmt(RULES_BOUNDS.minCell)} users`)
+    minCell: wholeNumber('minCell', 1, RULES_BOUNDS.minCell, 'users')
       .default(30)
       .describe('Cells with fewer users than this are flagged as small.'),
     columns: columnsSchema.default({ user: 'user_id', timestamp: 'timestamp', event: 'event' }),
