@@ -11,8 +11,8 @@
  * | active periods | Float64 sort key per event + user, offset, events (JS arrays, then Int32) | 8 an event + 36 |
  * | classification | a row: user, period, tenure, cohort (Int32), state, prev (Int8) | 18 |
  * | | a user: first active, first dormant (Int32, twice while sizing) | 16 |
- * | aggregation | a row: tenure band (Uint8), three filter bitsets, and two arquero group-bys alive at once, each a derived JS number column (8) and its Uint32 group keys (4) | 25.5 |
- * | | an active period in a cohort: a group of the cohort-by-age group-by (key string, index entry, row) and its Map entry | 130 |
+ * | aggregation | a row: tenure band (Uint8), three filter bitsets, two arquero group-bys alive at once, each a derived JS number column (8) and its Uint32 group keys (4), and 3.5 of garbage-collector slack (measured) | 29 |
+ * | | a group of the cohort-by-age group-by (key string, index entry, row) and its Map entry: at most one an active period in a cohort, and one a triangle cell | 130 |
  * | | a cohort-triangle cell: survivors and last-active ages (JS numbers) | 16 |
  * | | a cohort observed ≤ 60 ages: window table (JS numbers) | 8·(ages + 1)² |
  * | | a user: row-block index, duration map entry | 108 |
@@ -20,11 +20,11 @@
  * | `--by` split | a row: segment code (Int32), derived column, group keys | 16 |
  * | `classify` output | a row: an object { user, period, state } and its sort slot | 72 |
  *
- * Checked against the peak resident memory of a run (VmHWM): 20M classified rows of 20,000 users
- * took 44 bytes a row; the table gives 43.5 for the row items.
+ * Checked against the peak resident memory of runs (VmHWM, less the memory before the run): 4M,
+ * 20M and 50M classified rows took 41, 44 and 47 bytes a row; the table gives 47 for the row items.
  *
  * The budget is V8's heap limit for this process (`heap_size_limit`): Node sizes it from the
- * machine's memory (4.1 GB on a 24 GB machine) and `--max-old-space-size` sets it. The JavaScript
+ * machine's memory (4.3 GB on a 24 GB machine) and `--max-old-space-size` sets it. The JavaScript
  * arrays and tables must fit in that heap; typed arrays live outside it, so counting them against it
  * too keeps a margin for the rest of the process (reading, the analyses, the report).
  */
@@ -62,7 +62,7 @@ export function engineFootprint(x: FootprintInput): Footprint {
     { what: 'events', bytes: x.events * (16 + 4 * x.attributes) },
     { what: 'active periods', bytes: x.events * 8 + x.activePeriods * 36 },
     { what: 'classification', bytes: x.rows * 18 + x.users * 16 },
-    { what: 'aggregation', bytes: x.rows * 25.5 + x.cohortActive * 130 + x.cohortCells * 16 + x.windowCells * 8 + x.users * 108 + x.outPeriods * (1000 + 300 * x.bands) },
+    { what: 'aggregation', bytes: x.rows * 29 + Math.min(x.cohortActive, x.cohortCells) * 130 + x.cohortCells * 16 + x.windowCells * 8 + x.users * 108 + x.outPeriods * (1000 + 300 * x.bands) },
     { what: 'attribute split', bytes: x.split ? x.rows * 16 : 0 },
     { what: 'classified rows', bytes: x.rowObjects ? x.rows * 72 : 0 },
   ].filter((p) => p.bytes > 0);

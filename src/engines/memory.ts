@@ -15,7 +15,7 @@ import { activeAttribute, activeIndex } from '../lifecycle/attributes.js';
 import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
 import { optionKey, resolveRange, type ResolvedRange } from '../periods/range.js';
 import { WINDOW_MAX_AGE } from '../flows/types.js';
-import { engineFootprint, memoryBudget, type FootprintInput } from './budget.js';
+import { engineFootprint, memoryBudget, type Footprint, type FootprintInput } from './budget.js';
 import { checkFootprint, outlierWarning, outputOutliers } from './rangeCheck.js';
 import type { Rules } from '../rules/schema.js';
 import type { ClassifiedRow, Engine, EngineResult, EventSource, LastPeriod, RangeOptions } from './types.js';
@@ -34,6 +34,8 @@ interface Prepared {
   labels: string[];
   classified: Classified;
   result: EngineResult;
+  /** The bytes the run was estimated to need (budget.ts). */
+  footprint: Footprint;
 }
 
 /** Run the heavy stage on an event log already in memory. */
@@ -89,7 +91,7 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   const events = [...log.eventNames].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));
   const attributes = log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 }));
   const warnings = outliers ? [outlierWarning(outliers, r, scheme)] : [];
-  return { range: r, labels, classified, result: { waist, rows: log.rows, lastPeriod, users, events, attributes, warnings } };
+  return { range: r, labels, classified, footprint: need, result: { waist, rows: log.rows, lastPeriod, users, events, attributes, warnings } };
 }
 
 function countUsers(firstActive: Int32Array): number {
