@@ -1,7 +1,7 @@
 /** Options shared by the commands that read events. */
 import { fileURLToPath } from 'node:url';
 import { Command, Option } from 'commander';
-import { TidemarkError, showValue } from '../errors.js';
+import { TidemarkError, escapeControls, showValue } from '../errors.js';
 import { MemoryEngine } from '../engines/memory.js';
 import type { ClassifiedRow, EngineResult, EventSource, LastPeriod, RangeOptions } from '../engines/types.js';
 import type { RowAccount } from '../ingest/eventLog.js';
@@ -203,5 +203,11 @@ export function rowLine(r: RowAccount): string {
 
 export function note(io: Io, o: { quiet?: boolean }, text: string): void {
   if (!o.quiet) io.stderr(`${terminalText(text)}\n`);
+}
+
+/** After an engine run: the row accounting (unless --quiet), then each data warning (always), on standard error. */
+export function noteRun(io: Io, o: { quiet?: boolean }, r: Pick<EngineResult, 'rows' | 'warnings'>): void {
+  note(io, o, rowLine(r.rows));
+  for (const w of r.warnings) io.stderr(`warning: ${escapeControls(w)}\n`);
 }
 

@@ -59,6 +59,8 @@ export interface EngineResult {
   events: { name: string; rows: number; key: boolean }[];
   /** Attribute columns kept from the input, with their number of distinct values. */
   attributes: { name: string; values: number }[];
+  /** Warnings about the data, one line each (rows that stretch the range far beyond the bulk). */
+  warnings: string[];
 }
 
 /** One classified user-period, for `tidemark classify`. */

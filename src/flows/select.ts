@@ -51,7 +51,8 @@ export function selectTransitions(tables: Pick<WaistTables, 'periods' | 'transit
   if (lo > hi) {
     throw new TidemarkError('RANGE_INVALID', `the range starts at ${selection.from}, after its end ${selection.to}`, { key: 'range' }, 'swap FROM and TO');
   }
-  const kept = all.filter((t) => tables.periods.indexOf(t.from) >= lo && tables.periods.indexOf(t.to) <= hi);
+  const at = new Map(tables.periods.map((label, i) => [label, i]));
+  const kept = all.filter((t) => (at.get(t.from) ?? -1) >= lo && (at.get(t.to) ?? -1) <= hi);
   if (kept.length === 0) {
     throw new TidemarkError('RANGE_INVALID', `no transition lies within ${selection.from ?? ''}..${selection.to ?? ''}`, { key: 'range' }, `transitions run from ${all[0].from} to ${all[all.length - 1].to}`);
   }

@@ -11,6 +11,7 @@ import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
 import { parseTimestamp } from './timestamp.js';
 import { Dictionary, GrowableFloat64, GrowableInt32 } from './growable.js';
+import { Extremes } from './extremes.js';
 
 /** Why a row was rejected. */
 export type RejectReason =
@@ -58,6 +59,8 @@ export interface EventLog {
   files: string[];
   /** Rows read per event name (key events and others), for the report's data section. */
   eventNames: Map<string, number>;
+  /** The earliest and latest used rows, with their lines (see extremes.ts). */
+  extremes: Extremes;
 }
 
 /**
@@ -89,6 +92,7 @@ export class EventLogBuilder {
   private readonly scheme: PeriodScheme;
   private readonly files: string[] = [];
   private readonly eventNames = new Map<string, number>();
+  private readonly extremes = new Extremes();
 
   constructor(private readonly opts: BuilderOptions) {
     this.clock = new ZoneClock(opts.rules.timezone);
@@ -156,6 +160,7 @@ export class EventLogBuilder {
       return;
     }
     this.rows.used++;
+    this.extremes.add(wall, ts, file, line, this.lineOf);
     this.user.push(this.users.code(userId));
     this.period.push(key);
     this.wall.push(wall);
@@ -181,6 +186,7 @@ export class EventLogBuilder {
       scheme: this.scheme,
       files: this.files,
       eventNames: this.eventNames,
+      extremes: this.extremes,
     };
   }
 }

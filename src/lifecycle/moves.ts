@@ -12,7 +12,7 @@
  */
 import { didYouMean } from '../errors.js';
 import type { Rules } from '../rules/schema.js';
-import { compilePlan } from './plan.js';
+import { compilePlan, IDLE_ADD, IDLE_CLASSES, IDLE_RESET, PERIOD_LEVELS } from './plan.js';
 import { UNSEEN } from './states.js';
 
 export interface Move {
@@ -47,26 +47,40 @@ export interface LifecycleMoves {
 export function lifecycleMoves(rules: Pick<Rules, 'lapseLimit'>): LifecycleMoves {
   const plan = compilePlan(rules);
   const names = [UNSEEN, ...plan.states];
-  const L = plan.idleLevels;
-  const seen = new Uint8Array(names.length * L);
+  const L = plan.lapseLimit;
+  // a node is (state code, idle class); one idle value stands for each class, and an added quiet
+  // period from class 0 can stay in it or reach class 1 (the count may or may not reach the limit)
+  const classes = (effect: number, cls: number): number[] => {
+    if (effect === IDLE_RESET) return [L > 0 ? 0 : 1];
+    if (effect === IDLE_ADD) return cls === 1 ? [1] : L >= 2 ? [0, 1] : [1];
+    return [cls];
+  };
+  const seen = new Uint8Array(names.length * IDLE_CLASSES);
   const found = new Map<string, Move>();
   const arrivals = new Set<string>();
-  const queue = [0]; // (unseen, quiet 0)
-  seen[0] = 1;
+  const start = L > 0 ? 0 : 1; // (unseen, quiet 0)
+  const queue = [start];
+  seen[start] = 1;
   while (queue.length > 0) {
-    const tuple = queue.pop() as number;
-    const from = names[Math.floor(tuple / L)];
-    for (const active of [false, true]) {
-      const next = plan.next[tuple * 2 + (active ? 1 : 0)];
-      const to = names[Math.floor(next / L)];
+    const node = queue.pop() as number;
+    const code = Math.floor(node / IDLE_CLASSES);
+    const cls = node % IDLE_CLASSES;
+    const from = names[code];
+    PERIOD_LEVELS.forEach((features, level) => {
+      const j = node * plan.levels + level;
+      const nextCode = plan.nextState[j];
+      const to = names[nextCode];
       if (from === UNSEEN) {
         if (to !== UNSEEN) arrivals.add(to);
-      } else found.set(`${from}->${to}`, { from, to, active });
-      if (!seen[next]) {
-        seen[next] = 1;
-        queue.push(next);
+      } else found.set(`${from}->${to}`, { from, to, active: features.active });
+      for (const c of classes(plan.idleEffect[j], cls)) {
+        const next = nextCode * IDLE_CLASSES + c;
+        if (!seen[next]) {
+          seen[next] = 1;
+          queue.push(next);
+        }
       }
-    }
+    });
   }
   const order = (s: string) => names.indexOf(s);
   const moves = [...found.values()].sort((a, b) => order(a.from) - order(b.from) || order(a.to) - order(b.to));

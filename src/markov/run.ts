@@ -81,6 +81,8 @@ export interface ProjectionOptions {
   band: [number, number];
   backtest?: boolean;
   backtestHorizon?: number;
+  /** Score only the latest N backtest origins (default: all). */
+  backtestOrigins?: number;
 }
 
 /**
@@ -138,7 +140,7 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
   }
   if ('tables' in input && o.backtest !== false) {
     try {
-      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band, prior: PRIOR });
+      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band, prior: PRIOR, maxOrigins: o.backtestOrigins });
     } catch (e) {
       if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') out.backtest = { skipped: e.message };
       else throw e;

@@ -65,6 +65,13 @@ const p1 = (x: number | null | undefined) => (x === null || x === undefined ? '�
 const pts = (x: number) => `${x >= 0 ? '+' : '−'}${Math.abs(x * 100).toFixed(1)}`;
 const n0 = (x: number) => Math.round(x).toLocaleString('en-US');
 
+/**
+ * Acquisition cohorts the report reads, and backtest origins it scores: the latest 52 of each (a year
+ * of weeks). Both would otherwise grow with the square of the periods; the commands give them all.
+ */
+export const REPORT_COHORTS = 52;
+export const REPORT_BACKTEST_ORIGINS = 52;
+
 export const CAUTIONS = [
   'Event data about people is personal data. This report shows aggregates only: counts, shares and rates, never a user id.',
   'Before contacting anyone from an audience list, follow local privacy law and the consent each person gave.',
@@ -83,6 +90,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   const documents: ReportModel['documents'] = [{ name: 'flows', value: { ...flows, rows: result.rows, lastPeriod: result.lastPeriod } }];
   const last = flows.transitions[flows.transitions.length - 1];
 
+  warnings.push(...result.warnings);
   if (o.droppedPartial) warnings.push(o.droppedPartial);
   if (w.warmup > 0) warnings.push(`The first ${w.warmup} ${grainWord}${w.warmup > 1 ? 's' : ''} (${w.periods.slice(0, w.warmup).join(', ')}) are a warm-up: classified, but left out of flows and retention.`);
   const censoring = leftCensoringHint(flows, grainWord);
@@ -137,8 +145,12 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
 
   // cohorts and survival
   let cohorts: CohortsOutput | undefined;
-  if (w.cohorts.some((c) => c.active.length > 1)) {
-    cohorts = cohortReport(w.cohorts, { ages: [1, 4, 12], window: [4, 8], groupBy: 'month', minN: rules.minCell });
+  // the latest cohorts only, so that the report grows linearly with the periods (the whole triangle
+  // has cohorts × periods cells); `tidemark cohorts` gives every cohort
+  const recent = w.cohorts.slice(-REPORT_COHORTS);
+  if (recent.some((c) => c.active.length > 1)) {
+    cohorts = cohortReport(recent, { ages: [1, 4, 12], window: [4, 8], groupBy: 'month', minN: rules.minCell });
+    if (w.cohorts.length > recent.length) warnings.push(`The cohort analyses read the latest ${REPORT_COHORTS} of ${n0(w.cohorts.length)} acquisition cohorts (from ${recent[0].cohort}); tidemark cohorts gives every one.`);
     documents.push({ name: 'cohorts', value: cohorts });
     charts.push(cohortTriangleChart(cohorts, grainWord, rules.minCell));
   }
@@ -153,7 +165,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   if (flows.transitions.length >= 1) {
     const horizon = o.horizon ?? 12;
     const fit = o.fit ?? String(Math.min(8, flows.transitions.length));
-    const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4 });
+    const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4, backtestOrigins: REPORT_BACKTEST_ORIGINS });
     documents.push({ name: 'projection', value: proj });
     charts.push(projectionChart(proj, grainWord));
     const end = proj.projection[horizon];

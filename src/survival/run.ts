@@ -31,11 +31,16 @@ export function mergeCohorts(rows: readonly DurationRow[], size: number): Durati
   return [...m.values()];
 }
 
+/** Groups the log-rank test compares at most (a test across more says little and costs groups³). */
+export const MAX_LOGRANK_GROUPS = 100;
+
 export function survivalCurves(rows: readonly DurationRow[], groupedBy: string, measure = 'periods from first active to first dormant'): SurvivalOutput {
   const curves = kaplanMeierByGroup(rows);
   let lr: SurvivalOutput['logRank'] = null;
   let note: string | undefined;
-  if (curves.length >= 2) {
+  if (curves.length > MAX_LOGRANK_GROUPS) {
+    note = `log-rank test not run across ${curves.length} groups (its cost grows with the cube of the groups; at most ${MAX_LOGRANK_GROUPS}): pool cohorts with --merge, or compare fewer groups`;
+  } else if (curves.length >= 2) {
     try {
       const r = logRank(rows);
       lr = { chiSquare: r.chiSquare, df: r.df, pValue: r.p, excluded: r.excluded };

@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { Option } from 'commander';
 import { TidemarkError, showValue } from '../../errors.js';
 import { cohortReport, type CohortsOutput } from '../../explain/cohortReport.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -57,7 +57,7 @@ export async function runCohorts(o: CohortsCliOptions, io: Io): Promise<void> {
   const measure = { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group, minN: rules.minCell };
   const run = eventRun(o, rules, true);
   const r = await runEngine(run, rules);
-  note(io, o, rowLine(r.rows));
+  noteRun(io, o, r);
   notePartial(io, o, r, run.range);
   emit(formatCohorts(cohortReport(r.waist.cohorts, measure), o.format, partialJson(r)), o.out, io);
 }

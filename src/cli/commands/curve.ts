@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { checkSurvivors, fitSbg, MIN_FIT_AGES, type SbgFit } from '../../curve/sbg.js';
 import { TidemarkError, showValue } from '../../errors.js';
 import { cohortSurvivors } from '../../curve/survivors.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -80,7 +80,7 @@ export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {
     const rules = resolveRules(o as CommonOptions);
     const run = eventRun(o as CommonOptions, rules, true);
     const r = await runEngine(run, rules);
-    note(io, o, rowLine(r.rows));
+    noteRun(io, o, r);
     notePartial(io, o, r, run.range);
     extra = partialJson(r);
     inputs = cohortSurvivors(r.waist, rules.lapseLimit);

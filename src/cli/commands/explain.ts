@@ -2,7 +2,7 @@
 import type { Command } from 'commander';
 import { explainRetention, type Decomposition, type ExplainOutput } from '../../explain/run.js';
 import type { RetentionChange } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { asFlags, dateOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -62,7 +62,7 @@ export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const compare = dateOption(o.compare, '--compare');
   const run = eventRun(o, rules, true, o.by);
   const r = await runEngine(run, rules);
-  note(io, o, rowLine(r.rows));
+  noteRun(io, o, r);
   notePartial(io, o, r, run.range);
   const e = asFlags(() => explainRetention(r.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell }), { base: '--base', compare: '--compare' }, periodFlagHint(r, rules, { base, compare }));
   emit(formatExplain({ ...e, ...partialJson(r) }, o.format), o.out, io);

@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import type { EngineResult } from '../../engines/types.js';
 import { summariseFlows, type FlowsSummary } from '../../flows/summary.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addFormatOptions, eventRun, note, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, eventRun, note, noteRun, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { asFlags, selectionOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -82,7 +82,7 @@ export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   if (o.pool !== undefined) selectionOption(o.pool, '--pool');
   const result = await runEngine(eventRun(o, rules, false), rules);
-  note(io, o, rowLine(result.rows));
+  noteRun(io, o, result);
   const out = asFlags(() => flowsOutput(result, rules, o.pool), { range: '--pool' });
   emit(formatFlows(out, o.format), o.out, io);
 }

@@ -10,7 +10,7 @@ import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { STATES } from '../../lifecycle/states.js';
 import { computeProjection, type ProjectionOptions, type ProjectOutput } from '../../markov/run.js';
 import { validateModel } from '../../markov/validate.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { asFlags, countNumber, parseBand, seedOption, selectionOption, stateOption, whatIfOption, wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -144,7 +144,7 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
     whatIfOption(o.whatIf, '--what-if', STATES, moves);
     const run = eventRun(o as CommonOptions, rules, true);
     const r = await runEngine(run, rules);
-    note(io, o, rowLine(r.rows));
+    noteRun(io, o, r);
     notePartial(io, o, r, run.range);
     const hint = periodFlagHint(r, rules, { range: common.fit });
     // --fit against the data: N at most the transitions there are, labels that are periods of the data

@@ -6,7 +6,7 @@ import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addPartialOption, eventRun, note, partialSentence, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addPartialOption, eventRun, note, noteRun, partialSentence, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { asFlags, dateOption, seedOption, wholeNumber } from '../options.js';
 import { MAX_HORIZON } from './project.js';
 import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
@@ -70,7 +70,7 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
-    note(io, o, rowLine(result.rows));
+    noteRun(io, o, result);
     note(io, o, `report: ${files.length} files in ${o.out} (open ${o.out}/index.html)`);
     const text = formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out);
     // table text is escaped before it is coloured; CSV and JSON are escaped only on a terminal

@@ -2,7 +2,7 @@
 import type { Command } from 'commander';
 import { collapseCells } from '../../explain/run.js';
 import { retentionRates, type RetentionRate } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -31,7 +31,7 @@ export async function runRetention(o: RetentionCliOptions, io: Io): Promise<void
   const rules = resolveRules(o);
   const run = eventRun(o, rules, true);
   const r = await runEngine(run, rules);
-  note(io, o, rowLine(r.rows));
+  noteRun(io, o, r);
   notePartial(io, o, r, run.range);
   const cells = o.tenure ? r.waist.tenureCells : collapseCells(r.waist.tenureCells, 'state');
   emit(formatRetention(retentionRates(cells, { minN: rules.minCell }), o.format, Boolean(o.tenure), rules.minCell, partialJson(r)), o.out, io);

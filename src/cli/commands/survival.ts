@@ -5,7 +5,7 @@ import { TidemarkError } from '../../errors.js';
 import type { DurationRow } from '../../flows/types.js';
 import { parseDurationsCsv } from '../../survival/durations.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../survival/run.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -61,7 +61,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     const rules = resolveRules(o as CommonOptions);
     const run = eventRun(o as CommonOptions, rules, true, column);
     const r = await runEngine(run, rules);
-    note(io, o, rowLine(r.rows));
+    noteRun(io, o, r);
     notePartial(io, o, r, run.range);
     extra = partialJson(r);
     rows = column ? r.waist.segmentDurations!.rows : r.waist.durations;
