@@ -10,6 +10,7 @@ export type ErrorCode =
   | 'USAGE' // bad command-line usage (exit 2)
   | 'FILE_NOT_FOUND'
   | 'FILE_UNREADABLE'
+  | 'FILE_UNWRITABLE' // an output file or folder cannot be written (full disk, permissions…)
   | 'RULES_SYNTAX' // YAML does not parse
   | 'RULES_INVALID' // a value breaks the schema
   | 'RULES_UNKNOWN_KEY'
@@ -48,10 +49,10 @@ export class TidemarkError extends Error {
     return this.code === 'USAGE' ? 2 : 1;
   }
 
-  /** One line: `file:line: column/key: message (hint)`. */
+  /** One line: `file:line: column/key: message (hint)`; a command-line flag as key is shown as itself (`--fit: …`). */
   oneLine(): string {
     const w = this.where;
-    const place = [w.file && (w.line ? `${w.file}:${w.line}` : w.file), w.column && `column ${w.column}`, w.key && `key ${w.key}`]
+    const place = [w.file && (w.line ? `${w.file}:${w.line}` : w.file), w.column && `column ${w.column}`, w.key && (w.key.startsWith('--') ? w.key : `key ${w.key}`)]
       .filter(Boolean)
       .join(', ');
     const text = place ? `${place}: ${this.message}` : this.message;

@@ -25,6 +25,8 @@ export { periodKeyOfDay, periodLabel, periodStartDay, type PeriodScheme } from '
 export { STATES, ACTIVE_STATES, type StateName } from './lifecycle/states.js';
 export { lifecycleMachine } from './lifecycle/machine.js';
 export { compilePlan, type LifecyclePlan } from './lifecycle/plan.js';
+export { columnUniqueness, perPersonColumns, checkSplitColumn, PER_PERSON_SHARE, PER_PERSON_MIN_USERS, type ColumnUniqueness } from './lifecycle/perPerson.js';
+export { lifecycleMoves, type LifecycleMoves, type Move } from './lifecycle/moves.js';
 
 // Engines and the waist tables
 export { MemoryEngine, runOnLog } from './engines/memory.js';
@@ -67,3 +69,7 @@ export { cohortSurvivors } from './curve/survivors.js';
 export { buildReport, type ReportModel, type ReportOptions } from './report/build.js';
 export { writeReport } from './report/write.js';
 export { STATE_COLOURS } from './report/palette.js';
+
+// Output
+export { toCsv, spreadsheetSafe } from './output/csv.js';
+export { writeFileAtomic, replaceFolder, recoverFolder } from './output/atomic.js';

@@ -1,9 +1,8 @@
 /**
  * Output formats shared by every command: aligned text tables for the terminal, RFC 4180 CSV, JSON.
  */
-import { mkdirSync, writeFileSync } from 'node:fs';
-import { dirname } from 'node:path';
-import { TidemarkError } from '../errors.js';
+import { escapeControls, showValue } from '../errors.js';
+import { writeFileAtomic } from '../output/atomic.js';
 import type { Io } from './io.js';
 
 export type Format = 'table' | 'csv' | 'json';
@@ -11,9 +10,12 @@ export const FORMATS: readonly Format[] = ['table', 'csv', 'json'];
 
 export { csvField, toCsv } from '../output/csv.js';
 
-/** An aligned text table; numbers right-aligned. */
+/** Widest text cell of a terminal table; longer values (from data) are cut with an ellipsis. */
+export const TABLE_CELL_MAX = 60;
+
+/** An aligned text table; numbers right-aligned; control codes escaped and long text cut (showValue). */
 export function textTable(header: string[], rows: unknown[][]): string {
-  const cells = [header, ...rows.map((r) => r.map((v) => (v === null || v === undefined ? '-' : String(v))))];
+  const cells = [header.map((h) => showValue(h, TABLE_CELL_MAX)), ...rows.map((r) => r.map((v) => (v === null || v === undefined ? '-' : showValue(v, TABLE_CELL_MAX))))];
   const widths = header.map((_, c) => Math.max(...cells.map((r) => (r[c] ?? '').length)));
   const numeric = header.map((_, c) => rows.length > 0 && rows.every((r) => typeof r[c] === 'number' || r[c] === null || /^-?[\d.,]+%?( -?[\d.,]+%)?$/.test(String(r[c]))));
   const fmt = (r: string[]) => r.map((v, c) => (numeric[c] ? v.padStart(widths[c]) : v.padEnd(widths[c]))).join('  ').trimEnd();
@@ -24,15 +26,19 @@ export function pct(x: number | null | undefined, digits = 1): string {
   return x === null || x === undefined || !Number.isFinite(x) ? '-' : `${(x * 100).toFixed(digits)}%`;
 }
 
-/** Write a command's result to --out or stdout. */
+/**
+ * Write a command's result to --out (atomically: a temporary file beside it, renamed over it) or
+ * stdout. On a terminal, control codes in CSV or JSON data are shown escaped; a pipe or file gets the
+ * data exactly.
+ */
 export function emit(text: string, out: string | undefined, io: Io): void {
-  if (!out) return io.stdout(text);
-  try {
-    mkdirSync(dirname(out), { recursive: true });
-    writeFileSync(out, text);
-  } catch {
-    throw new TidemarkError('FILE_UNREADABLE', 'cannot write the output file', { file: out }, 'Check that the folder is writable');
-  }
+  if (!out) return io.stdout(io.stdoutIsTTY ? terminalText(text) : text);
+  writeFileAtomic(out, text);
+}
+
+/** Text for a terminal: every control code but the line breaks escaped (`\u001b`, `\r`…), so data can never drive the terminal. */
+export function terminalText(text: string): string {
+  return text.split('\n').map(escapeControls).join('\n');
 }
 
 export function json(value: unknown): string {
@@ -41,10 +47,11 @@ export function json(value: unknown): string {
 
 /**
  * Wrap prose lines longer than `width` at spaces, for an 80-column terminal. Table rows (lines with
- * runs of two spaces) are left as they are.
+ * runs of two spaces) are left as they are. Control codes are escaped first ({@link terminalText}):
+ * every table-format output passes through here.
  */
 export function wrapProse(text: string, width = 80): string {
-  return text
+  return terminalText(text)
     .split('\n')
     .map((line) => {
       if (line.length <= width || /\S {2,}\S/.test(line)) return line;

@@ -3,7 +3,7 @@
  * spawning a process: commander's exit is overridden and its output routed to `io`.
  */
 import { Command, CommanderError } from 'commander';
-import { reportError } from './errors.js';
+import { commanderMessage, reportError } from './errors.js';
 import type { Io } from './io.js';
 import { classifyCommand } from './commands/classify.js';
 import { demoCommand } from './commands/demo.js';
@@ -24,7 +24,7 @@ export function buildProgram(io: Io): Command {
     .option('--debug', 'show stack traces for errors')
     .showSuggestionAfterError(true)
     .exitOverride()
-    .configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) });
+    .configureOutput(output(io));
   classifyCommand(program, io);
   flowsCommand(program, io);
   retentionCommand(program, io);
@@ -40,8 +40,13 @@ export function buildProgram(io: Io): Command {
   return program;
 }
 
+/** Help to stdout; commander's errors are not printed by commander but by main, as one escaped line. */
+function output(io: Io) {
+  return { writeOut: (s: string) => io.stdout(s), writeErr: (s: string) => io.stderr(s), outputError: () => {} };
+}
+
 function applyOverrides(cmd: Command, io: Io): void {
-  cmd.exitOverride().configureOutput({ writeOut: (s) => io.stdout(s), writeErr: (s) => io.stderr(s) }).showSuggestionAfterError(true);
+  cmd.exitOverride().configureOutput(output(io)).showSuggestionAfterError(true);
   for (const c of cmd.commands) applyOverrides(c, io);
 }
 
@@ -56,6 +61,7 @@ export async function main(argv: string[], io: Io): Promise<number> {
       // help and version exit 0; everything else commander rejects is a usage error
       if (err.code === 'commander.helpDisplayed' || err.code === 'commander.version' || err.code === 'commander.help') return 0;
       if (err.code === 'commander.executeSubCommandAsync') return 0;
+      io.stderr(`tidemark: ${commanderMessage(err.message)}\n`);
       return 2;
     }
     return reportError(err, io, debug);

@@ -23,7 +23,7 @@
  * untruncated value is given beside it (null when infinite).
  *
  * Policy for `src/curve`: a malformed vector throws INPUT_INVALID; a vector that cannot support a
- * fit (n₀ = 0, fewer than two ages, nobody lost, everyone lost in the first period) throws
+ * fit (n₀ = 0, fewer than three ages, nobody lost, everyone lost in the first period) throws
  * NOT_ENOUGH_DATA.
  */
 import { TidemarkError } from '../errors.js';
@@ -158,6 +158,12 @@ export interface SbgFit {
 }
 
 const BOX = 15;
+
+/**
+ * Fewest ages a fit needs. Two ages (n₀, n₁) give one loss rate, which every (α, β) with
+ * α/(α + β) equal to it matches exactly: the two parameters are not identified.
+ */
+export const MIN_FIT_AGES = 3;
 const STARTS: readonly (readonly [number, number])[] = [[0, 0], [-1, 0], [0, 1], [-1, 1], [1, 2], [-2, -1], [1, -1]];
 
 /**
@@ -165,11 +171,14 @@ const STARTS: readonly (readonly [number, number])[] = [[0, 0], [-1, 0], [0, 1],
  * remaining lifetime.
  *
  * @throws {TidemarkError} INPUT_INVALID for a malformed vector or option; NOT_ENOUGH_DATA for a
- *   vector that cannot support a fit.
+ *   vector that cannot support a fit, or one of fewer than {@link MIN_FIT_AGES} ages (not identified).
  * @example fitSbg([1000, 631, 468, 382, 326, 289, 262, 241]) // α ≈ 0.704, β ≈ 1.182, LL ≈ −1680.265 (Fader & Hardie 2007)
  */
 export function fitSbg(survivors: readonly number[], options: SbgOptions = {}): SbgFit {
   checkSurvivors(survivors);
+  if (survivors.length < MIN_FIT_AGES) {
+    throw new TidemarkError('NOT_ENOUGH_DATA', `survivors at ${survivors.length} ages cannot identify alpha and beta: a fit needs ${MIN_FIT_AGES} ages or more`, {}, 'one loss rate is matched by every alpha/(alpha + beta) equal to it');
+  }
   const T = survivors.length - 1;
   const horizon = options.horizon ?? 2 * T;
   const cap = options.lifetimeCap ?? 100;

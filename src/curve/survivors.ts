@@ -17,7 +17,14 @@ export function cohortSurvivors(w: WaistTables, lapseLimit: number): { cohort: s
   return w.cohorts.map((c) => {
     const rows = byCohort.get(c.cohort) ?? [];
     const last = c.active.length - 1 - lapseLimit;
-    const survivors = Array.from({ length: Math.max(0, last + 1) }, (_, t) => c.size - rows.filter((r) => r.observed === 1 && r.duration - lapseLimit <= t).reduce((a, r) => a + r.users, 0));
+    // members lost at each age (a row with d − L ≤ t is lost by age t), then a running sum: linear in the ages
+    const lost = new Array<number>(Math.max(0, last + 1)).fill(0);
+    for (const r of rows) {
+      const age = Math.max(0, r.duration - lapseLimit);
+      if (r.observed === 1 && age <= last) lost[age] += r.users;
+    }
+    let gone = 0;
+    const survivors = lost.map((n) => c.size - (gone += n));
     return { cohort: c.cohort, survivors };
   });
 }

@@ -25,6 +25,17 @@ export interface RangeOptions {
   warmup?: number;
   /** An attribute column to split retention cells by (WaistTables.segmentCells). */
   by?: string;
+  /**
+   * Split by `by` even when its values are nearly unique per user (lifecycle/perPerson.ts); without
+   * it such a column is refused. Sentences never name the values of such a column either way.
+   */
+  allowPerPersonColumn?: boolean;
+  /**
+   * An incomplete last period (see {@link LastPeriod}): 'keep' it (the default) or 'drop' it, so that
+   * its rows are counted in `RowAccount.partial` and every table ends with the period before. It is
+   * kept anyway when dropping it would leave fewer than two periods, or none past the warm-up.
+   */
+  partial?: 'keep' | 'drop';
 }
 
 /** How complete the last period is: the latest event's position in it, 0–1. */
@@ -32,8 +43,10 @@ export interface LastPeriod {
   label: string;
   /** (latest event − period start) / period length, in wall-clock time. */
   coverage: number;
-  /** False when the data stop before the last seventh of the period. */
+  /** False when the data stop before the last seventh of the period (and no later event was cut by --to). */
   complete: boolean;
+  /** True when the engine left this period out (`partial: 'drop'`); the tables then end with the period before. */
+  leftOut: boolean;
 }
 
 export interface EngineResult {
@@ -48,6 +61,8 @@ export interface EngineResult {
   events: { name: string; rows: number; key: boolean }[];
   /** Attribute columns kept from the input, with their number of distinct values. */
   attributes: { name: string; values: number }[];
+  /** Warnings about the data, one line each (rows that stretch the range far beyond the bulk). */
+  warnings: string[];
 }
 
 /** One classified user-period, for `tidemark classify`. */

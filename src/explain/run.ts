@@ -3,7 +3,7 @@
  * intervals and tests, the Kitagawa mix-versus-rate decomposition by prior state (and by tenure band,
  * and by an attribute when the waist has one), and one plain sentence. Pure: no I/O.
  */
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 import { periodHint } from '../periods/suggest.js';
 import type { RetentionCell, WaistTables } from '../flows/types.js';
 import type { KitagawaResult } from './kitagawa.js';
@@ -93,9 +93,9 @@ function decomposition(r: KitagawaResult, sentence: string): Decomposition {
   };
 }
 
-function checkPeriod(label: string, periods: string[], option: string): void {
+function checkPeriod(label: string, periods: string[], key: 'base' | 'compare'): void {
   if (!periods.includes(label)) {
-    throw new TidemarkError('RANGE_INVALID', `${label} is not a period retained into`, { key: option }, periodHint(label, periods));
+    throw new TidemarkError('RANGE_INVALID', `${showValue(label)} is not a period retained into`, { key }, periodHint(label, periods));
   }
 }
 
@@ -109,10 +109,10 @@ export function explainRetention(w: WaistTables, o: ExplainOptions): ExplainOutp
     throw new TidemarkError('NOT_ENOUGH_DATA', `explaining a change needs two periods retained into; the data have ${into.length}`, {}, 'Use a longer event log');
   }
   const compare = o.compare ?? into[into.length - 1];
-  checkPeriod(compare, into, '--compare');
+  checkPeriod(compare, into, 'compare');
   const base = o.base ?? into[into.indexOf(compare) - 1];
-  if (base === undefined) throw new TidemarkError('RANGE_INVALID', `no period before ${compare} to compare with`, { key: '--base' }, 'Give --base');
-  checkPeriod(base, into, '--base');
+  if (base === undefined) throw new TidemarkError('RANGE_INVALID', `no period before ${compare} to compare with`, { key: 'base' }, 'Name the base period');
+  checkPeriod(base, into, 'base');
   const byStateCells = collapseCells(w.tenureCells, 'state');
   const opts = { base, compare };
   const main = decomposeRetention(byStateCells, { ...opts, by: 'state' });
@@ -139,10 +139,12 @@ export function explainRetention(w: WaistTables, o: ExplainOptions): ExplainOutp
   if (w.segmentCells) {
     const cells = w.segmentCells.cells;
     const seg = decomposeRetention(cells, { ...opts, by: 'segment' });
-    const labels = Object.fromEntries(seg.groups.map((g) => [g.key, `${g.key} users`]));
+    // a value from the data enters the sentence escaped and shortened; a per-person column's never does
+    const labels = Object.fromEntries(seg.groups.map((g) => [g.key, `${showValue(g.key, 40)} users`]));
+    const unnamedGroups = Boolean(w.segmentCells.perPerson);
     out.bySegment = {
       by: w.segmentCells.by,
-      ...decomposition(seg, decompositionSentence(seg, { grain: o.grainWord, labels, behaviouralGroups: true })),
+      ...decomposition(seg, decompositionSentence(seg, { grain: o.grainWord, labels, behaviouralGroups: true, unnamedGroups })),
       changes: retentionChanges(collapseCells(cells, 'segment'), { ...opts, minN: o.minCell, q: o.q }),
       caution: 'Groups split by an attribute or behaviour show which groups go with staying; that is a correlation, not a cause. Test a change with an experiment before acting on it.',
     };

@@ -31,6 +31,11 @@ export interface SentenceOptions {
   measure?: string;
   /** The groups are defined by a behaviour: add the sentence that association is not cause. */
   behaviouralGroups?: boolean;
+  /**
+   * The group keys identify people (a per-person column): name no group; tell the total rate effect
+   * ("changes within the groups") and the total mix effect ("the shift between groups") only.
+   */
+  unnamedGroups?: boolean;
 }
 
 const NEGLIGIBLE = 0.05;
@@ -62,16 +67,20 @@ export function decompositionSentence(result: KitagawaResult, options: SentenceO
 
   const mix = result.mixEffect;
   const grower = [...result.groups].sort((a, b) => b.weightCompare - b.weightBase - (a.weightCompare - a.weightBase))[0];
-  const parts = [
-    ...result.groups.map((g) => ({ kind: 'rate' as const, label: name(g.key), value: g.rateEffect ?? 0 })),
-    ...(grower ? [{ kind: 'mix' as const, label: name(grower.key), value: mix }] : []),
-  ]
+  const parts = (options.unnamedGroups
+    ? [{ kind: 'within' as const, label: '', value: result.rateEffect }, { kind: 'between' as const, label: '', value: mix }]
+    : [
+      ...result.groups.map((g) => ({ kind: 'rate' as const, label: name(g.key), value: g.rateEffect ?? 0 })),
+      ...(grower ? [{ kind: 'mix' as const, label: name(grower.key), value: mix }] : []),
+    ])
     .filter((p) => Math.abs(p.value) * 100 >= NEGLIGIBLE)
     .sort((a, b) => Math.abs(b.value) - Math.abs(a.value));
   const firstRate = parts.findIndex((p) => p.kind === 'rate');
   const texts = parts.map((p, i) => {
     const verb = `${p.value < 0 ? 'cost' : 'gained'} ${points(p.value)}`;
     if (p.kind === 'mix') return `the shift toward ${p.label} ${verb}`;
+    if (p.kind === 'within') return `changes within the groups ${verb}`;
+    if (p.kind === 'between') return `the shift between groups ${verb}`;
     return `${possessive(p.label)}${i === firstRate ? ` own ${measure}` : ''} ${verb}`;
   });
 
@@ -84,6 +93,7 @@ export function decompositionSentence(result: KitagawaResult, options: SentenceO
   if (texts.length > 0) sentence = `${head}: ${texts.join(', ')}.`;
   else if (Math.abs(pts) < NEGLIGIBLE) sentence = `${head} (no part moved it by 0.05 points or more).`;
   else sentence = `${head}, spread over many small parts, none of 0.05 points or more.`;
+  if (options.unnamedGroups) sentence += ' The groups are not named: their values are nearly unique per user.';
   if (options.behaviouralGroups) {
     sentence += ' The groups are defined by behaviour, so these parts show association with staying, not its cause.';
   }

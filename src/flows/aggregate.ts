@@ -47,16 +47,17 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   const span = o.labels.length;
   const P = span - o.outStart;
   const firstFlow = o.outStart + o.warmup; // earliest "from" period of a counted pair
-  const maxTenure = span;
-  const bandOf = new Uint8Array(maxTenure + 1);
-  for (let t = 0, b = 0; t <= maxTenure; t++) {
+  // band of each tenure up to the last band's edge; every tenure beyond it is in the last band
+  const lastEdge = o.tenureBands[o.tenureBands.length - 1];
+  const bandOf = new Uint8Array(lastEdge + 1);
+  for (let t = 0, b = 0; t <= lastEdge; t++) {
     while (b + 1 < o.tenureBands.length && t >= o.tenureBands[b + 1]) b++;
     bandOf[t] = b;
   }
   const B = o.tenureBands.length;
   // tenure band of each row's previous period (the period retained from)
   const bandPrev = new Uint8Array(c.size);
-  for (let r = 0; r < c.size; r++) bandPrev[r] = c.tenure[r] > 0 ? bandOf[c.tenure[r] - 1] : 0;
+  for (let r = 0; r < c.size; r++) bandPrev[r] = c.tenure[r] > 0 ? bandOf[Math.min(c.tenure[r] - 1, lastEdge)] : 0;
   const base = aq
     .table({ p: c.period, s: c.state, prev: c.prev, tenure: c.tenure, cohort: c.cohort, bandPrev })
     .params({ S, B, A: o.activeCount, span, firstFlow, outStart: o.outStart });
@@ -70,7 +71,8 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   const byPair = groupCount(flowRows.derive({ k: (d: any, $: any) => (d.p * $.S + d.prev) * $.S + d.s }), 'k');
   const transitions: TransitionCounts[] = [];
   const freshCode = o.states.indexOf('fresh');
-  for (let p = Math.max(firstFlow + 1, o.outStart + 1); p < span; p++) {
+  const firstTo = Math.max(firstFlow + 1, o.outStart + 1); // offset of the first transition's later period
+  for (let p = firstTo; p < span; p++) {
     const counts = Array.from({ length: S }, (_, i) => Array.from({ length: S }, (_, j) => byPair.get((p * S + i) * S + j) ?? 0));
     transitions.push({ from: o.labels[p - 1], to: o.labels[p], counts, fresh: stateCounts[p - o.outStart][freshCode] ?? 0 });
   }
@@ -80,8 +82,9 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   const byCell = groupCount(cellRows.derive({ k: (d: any, $: any) => ((d.p * $.S + d.prev) * $.B + d.bandPrev) * 2 + (d.s < $.A ? 1 : 0) }), 'k');
   const labelsB = bandLabels(o.tenureBands);
   const tenureCells: RetentionCell[] = [];
-  for (const t of transitions) {
-    const p = o.labels.indexOf(t.to);
+  for (let ti = 0; ti < transitions.length; ti++) {
+    const t = transitions[ti];
+    const p = firstTo + ti;
     for (let s = 0; s < o.activeCount; s++) {
       for (let b = 0; b < B; b++) {
         const kept = byCell.get(((p * S + s) * B + b) * 2 + 1) ?? 0;
@@ -151,8 +154,10 @@ function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions,
     if (!list) blocks.set(k, (list = []));
     list.push(r);
   }
+  const offsetOf = new Map<string, number>();
+  for (let k = firstFlow; k < span; k++) offsetOf.set(o.labels[k], k);
   for (const row of cohorts) {
-    const k = o.labels.indexOf(row.cohort);
+    const k = offsetOf.get(row.cohort)!;
     const A = span - 1 - k;
     const starts = blocks.get(k) ?? [];
     function* members(): Generator<number[]> {

@@ -5,7 +5,7 @@
  * `..TO` with period labels (`YYYY-MM-DD`). A range keeps the transitions whose earlier period is at
  * or after FROM and whose later period is at or before TO.
  */
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 import { periodHint } from '../periods/suggest.js';
 import type { TransitionCounts, WaistTables } from './types.js';
 
@@ -23,7 +23,7 @@ export function parseSelection(text: string): TransitionSelection {
   if (/^\d+$/.test(t)) return { last: Number(t) };
   const m = /^([^.\s]*)\.\.([^.\s]*)$/.exec(t);
   if (m && (m[1] || m[2])) return { ...(m[1] ? { from: m[1] } : {}), ...(m[2] ? { to: m[2] } : {}) };
-  throw new TidemarkError('RANGE_INVALID', `cannot read the transition range "${text}"`, { key: 'range' }, 'use all, a number N for the last N transitions, or FROM..TO with period labels');
+  throw new TidemarkError('RANGE_INVALID', `cannot read the transition range "${showValue(text)}"`, { key: 'range' }, 'use all, a number N for the last N transitions, or FROM..TO with period labels');
 }
 
 /**
@@ -51,7 +51,8 @@ export function selectTransitions(tables: Pick<WaistTables, 'periods' | 'transit
   if (lo > hi) {
     throw new TidemarkError('RANGE_INVALID', `the range starts at ${selection.from}, after its end ${selection.to}`, { key: 'range' }, 'swap FROM and TO');
   }
-  const kept = all.filter((t) => tables.periods.indexOf(t.from) >= lo && tables.periods.indexOf(t.to) <= hi);
+  const at = new Map(tables.periods.map((label, i) => [label, i]));
+  const kept = all.filter((t) => (at.get(t.from) ?? -1) >= lo && (at.get(t.to) ?? -1) <= hi);
   if (kept.length === 0) {
     throw new TidemarkError('RANGE_INVALID', `no transition lies within ${selection.from ?? ''}..${selection.to ?? ''}`, { key: 'range' }, `transitions run from ${all[0].from} to ${all[all.length - 1].to}`);
   }
@@ -61,7 +62,7 @@ export function selectTransitions(tables: Pick<WaistTables, 'periods' | 'transit
 function periodIndex(periods: readonly string[], label: string, side: 'from' | 'to'): number {
   const i = periods.indexOf(label);
   if (i < 0) {
-    throw new TidemarkError('RANGE_INVALID', `'${label}' (range ${side}) is not a period of the data`, { key: `range.${side}` }, periodHint(label, periods));
+    throw new TidemarkError('RANGE_INVALID', `the range's ${side === 'from' ? 'start' : 'end'} '${showValue(label)}' is not a period of the data`, { key: `range.${side}` }, periodHint(label, periods));
   }
   return i;
 }

@@ -88,8 +88,11 @@ export interface WaistTables {
   cohorts: CohortRow[];
   /** Time-to-dormant durations, grouped by cohort. */
   durations: DurationRow[];
-  /** Retention cells by prior state and an attribute's value in the earlier period (when asked for). */
-  segmentCells?: { by: string; cells: RetentionCell[] };
+  /**
+   * Retention cells by prior state and an attribute's value in the earlier period (when asked for);
+   * `perPerson` when the column's values are nearly unique per user (never name them in sentences).
+   */
+  segmentCells?: { by: string; cells: RetentionCell[]; perPerson?: boolean };
   /** Time-to-dormant durations grouped by that attribute's value in each user's first active period. */
-  segmentDurations?: { by: string; rows: DurationRow[] };
+  segmentDurations?: { by: string; rows: DurationRow[]; perPerson?: boolean };
 }

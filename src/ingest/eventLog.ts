@@ -11,6 +11,7 @@ import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
 import { parseTimestamp } from './timestamp.js';
 import { Dictionary, GrowableFloat64, GrowableInt32 } from './growable.js';
+import { Extremes } from './extremes.js';
 
 /** Why a row was rejected. */
 export type RejectReason =
@@ -21,12 +22,14 @@ export type RejectReason =
   | 'not valid JSON'
   | 'unclosed quote';
 
-/** Where every input row went. read = used + notKeyEvent + afterRange + Σ rejected. */
+/** Where every input row went. read = used + notKeyEvent + afterRange + partial + Σ rejected. */
 export interface RowAccount {
   read: number;
   used: number;
   notKeyEvent: number;
   afterRange: number;
+  /** Rows of an incomplete last period that the engine left out (RangeOptions.partial 'drop'). */
+  partial: number;
   rejected: Partial<Record<RejectReason, number>>;
   /** Blank lines, not counted as rows. */
   blankLines: number;
@@ -56,6 +59,8 @@ export interface EventLog {
   files: string[];
   /** Rows read per event name (key events and others), for the report's data section. */
   eventNames: Map<string, number>;
+  /** The earliest and latest used rows, with their lines (see extremes.ts). */
+  extremes: Extremes;
 }
 
 /**
@@ -74,7 +79,7 @@ export interface BuilderOptions {
 
 /** Accumulates rows into an {@link EventLog}. */
 export class EventLogBuilder {
-  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, rejected: {}, blankLines: 0 };
+  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, blankLines: 0 };
   private readonly user = new GrowableInt32();
   private readonly period = new GrowableInt32();
   private readonly wall = new GrowableFloat64();
@@ -87,6 +92,7 @@ export class EventLogBuilder {
   private readonly scheme: PeriodScheme;
   private readonly files: string[] = [];
   private readonly eventNames = new Map<string, number>();
+  private readonly extremes = new Extremes();
 
   constructor(private readonly opts: BuilderOptions) {
     this.clock = new ZoneClock(opts.rules.timezone);
@@ -154,6 +160,7 @@ export class EventLogBuilder {
       return;
     }
     this.rows.used++;
+    this.extremes.add(wall, ts, file, line, this.lineOf);
     this.user.push(this.users.code(userId));
     this.period.push(key);
     this.wall.push(wall);
@@ -179,6 +186,7 @@ export class EventLogBuilder {
       scheme: this.scheme,
       files: this.files,
       eventNames: this.eventNames,
+      extremes: this.extremes,
     };
   }
 }

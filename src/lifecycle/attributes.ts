@@ -3,7 +3,7 @@
  * period (by wall-clock time; on ties, the later row). Used to split retention by plan, region,
  * channel and the like, taking the user's value in the period retained from.
  */
-import { TidemarkError, suggestion } from '../errors.js';
+import { TidemarkError, showValue, suggestion } from '../errors.js';
 import type { EventLog } from '../ingest/eventLog.js';
 import type { ActivePeriods } from './activity.js';
 
@@ -19,8 +19,8 @@ export function activeAttribute(log: EventLog, name: string, active: ActivePerio
   const col = log.attributes.find((a) => a.name === name);
   if (!col) {
     const names = log.attributes.map((a) => a.name);
-    throw new TidemarkError('INPUT_INVALID', `the events have no column '${name}' to split by`, { key: '--by' },
-      suggestion(name, names) ?? (names.length ? `Columns you can split by: ${names.join(', ')}` : 'The events have no extra columns'));
+    throw new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(name, 40)}' to split by`, { key: 'by' },
+      suggestion(name, names) ?? (names.length ? `Columns you can split by: ${names.map((n) => showValue(n, 40)).join(', ')}` : 'The events have no extra columns'));
   }
   const { span, startKey } = active;
   const m = active.user.length;

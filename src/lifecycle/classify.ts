@@ -6,7 +6,7 @@
  * `outStart` still feed the states (history before --from is used, not shown).
  */
 import type { ActivePeriods } from './activity.js';
-import type { LifecyclePlan } from './plan.js';
+import { applyIdle, IDLE_ADD, IDLE_CLASSES, IDLE_KEEP, IDLE_RESET, type LifecyclePlan } from './plan.js';
 
 export interface Classified {
   /** Number of rows. */
@@ -43,13 +43,16 @@ export function classifiedSize(firstActive: Int32Array, span: number, outStart: 
 }
 
 /**
- * Walk each user's periods through the plan.
+ * Walk each user's periods through the plan. Rows are emitted from `outStart` on; before it only the
+ * state at `outStart` matters, so a quiet run there is crossed in a few steps rather than one a
+ * period ({@link fastForward}): the cost of history before --from grows with the user's active
+ * periods, not with the length of the range.
  * @param users number of user codes in the log
  * @param outStart first period offset to emit rows for
  */
 export function classify(active: ActivePeriods, plan: LifecyclePlan, users: number, outStart = 0): Classified {
   const { span } = active;
-  const L = plan.idleLevels;
+  const { nextState, idleEffect, levels, lapseLimit: L } = plan;
   const firstActive = firstActivePeriods(active, users);
   const size = classifiedSize(firstActive, span, outStart);
   const out: Classified = {
@@ -64,21 +67,34 @@ export function classify(active: ActivePeriods, plan: LifecyclePlan, users: numb
     firstActive,
   };
   const dormantCode = plan.states.indexOf('dormant') + 1;
+  const walker: Walker = { code: 0, idle: 0, dormantAt: -1 };
   let row = 0;
   let i = 0;
   const n = active.user.length;
   while (i < n) {
     const u = active.user[i];
     const first = active.offset[i];
-    let cur = 0; // unseen, idle 0
-    let dormantAt = -1;
-    for (let p = first; p < span; p++) {
+    walker.code = 0; // unseen
+    walker.idle = 0;
+    walker.dormantAt = -1;
+    let p = first;
+    while (p < span) {
       const isActive = i < n && active.user[i] === u && active.offset[i] === p;
+      if (!isActive && p < outStart) {
+        const nextActive = i < n && active.user[i] === u ? active.offset[i] : span;
+        const stop = Math.min(nextActive, outStart);
+        fastForward(plan, walker, p, stop - p, dormantCode);
+        p = stop;
+        continue;
+      }
       if (isActive) i++;
-      const prevCode = Math.floor(cur / L);
-      cur = plan.next[cur * 2 + (isActive ? 1 : 0)];
-      const code = Math.floor(cur / L);
-      if (code === dormantCode && dormantAt < 0) dormantAt = p;
+      const prevCode = walker.code;
+      // one period through the plan (inlined planStep)
+      const j = (prevCode * IDLE_CLASSES + (walker.idle < L ? 0 : 1)) * levels + (isActive ? 1 : 0);
+      const code = nextState[j];
+      walker.code = code;
+      walker.idle = applyIdle(idleEffect[j], walker.idle, L);
+      if (code === dormantCode && walker.dormantAt < 0) walker.dormantAt = p;
       if (p >= outStart) {
         out.user[row] = u;
         out.period[row] = p;
@@ -88,8 +104,44 @@ export function classify(active: ActivePeriods, plan: LifecyclePlan, users: numb
         out.cohort[row] = first;
         row++;
       }
+      p++;
     }
-    out.firstDormant[u] = dormantAt;
+    out.firstDormant[u] = walker.dormantAt;
   }
   return out;
+}
+
+/** A user's position in the plan while walking. */
+interface Walker {
+  code: number;
+  idle: number;
+  /** Offset of the first period in dormant, or -1. */
+  dormantAt: number;
+}
+
+/**
+ * Move a walker through `quiet` inactive periods starting at offset `p`, in as many steps as the
+ * (state, idle class) changes: while the state stays put, a run that only adds to the idle count is
+ * crossed in one jump to the end of its class, and a fixed point ends the walk.
+ */
+export function fastForward(plan: LifecyclePlan, w: Walker, p: number, quiet: number, dormantCode: number): void {
+  const L = plan.lapseLimit;
+  let left = quiet;
+  while (left > 0) {
+    const cls = w.idle < L ? 0 : 1;
+    const j = (w.code * IDLE_CLASSES + cls) * plan.levels;
+    const code = plan.nextState[j];
+    const effect = plan.idleEffect[j];
+    if (code === w.code && (effect === IDLE_KEEP || (effect === IDLE_ADD && cls === 1) || (effect === IDLE_RESET && w.idle === 0))) return; // a fixed point
+    if (code === w.code && effect === IDLE_ADD) {
+      const k = Math.min(left, L - w.idle); // steps until the idle count reaches the next class
+      w.idle += k;
+      left -= k;
+      continue;
+    }
+    w.code = code;
+    w.idle = applyIdle(effect, w.idle, L);
+    if (code === dormantCode && w.dormantAt < 0) w.dormantAt = p + (quiet - left);
+    left--;
+  }
 }

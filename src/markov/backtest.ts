@@ -15,8 +15,8 @@
 import { TidemarkError } from '../errors.js';
 import type { WaistTables } from '../flows/types.js';
 import { projectionBands, type BandOptions } from './bands.js';
-import { fitChain } from './fit.js';
-import { assertInteger } from './guards.js';
+import { fitPooled, freshIndex, startAt } from './fit.js';
+import { assertInteger, assertNonNegativeSquare } from './guards.js';
 import { projectUnchecked } from './project.js';
 import type { Vector } from './types.js';
 
@@ -31,6 +31,8 @@ export interface BacktestOptions extends Pick<BandOptions, 'prior' | 'allowed'> 
   samples?: number;
   /** Seed; origin number k uses seed + k (default 1). */
   seed?: number;
+  /** Score only the latest N origins (default: every origin). */
+  maxOrigins?: number;
   /** Band percentiles [lo, hi] (default [10, 90]). */
   band?: [number, number];
   /** The state new users arrive in (default 'fresh'). */
@@ -56,7 +58,7 @@ export interface Backtest {
 /**
  * Backtests the projection on waist tables.
  *
- * @throws TidemarkError `INPUT_INVALID` for bad options (horizon 1 to 1000, minFit ≥ 1, window ≥ minFit,
+ * @throws TidemarkError `INPUT_INVALID` for bad options (horizon 1 to 1000, minFit ≥ 1, window ≥ minFit, maxOrigins ≥ 1,
  *   band lo < hi in [0, 100]); `NOT_ENOUGH_DATA` when no origin has `minFit` transitions before it and a
  *   later period to score against (the message gives the counts); as {@link fitChain}.
  * @example backtest(tables, { horizon: 2 }).rows // [{ horizon: 1, mae, naiveMae, coverage, … }, { horizon: 2, … }]
@@ -66,21 +68,39 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
   assertInteger(horizon, 'horizon', 1, 1000);
   assertInteger(minFit, 'minFit', 1);
   if (window !== undefined) assertInteger(window, 'window', minFit);
+  if (options.maxOrigins !== undefined) assertInteger(options.maxOrigins, 'maxOrigins', 1);
   assertInteger(seed, 'seed', 0, 0xffffffff);
   if (!(band[0] >= 0 && band[0] < band[1] && band[1] <= 100)) {
     throw new TidemarkError('INPUT_INVALID', `band must be [lo, hi] with 0 ≤ lo < hi ≤ 100 (got [${band.join(', ')}])`, { key: 'band' });
   }
-  const { transitions, periods, stateCounts } = tables;
+  const { transitions, periods, stateCounts, states } = tables;
+  const fi = freshIndex(states, options.freshState);
+  const S = states.length;
+  // prefix sums over the transitions (each checked once): the counts pooled over lo..k are
+  // cum[k + 1] − cum[lo], so each origin's fit costs states², not the number of transitions before it
+  const cum: Float64Array[] = [new Float64Array(S * S)];
+  const cumFresh = [0];
+  transitions.forEach((t, k) => {
+    assertNonNegativeSquare(t.counts, states, `counts ${t.from}..${t.to}`);
+    const next = cum[k].slice();
+    t.counts.forEach((row, i) => row.forEach((v, j) => (next[i * S + j] += v)));
+    cum.push(next);
+    cumFresh.push(cumFresh[k] + t.fresh);
+  });
+  const periodAt = new Map(periods.map((label, i) => [label, i]));
   const sums = Array.from({ length: horizon }, () => ({ n: 0, mae: 0, naive: 0, inside: 0, cells: 0 }));
   const origins: string[] = [];
-  for (let k = minFit - 1; k < transitions.length; k++) {
-    const p = periods.indexOf(transitions[k].to);
+  // the last transition ends in the last period and has nothing after it to score: origins are k ≤ T − 2
+  const firstK = Math.max(minFit - 1, options.maxOrigins === undefined ? 0 : transitions.length - 1 - options.maxOrigins);
+  for (let k = firstK; k < transitions.length; k++) {
+    const p = periodAt.get(transitions[k].to) ?? -1;
     const steps = Math.min(horizon, periods.length - 1 - p);
     if (steps < 1) continue;
     const lo = window === undefined ? 0 : Math.max(0, k + 1 - window);
-    const fit = fitChain(tables, { selection: { from: transitions[lo].from, to: transitions[k].to }, freshState: options.freshState });
+    const pooled = states.map((_, i) => states.map((_, j) => cum[k + 1][i * S + j] - cum[lo][i * S + j]));
+    const fit = fitPooled(states, fi, pooled, cumFresh[k + 1] - cumFresh[lo], startAt(tables, p, transitions[k], fi), { from: transitions[lo].from, to: transitions[k].to, transitions: k + 1 - lo });
     const point = projectUnchecked(fit.matrix, fit.start, fit.inflow, steps);
-    const bands = projectionBands(fit.counts, fit.start, fit.inflow, steps, { samples, seed: (seed + k) % 2 ** 32, percentiles: band, prior: options.prior, allowed: options.allowed });
+    const bands = projectionBands(fit.counts, fit.start, fit.inflow, steps, { samples, seed: (seed + k) % 2 ** 32, percentiles: band, prior: options.prior, allowed: options.allowed, withCounts: false });
     const naive = shares(fit.start);
     origins.push(transitions[k].to);
     for (let h = 1; h <= steps; h++) {

@@ -6,7 +6,7 @@
  * start and inflow are held fixed. Same seed and options → identical output.
  */
 import { TidemarkError } from '../errors.js';
-import { sampleTransitionMatrix, type DirichletOptions } from './dirichlet.js';
+import { dirichletParameters, sampleFromParameters, type DirichletOptions } from './dirichlet.js';
 import { assertCounts, assertInteger, assertNonNegativeSquare } from './guards.js';
 import { projectUnchecked } from './project.js';
 import { quantileSorted } from './quantile.js';
@@ -20,11 +20,13 @@ export interface BandOptions extends DirichletOptions {
   seed?: number;
   /** Percentiles in [0, 100], ascending (default [10, 50, 90]). */
   percentiles?: number[];
+  /** Band the counts as well as the shares (default true; false leaves `counts` empty, for callers that read shares only). */
+  withCounts?: boolean;
 }
 
 export interface Bands {
   percentiles: number[];
-  /** counts[k][t][s]: percentile percentiles[k] of the count of states[s] at step t. */
+  /** counts[k][t][s]: percentile percentiles[k] of the count of states[s] at step t (empty when not asked for). */
   counts: Matrix[];
   /** shares[k][t][s]: the same for shares. */
   shares: Matrix[];
@@ -52,21 +54,24 @@ export function projectionBands(counts: Matrix, start: Vector, inflow: Vector, h
     throw new TidemarkError('INPUT_INVALID', `percentiles must be ascending numbers in [0, 100] (got ${percentiles.join(', ')})`, { key: 'percentiles' });
   }
   const rng = mulberry32(seed);
-  const runs = Array.from({ length: samples }, () => projectUnchecked(sampleTransitionMatrix(rng, counts, options), start, inflow, horizon));
-  const band = (value: (run: Projection, t: number, s: number) => number): Matrix[] => {
+  const alpha = dirichletParameters(counts, options); // checked once, sampled `samples` times
+  const runs = Array.from({ length: samples }, () => projectUnchecked(sampleFromParameters(rng, alpha), start, inflow, horizon));
+  const sorted = new Float64Array(samples);
+  const band = (of: (run: Projection) => Matrix): Matrix[] => {
     const out = percentiles.map(() => Array.from({ length: horizon + 1 }, () => new Array<number>(n).fill(0)));
     for (let t = 0; t <= horizon; t++) {
       for (let s = 0; s < n; s++) {
-        const sorted = runs.map((run) => value(run, t, s)).sort((a, b) => a - b);
-        percentiles.forEach((p, k) => (out[k][t][s] = quantileSorted(sorted, p / 100)));
+        for (let k = 0; k < samples; k++) sorted[k] = of(runs[k])[t][s];
+        sorted.sort(); // numeric order
+        for (let k = 0; k < percentiles.length; k++) out[k][t][s] = quantileSorted(sorted, percentiles[k] / 100);
       }
     }
     return out;
   };
   return {
     percentiles: percentiles.slice(),
-    counts: band((run, t, s) => run.counts[t][s]),
-    shares: band((run, t, s) => run.shares[t][s]),
+    counts: options.withCounts === false ? [] : band((run) => run.counts),
+    shares: band((run) => run.shares),
     samples,
     seed,
   };

@@ -47,8 +47,12 @@ export function sampleDirichlet(rng: Rng, alpha: Vector): Vector {
  * @example sampleTransitionMatrix(mulberry32(1), [[30, 10], [0, 0]]) // [[~0.75, ~0.25], [0, 1]]
  */
 export function sampleTransitionMatrix(rng: Rng, counts: Matrix, options: DirichletOptions = {}): Matrix {
-  const alpha = dirichletParameters(counts, options);
-  return alpha.map((row, i) => (row === null ? counts[i].map((_, j) => (i === j ? 1 : 0)) : sampleDirichlet(rng, row)));
+  return sampleFromParameters(rng, dirichletParameters(counts, options));
+}
+
+/** One sampled matrix from parameters already checked by {@link dirichletParameters} (a null row stays absorbing). */
+export function sampleFromParameters(rng: Rng, alpha: (Vector | null)[]): Matrix {
+  return alpha.map((row, i) => (row === null ? alpha.map((_, j) => (i === j ? 1 : 0)) : sampleDirichlet(rng, row)));
 }
 
 /**

@@ -8,7 +8,7 @@
  * P[i][i] = 1, and listed in `emptyRows` so the caller can warn; the fit never throws for it.
  */
 import { TidemarkError, suggestion } from '../errors.js';
-import type { WaistTables } from '../flows/types.js';
+import type { TransitionCounts, WaistTables } from '../flows/types.js';
 import { assertNonNegativeSquare } from './guards.js';
 import { selectTransitions, type TransitionSelection } from '../flows/select.js';
 import type { Matrix, MarkovModel, Vector } from './types.js';
@@ -42,23 +42,45 @@ export interface FitOptions {
  */
 export function fitChain(tables: WaistTables, options: FitOptions = {}): FittedChain {
   const { states } = tables;
-  const freshState = options.freshState ?? 'fresh';
-  const fi = states.indexOf(freshState);
-  if (fi < 0) {
-    throw new TidemarkError('INPUT_INVALID', `the arrival state '${freshState}' is not a state of the tables`, { key: 'freshState' }, suggestion(freshState, states) ?? `states are: ${states.join(', ')}`);
-  }
+  const fi = freshIndex(states, options.freshState);
   const picked = selectTransitions(tables, options.selection);
   const counts = states.map(() => states.map(() => 0));
   for (const t of picked) {
     assertNonNegativeSquare(t.counts, states, `counts ${t.from}..${t.to}`);
     t.counts.forEach((row, i) => row.forEach((v, j) => (counts[i][j] += v)));
   }
-  const { matrix, emptyRows } = normaliseCounts(counts, states);
-  const inflow = states.map((_, i) => (i === fi ? picked.reduce((s, t) => s + t.fresh, 0) / picked.length : 0));
   const last = picked[picked.length - 1];
-  const at = tables.periods.indexOf(last.to);
-  const start = at >= 0 && tables.stateCounts[at] ? tables.stateCounts[at].slice() : states.map((_, j) => last.counts.reduce((s, row) => s + row[j], 0) + (j === fi ? last.fresh : 0));
-  return { states, matrix, start, inflow, counts, emptyRows, range: { from: picked[0].from, to: last.to, transitions: picked.length } };
+  const start = startAt(tables, tables.periods.indexOf(last.to), last, fi);
+  return fitPooled(states, fi, counts, picked.reduce((s, t) => s + t.fresh, 0), start, { from: picked[0].from, to: last.to, transitions: picked.length });
+}
+
+/** The state counts at period index `at` (the later period of `last`), or, when the tables lack them, the column sums of `last` plus its arrivals. */
+export function startAt(tables: Pick<WaistTables, 'stateCounts'>, at: number, last: TransitionCounts, fi: number): Vector {
+  const row = at >= 0 ? tables.stateCounts[at] : undefined;
+  return row ? row.slice() : last.counts[0].map((_, j) => last.counts.reduce((s, r) => s + r[j], 0) + (j === fi ? last.fresh : 0));
+}
+
+/**
+ * The index of the arrival state.
+ * @throws TidemarkError `INPUT_INVALID` when it is not one of `states` (with "did you mean").
+ */
+export function freshIndex(states: readonly string[], freshState = 'fresh'): number {
+  const fi = states.indexOf(freshState);
+  if (fi < 0) {
+    throw new TidemarkError('INPUT_INVALID', `the arrival state '${freshState}' is not a state of the tables`, { key: 'freshState' }, suggestion(freshState, states) ?? `states are: ${states.join(', ')}`);
+  }
+  return fi;
+}
+
+/**
+ * A fitted chain from counts already pooled over `range.transitions` transitions, with `freshTotal`
+ * arrivals over them (the mean is the inflow). Shared by {@link fitChain} and the backtest, which pools
+ * by prefix sums.
+ */
+export function fitPooled(states: string[], fi: number, counts: Matrix, freshTotal: number, start: Vector, range: FittedChain['range']): FittedChain {
+  const { matrix, emptyRows } = normaliseCounts(counts, states);
+  const inflow = states.map((_, i) => (i === fi ? freshTotal / range.transitions : 0));
+  return { states, matrix, start, inflow, counts, emptyRows, range };
 }
 
 /**

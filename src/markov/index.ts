@@ -28,7 +28,7 @@ export { meanFirstPassage, type MeanFirstPassage } from './ergodic.js';
 // What-if
 export { parseScenario, type Edit } from './scenario.js';
 export { reweightRow } from './reweight.js';
-export { applyScenario, whatIf, type AppliedScenario, type ScenarioModel, type WhatIf } from './whatif.js';
+export { applyScenario, checkEdits, whatIf, type AppliedScenario, type MoveRules, type ScenarioModel, type WhatIf } from './whatif.js';
 
 // Uncertainty and backtest
 export { mulberry32, normal, type Rng } from './random.js';

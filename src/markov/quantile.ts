@@ -11,7 +11,7 @@ import { TidemarkError } from '../errors.js';
  * @throws TidemarkError `INPUT_INVALID` for an empty sample or p outside [0, 1].
  * @example quantileSorted([1, 2, 3, 4], 0.5) // 2.5
  */
-export function quantileSorted(sorted: readonly number[], p: number): number {
+export function quantileSorted(sorted: ArrayLike<number>, p: number): number {
   if (sorted.length === 0) throw new TidemarkError('INPUT_INVALID', 'cannot take a percentile of an empty sample', { key: 'samples' });
   if (!(p >= 0 && p <= 1)) throw new TidemarkError('INPUT_INVALID', `percentile level must be in [0, 1] (got ${String(p)})`, { key: 'percentiles' });
   const h = (sorted.length - 1) * p;

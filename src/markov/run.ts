@@ -12,7 +12,7 @@ import { firstPassage, type FirstPassage } from './passage.js';
 import { project } from './project.js';
 import { stationary, type Stationary } from './stationary.js';
 import { validateModel } from './validate.js';
-import { whatIf, type WhatIf } from './whatif.js';
+import { whatIf, type MoveRules, type WhatIf } from './whatif.js';
 
 type Counts = Record<string, number>;
 
@@ -74,11 +74,15 @@ export interface ProjectionOptions {
   /** Target state for first passage. */
   until?: string;
   whatIf?: string[];
+  /** The moves the states allow (lifecycle rules: `lifecycle/moves.ts`); what-ifs on others are refused. */
+  moves?: MoveRules;
   samples: number;
   seed: number;
   band: [number, number];
   backtest?: boolean;
   backtestHorizon?: number;
+  /** Score only the latest N backtest origins (default: all). */
+  backtestOrigins?: number;
 }
 
 /**
@@ -102,7 +106,7 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
   if (o.inflow !== undefined) {
     const fi = states.indexOf('fresh');
     const into = fi >= 0 ? fi : inflow.findIndex((v) => v > 0);
-    if (into < 0) throw new TidemarkError('USAGE', '--inflow needs a state that new users arrive in: no fresh state and no inflow given', { key: '--inflow' });
+    if (into < 0) throw new TidemarkError('INPUT_INVALID', 'a new-user inflow needs a state that new users arrive in: the model has no fresh state and no inflow', { key: 'inflow' });
     inflow = states.map((_, i) => (i === into ? o.inflow! : 0));
   }
   const chain = { states, matrix };
@@ -131,12 +135,12 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
   };
   if (o.until) out.firstPassage = passageOutput(states, firstPassage(chain, o.until), o.until);
   if (o.whatIf && o.whatIf.length > 0) {
-    const w: WhatIf = whatIf({ states, matrix, inflow }, o.whatIf, start, o.horizon);
+    const w: WhatIf = whatIf({ states, matrix, inflow, moves: o.moves }, o.whatIf, start, o.horizon);
     out.scenario = { edits: w.scenario.changes, baseline: steps(states, w.baseline), projected: steps(states, w.projected), difference: steps(states, w.difference) };
   }
   if ('tables' in input && o.backtest !== false) {
     try {
-      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band, prior: PRIOR });
+      out.backtest = backtest(input.tables, { horizon: o.backtestHorizon ?? 4, seed: o.seed, band: o.band, prior: PRIOR, maxOrigins: o.backtestOrigins });
     } catch (e) {
       if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') out.backtest = { skipped: e.message };
       else throw e;

@@ -12,9 +12,12 @@
  *   touch the same entry (then they apply in order: `A->B=0.2, A->B*2` gives 0.4);
  * - `inflow*k` scales every state's inflow; `inflow=N` sets the total and keeps the split across
  *   states (refused when the inflow is 0 everywhere: there is no split to keep, name the state with
- *   `inflow.STATE=N`); `inflow.STATE*k` needs that state's inflow > 0, `inflow.STATE=N` any N ≥ 0.
+ *   `inflow.STATE=N`); `inflow.STATE*k` needs that state's inflow > 0, `inflow.STATE=N` any N ≥ 0;
+ * - with {@link MoveRules} (a chain of lifecycle states: `lifecycle/moves.ts`), an edit of a move the
+ *   rules make impossible is refused with the reason, inflow goes only into the arrival states, no
+ *   rescaled row may put weight on an impossible move, and every suggestion is a possible move.
  */
-import { TidemarkError, suggestion } from '../errors.js';
+import { TidemarkError, showValue, suggestion } from '../errors.js';
 import { assertCounts, assertInteger, assertStochastic } from './guards.js';
 import { fmt } from './names.js';
 import { projectUnchecked } from './project.js';
@@ -24,6 +27,54 @@ import type { Chain, Matrix, Projection, Vector } from './types.js';
 
 export interface ScenarioModel extends Chain {
   inflow: Vector;
+  /** The moves the states allow; without it every move is allowed (a planner's own chain). */
+  moves?: MoveRules;
+}
+
+/** Which moves between the model's states can happen (see `lifecycle/moves.ts`). */
+export interface MoveRules {
+  /** Every possible move as `from->to`. */
+  list: readonly string[];
+  /** The states new users arrive in. */
+  arrivals: readonly string[];
+  allows(from: string, to: string): boolean;
+  /** Why `from->to` cannot happen, one clause. */
+  why(from: string, to: string): string;
+  /** The target of the possible move out of `from` that replaces `to`, if any. */
+  instead(from: string, to: string): string | undefined;
+}
+
+/**
+ * Checks the state names and moves of parsed edits, before any number is looked at: every state is
+ * one of `states`, and with `moves` every edited move can happen and every inflow state is an arrival
+ * state. Suggestions name only possible moves.
+ *
+ * @throws TidemarkError `INPUT_INVALID` (key `scenario`) naming the edit, the reason and, when there
+ *   is one, a possible move to use instead.
+ * @example checkEdits(parseScenario(['lapsing->engaged*1.2']), STATES, lifecycleMoves({ lapseLimit: 2 }))
+ *   // throws: lapsing->engaged cannot happen: a lapsing user who is active the next period becomes returned
+ */
+export function checkEdits(edits: readonly Edit[], states: readonly string[], moves?: MoveRules): void {
+  for (const e of edits) {
+    if (e.target === 'transition') {
+      const unknown = [e.from, e.to].find((s) => !states.includes(s));
+      const suffix = e.text.slice(Math.max(e.text.lastIndexOf('*'), e.text.lastIndexOf('=')));
+      if (unknown !== undefined) {
+        const near = moves ? suggestion(`${e.from}->${e.to}`, moves.list) : suggestion(unknown, states);
+        const hint = moves ? (near ? near.replace(/'\?$/, `${suffix}'?`) : `possible moves: ${moves.list.join(', ')}`) : (near ?? `states are: ${states.join(', ')}`);
+        throw refuse(e.text, `'${showValue(unknown)}' is not a state of the model`, hint);
+      }
+      if (moves && !moves.allows(e.from, e.to)) {
+        const alt = moves.instead(e.from, e.to);
+        throw refuse(e.text, `${e.from}->${e.to} cannot happen: ${moves.why(e.from, e.to)}`, alt ? `did you mean '${e.from}->${alt}${suffix}'?` : undefined);
+      }
+    } else if (e.state !== undefined) {
+      if (!states.includes(e.state)) throw refuse(e.text, `'${showValue(e.state)}' is not a state of the model`, suggestion(e.state, moves ? moves.arrivals : states) ?? `states are: ${states.join(', ')}`);
+      if (moves && !moves.arrivals.includes(e.state)) {
+        throw refuse(e.text, `new users arrive only in ${moves.arrivals.join(' or ')}, not in ${e.state}`, `did you mean 'inflow.${moves.arrivals[0]}${e.text.slice(Math.max(e.text.lastIndexOf('*'), e.text.lastIndexOf('=')))}'?`);
+      }
+    }
+  }
 }
 
 export interface AppliedScenario extends ScenarioModel {
@@ -44,6 +95,7 @@ export function applyScenario(model: ScenarioModel, edits: readonly Edit[]): App
   const { states } = model;
   assertStochastic(model.matrix, states);
   assertCounts(model.inflow, states.length, 'inflow', states);
+  checkEdits(edits, states, model.moves);
   const pins = new Map<number, Map<number, number>>();
   let inflow = model.inflow.slice();
   const changes: AppliedScenario['changes'] = [];
@@ -63,6 +115,16 @@ export function applyScenario(model: ScenarioModel, edits: readonly Edit[]): App
     }
   }
   const matrix = model.matrix.map((row, i) => (pins.has(i) ? reweightRow(row, pins.get(i) as Map<number, number>, i, states[i]) : row.slice()));
+  if (model.moves) {
+    // a rescaled row may send its remainder to the diagonal (see reweight.ts): refuse it where that move cannot happen
+    const moves = model.moves;
+    matrix.forEach((row, i) => row.forEach((v, j) => {
+      if (v > 0 && model.matrix[i][j] === 0 && !moves.allows(states[i], states[j])) {
+        throw refuse(changes.map((c) => c.text).join(', '), `the rest of row '${states[i]}' would go to ${states[i]}->${states[j]}, which cannot happen: ${moves.why(states[i], states[j])}`,
+          `also set where the rest goes: ${moves.list.filter((m) => m.startsWith(`${states[i]}->`)).join(', ')}`);
+      }
+    }));
+  }
   return { states, matrix, inflow, changes };
 }
 
@@ -137,5 +199,5 @@ function total(v: Vector, state: string | undefined, states: readonly string[]):
 }
 
 function refuse(text: string, why: string, hint?: string): TidemarkError {
-  return new TidemarkError('INPUT_INVALID', `scenario "${text}": ${why}`, { key: 'scenario' }, hint);
+  return new TidemarkError('INPUT_INVALID', `scenario "${showValue(text, 80)}": ${why}`, { key: 'scenario' }, hint);
 }

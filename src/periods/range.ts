@@ -3,14 +3,17 @@
  * --from/--to (a --from before the data or a --to after them changes nothing). Keys are period keys
  * of one scheme (consecutive integers).
  */
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 import { periodKeyOfDate, type PeriodScheme } from './calendar.js';
 
-/** The period key of a --from/--to date, or a RANGE_INVALID error naming the option. */
-export function optionKey(text: string | undefined, scheme: PeriodScheme, option: '--from' | '--to'): number | undefined {
+/**
+ * The period key of the range's `from` or `to` date.
+ * @throws TidemarkError RANGE_INVALID (key `from` or `to`) when the text is not a YYYY-MM-DD date.
+ */
+export function optionKey(text: string | undefined, scheme: PeriodScheme, side: 'from' | 'to'): number | undefined {
   if (text === undefined) return undefined;
   const k = periodKeyOfDate(text.trim(), scheme);
-  if (k === undefined) throw new TidemarkError('RANGE_INVALID', `${option} '${text}' is not a date`, { key: option }, 'Write a date as YYYY-MM-DD');
+  if (k === undefined) throw new TidemarkError('RANGE_INVALID', `'${showValue(text)}' is not a date`, { key: side }, 'Write a date as YYYY-MM-DD, e.g. 2026-05-04');
   return k;
 }
 
@@ -28,10 +31,10 @@ export function resolveRange(minKey: number, maxKey: number, fromKey: number | u
   const start = minKey;
   const outKey = Math.max(fromKey ?? start, start);
   if (fromKey !== undefined && toKey !== undefined && fromKey > toKey) {
-    throw new TidemarkError('RANGE_INVALID', `--from ${labelOf(fromKey)} is after --to ${labelOf(toKey)}`, { key: '--from' }, 'Put the earlier date in --from');
+    throw new TidemarkError('RANGE_INVALID', `the range starts in ${labelOf(fromKey)}, after its end ${labelOf(toKey)}`, { key: 'from' }, 'Put the earlier date first');
   }
   if (outKey > end) {
-    throw new TidemarkError('RANGE_INVALID', `--from ${labelOf(outKey)} is after the last period ${labelOf(end)}`, { key: '--from' }, `The data run from ${labelOf(minKey)} to ${labelOf(maxKey)}`);
+    throw new TidemarkError('RANGE_INVALID', `the range starts in ${labelOf(outKey)}, after the last period of the data, ${labelOf(end)}`, { key: 'from' }, `The data run from ${labelOf(minKey)} to ${labelOf(maxKey)}`);
   }
   return { startKey: start, span: end - start + 1, outStart: outKey - start };
 }

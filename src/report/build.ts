@@ -3,6 +3,7 @@
  * charts and data tables. Pure: no I/O (see write.ts for the files).
  */
 import type { EngineResult } from '../engines/types.js';
+import { showValue } from '../errors.js';
 import { cohortReport, type CohortsOutput } from '../explain/cohortReport.js';
 import { explainRetention, type ExplainOutput } from '../explain/run.js';
 import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
@@ -64,6 +65,13 @@ const p1 = (x: number | null | undefined) => (x === null || x === undefined ? '�
 const pts = (x: number) => `${x >= 0 ? '+' : '−'}${Math.abs(x * 100).toFixed(1)}`;
 const n0 = (x: number) => Math.round(x).toLocaleString('en-US');
 
+/**
+ * Acquisition cohorts the report reads, and backtest origins it scores: the latest 52 of each (a year
+ * of weeks). Both would otherwise grow with the square of the periods; the commands give them all.
+ */
+export const REPORT_COHORTS = 52;
+export const REPORT_BACKTEST_ORIGINS = 52;
+
 export const CAUTIONS = [
   'Event data about people is personal data. This report shows aggregates only: counts, shares and rates, never a user id.',
   'Before contacting anyone from an audience list, follow local privacy law and the consent each person gave.',
@@ -82,6 +90,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   const documents: ReportModel['documents'] = [{ name: 'flows', value: { ...flows, rows: result.rows, lastPeriod: result.lastPeriod } }];
   const last = flows.transitions[flows.transitions.length - 1];
 
+  warnings.push(...result.warnings);
   if (o.droppedPartial) warnings.push(o.droppedPartial);
   if (w.warmup > 0) warnings.push(`The first ${w.warmup} ${grainWord}${w.warmup > 1 ? 's' : ''} (${w.periods.slice(0, w.warmup).join(', ')}) are a warm-up: classified, but left out of flows and retention.`);
   const censoring = leftCensoringHint(flows, grainWord);
@@ -136,8 +145,12 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
 
   // cohorts and survival
   let cohorts: CohortsOutput | undefined;
-  if (w.cohorts.some((c) => c.active.length > 1)) {
-    cohorts = cohortReport(w.cohorts, { ages: [1, 4, 12], window: [4, 8], groupBy: 'month', minN: rules.minCell });
+  // the latest cohorts only, so that the report grows linearly with the periods (the whole triangle
+  // has cohorts × periods cells); `tidemark cohorts` gives every cohort
+  const recent = w.cohorts.slice(-REPORT_COHORTS);
+  if (recent.some((c) => c.active.length > 1)) {
+    cohorts = cohortReport(recent, { ages: [1, 4, 12], window: [4, 8], groupBy: 'month', minN: rules.minCell });
+    if (w.cohorts.length > recent.length) warnings.push(`The cohort analyses read the latest ${REPORT_COHORTS} of ${n0(w.cohorts.length)} acquisition cohorts (from ${recent[0].cohort}); tidemark cohorts gives every one.`);
     documents.push({ name: 'cohorts', value: cohorts });
     charts.push(cohortTriangleChart(cohorts, grainWord, rules.minCell));
   }
@@ -152,7 +165,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   if (flows.transitions.length >= 1) {
     const horizon = o.horizon ?? 12;
     const fit = o.fit ?? String(Math.min(8, flows.transitions.length));
-    const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4 });
+    const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4, backtestOrigins: REPORT_BACKTEST_ORIGINS });
     documents.push({ name: 'projection', value: proj });
     charts.push(projectionChart(proj, grainWord));
     const end = proj.projection[horizon];
@@ -177,7 +190,8 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   const seg = chosenDoc?.bySegment;
   if (seg) {
     tables.push({
-      name: `by-${seg.by}`.replace(/[^A-Za-z0-9_-]/g, '_'), title: `Retention by ${seg.by}, ${chosenDoc!.base} to ${chosenDoc!.compare}`,
+      // a file name holds at most 255 bytes: keep the column's part short
+      name: `by-${seg.by}`.replace(/[^A-Za-z0-9_-]/g, '_').slice(0, 64), title: `Retention by ${showValue(seg.by, 40)}, ${chosenDoc!.base} to ${chosenDoc!.compare}`,
       note: `${seg.sentence} ${seg.caution}`,
       header: [seg.by, 'users before', 'retention before', 'users after', 'retention after', 'rate effect (pts)', 'mix effect (pts)'],
       formats: ['text', 'int', 'pct', 'int', 'pct', 'num', 'num'],

@@ -55,7 +55,7 @@ function cell(v: unknown, format: Parameters<typeof displayCell>[1]): string {
 }
 
 export function htmlTable(t: DataTable): string {
-  return `<div class="scroll"><table><thead><tr>${t.header.map((h) => `<th>${e(h)}</th>`).join('')}</tr></thead><tbody>${t.rows.map((r) => `<tr>${r.map((v, i) => cell(v, t.formats?.[i])).join('')}</tr>`).join('')}</tbody></table></div>`;
+  return `<div class="scroll"><table><thead><tr>${t.header.map((h) => `<th>${escapeShort(h, 48)}</th>`).join('')}</tr></thead><tbody>${t.rows.map((r) => `<tr>${r.map((v, i) => cell(v, t.formats?.[i])).join('')}</tr>`).join('')}</tbody></table></div>`;
 }
 
 /** The natural width of a rendered SVG, from its width attribute. */
@@ -109,7 +109,7 @@ ${tables}
 <dl class="meta">
 <dt>rules</dt><dd>${e(m.rules.name ?? 'unnamed')}${m.rules.version ? ` v${e(m.rules.version)}` : ''}: ${e(m.rules.grain)} periods in ${e(m.rules.timezone)}; active = at least ${m.rules.minEvents} ${m.rules.keyEvents ? `of ${m.rules.keyEvents.map((k) => escapeShort(k, 40)).join(', ')}` : 'event(s) of any kind'}; lapsing for up to ${m.rules.lapseLimit} inactive ${e(m.grainWord)}s, then dormant</dd>
 <dt>periods</dt><dd>${e(m.periods.first)} to ${e(m.periods.last)} (${m.periods.count}), labelled by start date</dd>
-<dt>rows</dt><dd>${r.read.toLocaleString('en-US')} read, ${r.used.toLocaleString('en-US')} used, ${r.notKeyEvent.toLocaleString('en-US')} not key events, ${r.afterRange.toLocaleString('en-US')} after the range; rejected: ${rejected}</dd>
+<dt>rows</dt><dd>${r.read.toLocaleString('en-US')} read, ${r.used.toLocaleString('en-US')} used, ${r.notKeyEvent.toLocaleString('en-US')} not key events, ${r.afterRange.toLocaleString('en-US')} after the range${r.partial ? `, ${r.partial.toLocaleString('en-US')} in the incomplete last period (left out)` : ''}; rejected: ${rejected}</dd>
 <dt>states</dt><dd>fresh: first active ${e(m.grainWord)}; engaged: active this and the last ${e(m.grainWord)}; returned: active again after a quiet spell; lapsing: quiet for up to ${m.rules.lapseLimit} ${e(m.grainWord)}s; dormant: quiet for longer</dd>
 </dl>
 </section>

@@ -1,16 +1,18 @@
 /** The report's findings in Markdown (summary.md): the same text as the page, and its tables. */
 import type { ReportModel } from './build.js';
+import { escapeControls } from '../errors.js';
 import { displayCell, type DataTable } from './charts/types.js';
 
 /**
  * Escape data text for Markdown: HTML-significant characters become entities (many viewers render raw
  * HTML), inline Markdown punctuation gets a backslash (so no emphasis, code, table cell or link can
- * form), and line breaks become spaces.
+ * form), line breaks become spaces and other control codes are shown escaped (`\u001b`), so the file
+ * is safe to print on a terminal.
  */
 export function mdEscape(value: unknown, max = 80): string {
   let s = String(value ?? '').replace(/[\r\n]+/g, ' ');
   if (s.length > max) s = `${s.slice(0, max - 1)}…`;
-  return s
+  return escapeControls(s)
     .replace(/&/g, '&amp;')
     .replace(/</g, '&lt;')
     .replace(/>/g, '&gt;')

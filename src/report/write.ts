@@ -1,11 +1,10 @@
 /**
  * Write a report to a folder: index.html, summary.md, and every table behind every chart as CSV and
  * JSON, plus the full results as JSON documents. Deterministic for the same input except the one
- * "Generated …" line of index.html and summary.md.
+ * "Generated …" line of index.html and summary.md. The folder is replaced atomically and holds only
+ * this run's files (output/atomic.ts).
  */
-import { mkdirSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
-import { TidemarkError } from '../errors.js';
+import { replaceFolder, type WriteHooks } from '../output/atomic.js';
 import { toCsv } from '../output/csv.js';
 import type { ReportModel } from './build.js';
 import type { DataTable } from './charts/types.js';
@@ -33,8 +32,8 @@ export function localIds(svg: string, chart: string): string {
   });
 }
 
-/** Render every chart and write the folder. Returns the files written, relative to `dir`. */
-export async function writeReport(m: ReportModel, dir: string, generatedAt: string, onChart?: (done: number, total: number) => void): Promise<string[]> {
+/** The report's files, name → content: every chart rendered. */
+export async function reportFiles(m: ReportModel, generatedAt: string, onChart?: (done: number, total: number) => void): Promise<Map<string, string>> {
   const svgs: string[] = [];
   for (const c of m.charts) {
     svgs.push(localIds(await renderSvg(c.spec), c.id));
@@ -48,11 +47,14 @@ export async function writeReport(m: ReportModel, dir: string, generatedAt: stri
     files.set(`${t.name}.json`, tableJson(t));
   }
   for (const d of m.documents) files.set(`${d.name}.json`, `${JSON.stringify(d.value, null, 2)}\n`);
-  try {
-    mkdirSync(dir, { recursive: true });
-    for (const [name, text] of files) writeFileSync(join(dir, name), text);
-  } catch {
-    throw new TidemarkError('FILE_UNREADABLE', 'cannot write the report folder', { file: dir }, 'Check that the folder is writable');
-  }
-  return [...files.keys()];
+  return files;
+}
+
+/**
+ * Render every chart and replace the folder `dir` with the report, atomically: a crash or a full disk
+ * leaves the previous report whole. Returns the files written, relative to `dir`.
+ * @throws TidemarkError FILE_UNWRITABLE (the disk is full, no permission, `dir` holds other files).
+ */
+export async function writeReport(m: ReportModel, dir: string, generatedAt: string, onChart?: (done: number, total: number) => void, hooks?: WriteHooks): Promise<string[]> {
+  return replaceFolder(dir, await reportFiles(m, generatedAt, onChart), hooks);
 }

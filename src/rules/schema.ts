@@ -13,6 +13,30 @@ export const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday',
 export type Grain = (typeof GRAINS)[number];
 export type Weekday = (typeof WEEKDAYS)[number];
 
+/**
+ * Upper bounds of the numeric keys. A period count beyond 100,000 (274 years of days) exceeds any
+ * range tidemark reads (timestamps from 1900 to 2199), so it can only be a slip; the other bounds are
+ * far beyond any sensible value. Each refusal names the key and its bound.
+ */
+export const RULES_BOUNDS = {
+  /** Periods: lapseLimit, warmup and each tenure band edge. */
+  periods: 100_000,
+  /** activity.minEvents: key events in one period. */
+  minEvents: 1_000_000,
+  /** minCell: users in a cell. */
+  minCell: 1_000_000,
+  /** Edges in tenureBands. */
+  tenureBands: 32,
+} as const;
+
+const fmt = (n: number) => n.toLocaleString('en-US');
+
+/** A whole number in [min, max]; every refusal (wrong type, NaN, Infinity, fraction, out of range) says so in one message. */
+function wholeNumber(what: string, min: number, max: number, unit: string) {
+  const message = `${what} must be a whole number from ${fmt(min)} to ${fmt(max)} ${unit}`;
+  return z.number({ error: message }).int(message).min(min, message).max(max, message);
+}
+
 const eventName = z.string().min(1, 'an event name must not be empty');
 const columnName = z.string().min(1, 'a column name must not be empty');
 
@@ -23,10 +47,7 @@ export const activitySchema = z
       .min(1, 'list at least one event name, or leave keyEvents out to count every event')
       .optional()
       .describe('Event names that count toward activity. Omitted: every event counts.'),
-    minEvents: z
-      .number()
-      .int('minEvents must be a whole number')
-      .min(1, 'minEvents must be at least 1')
+    minEvents: wholeNumber('minEvents', 1, RULES_BOUNDS.minEvents, 'events')
       .default(1)
       .describe('Key events a user needs in a period to be active in it.'),
   })
@@ -59,31 +80,23 @@ export const rulesSchema = z
       })
       .describe('IANA time zone used to put timestamps into periods.'),
     activity: activitySchema.default({ minEvents: 1 }),
-    lapseLimit: z
-      .number()
-      .int('lapseLimit must be a whole number')
-      .min(0, 'lapseLimit must be 0 or more')
+    lapseLimit: wholeNumber('lapseLimit', 0, RULES_BOUNDS.periods, 'periods')
       .describe('Consecutive inactive periods a user is still lapsing before becoming dormant.'),
-    warmup: z
-      .number()
-      .int('warmup must be a whole number')
-      .min(0, 'warmup must be 0 or more')
+    warmup: wholeNumber('warmup', 0, RULES_BOUNDS.periods, 'periods')
       .default(0)
       .describe(
         'Leading periods that are classified but left out of flows and retention (left-censoring guard).',
       ),
     tenureBands: z
-      .array(z.number().int().min(0))
-      .min(1)
+      .array(wholeNumber('a tenure band edge', 0, RULES_BOUNDS.periods, 'periods'))
+      .min(1, 'tenureBands needs at least one edge, 0')
+      .max(RULES_BOUNDS.tenureBands, `tenureBands holds at most ${RULES_BOUNDS.tenureBands} edges`)
       .default([0, 1, 4, 12])
       .refine((b) => b[0] === 0 && b.every((v, i) => i === 0 || v > b[i - 1]), {
         message: 'tenureBands must start at 0 and increase, for example [0, 1, 4, 12]',
       })
       .describe('Lower edges of tenure bands, in periods since first active: [0, 1, 4, 12] gives 0, 1-3, 4-11, 12+.'),
-    minCell: z
-      .number()
-      .int()
-      .min(1)
+    minCell: wholeNumber('minCell', 1, RULES_BOUNDS.minCell, 'users')
       .default(30)
       .describe('Cells with fewer users than this are flagged as small.'),
     columns: columnsSchema.default({ user: 'user_id', timestamp: 'timestamp', event: 'event' }),

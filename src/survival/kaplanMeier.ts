@@ -14,6 +14,15 @@
  * that point's time and before the next point, so atRisk(next) = atRisk − events − censored.
  * When events happen at t = 0 the t = 0 point carries them (its survival is then below 1).
  * Policy: see `riskTable.ts` (no users ⇒ NOT_ENOUGH_DATA).
+ *
+ * Median: the time where Ŝ first falls to 0.5 or below, and when Ŝ sits exactly at 0.5 over a stretch
+ * (from the event time tⱼ to the next event time tⱼ₊₁) the midpoint (tⱼ + tⱼ₊₁)/2 of that stretch.
+ * This is the convention of SAS/STAT PROC LIFETEST ("Product-Limit Method": a percentile on a flat
+ * stretch is the midpoint of the stretch) and of the R survival package's quantile.survfit (Therneau),
+ * which notes that it gives the usual sample median when nobody is censored. A curve that stays at
+ * 0.5 to the end of the data takes the midpoint of tⱼ and the last observed time, as R does. The other
+ * convention found in the literature, the smallest t with Ŝ(t) ≤ 0.5, gives tⱼ instead; the two agree
+ * whenever Ŝ steps over 0.5 rather than onto it. "Exactly" allows 1e-12 for rounding in the product.
  */
 import { TidemarkError } from '../errors.js';
 import type { DurationRow } from '../flows/types.js';
@@ -38,7 +47,7 @@ export interface KaplanMeierPoint {
 
 export interface KaplanMeierCurve {
   points: KaplanMeierPoint[];
-  /** First event time with survival ≤ 0.5 (1e-12 allowed for rounding); null when it never gets there. */
+  /** Where the curve falls to 0.5 (midpoint of a flat stretch at exactly 0.5, see the module comment); null when it never gets there. */
   median: number | null;
   users: number;
   events: number;
@@ -65,6 +74,7 @@ function point(t: number, survival: number, atRisk: number, events: number, gree
  *
  * @throws {TidemarkError} INPUT_INVALID for a bad row or level; NOT_ENOUGH_DATA when no row has users.
  * @example kaplanMeier(sixMp).points[1] // { t: 6, atRisk: 21, events: 3, survival: 0.857142…, se: 0.0763604…, … } (Freireich et al. 1963)
+ * @example kaplanMeier(durations 1, 2, 3, 4, all observed).median // 2.5: Ŝ = 0.5 from t = 2 to t = 3
  */
 export function kaplanMeier(rows: readonly DurationRow[], confidence = 0.95): KaplanMeierCurve {
   const z = zForConfidence(confidence);
@@ -85,8 +95,20 @@ export function kaplanMeier(rows: readonly DurationRow[], confidence = 0.95): Ka
     }
     points[points.length - 1].censored += row.censored;
   }
-  const reached = points.find((p) => p.survival <= 0.5 + 1e-12);
-  return { points, median: reached ? reached.t : null, users, events, confidence };
+  return { points, median: medianTime(points, table[table.length - 1].t), users, events, confidence };
+}
+
+/** Rounding allowed when deciding that Ŝ sits exactly at 0.5. */
+const HALF_TOLERANCE = 1e-12;
+
+/** The median of the curve's points (see the module comment); `lastTime` is the last observed time. */
+function medianTime(points: readonly KaplanMeierPoint[], lastTime: number): number | null {
+  const i = points.findIndex((p) => p.survival <= 0.5 + HALF_TOLERANCE);
+  if (i < 0) return null;
+  const at = points[i];
+  if (Math.abs(at.survival - 0.5) > HALF_TOLERANCE) return at.t;
+  const end = i + 1 < points.length ? points[i + 1].t : lastTime;
+  return (at.t + end) / 2;
 }
 
 /**

@@ -17,7 +17,7 @@ export interface SurvivalOutput {
 
 /** Merge consecutive cohort labels into blocks of `size` (labelled by the block's first cohort). */
 export function mergeCohorts(rows: readonly DurationRow[], size: number): DurationRow[] {
-  if (!(Number.isInteger(size) && size >= 1)) throw new TidemarkError('USAGE', `--merge must be a whole number ≥ 1, not ${size}`, { key: '--merge' });
+  if (!(Number.isInteger(size) && size >= 1)) throw new TidemarkError('INPUT_INVALID', `cohorts are merged in blocks of a whole number ≥ 1, not ${size}`, { key: 'size' });
   const labels = [...new Set(rows.map((r) => r.group))].sort();
   const blockOf = new Map(labels.map((l, i) => [l, labels[i - (i % size)]]));
   const m = new Map<string, DurationRow>();
@@ -31,11 +31,16 @@ export function mergeCohorts(rows: readonly DurationRow[], size: number): Durati
   return [...m.values()];
 }
 
+/** Groups the log-rank test compares at most (a test across more says little and costs groups³). */
+export const MAX_LOGRANK_GROUPS = 100;
+
 export function survivalCurves(rows: readonly DurationRow[], groupedBy: string, measure = 'periods from first active to first dormant'): SurvivalOutput {
   const curves = kaplanMeierByGroup(rows);
   let lr: SurvivalOutput['logRank'] = null;
   let note: string | undefined;
-  if (curves.length >= 2) {
+  if (curves.length > MAX_LOGRANK_GROUPS) {
+    note = `log-rank test not run across ${curves.length} groups (its cost grows with the cube of the groups; at most ${MAX_LOGRANK_GROUPS}): pool cohorts with --merge, or compare fewer groups`;
+  } else if (curves.length >= 2) {
     try {
       const r = logRank(rows);
       lr = { chiSquare: r.chiSquare, df: r.df, pValue: r.p, excluded: r.excluded };

@@ -32,13 +32,14 @@ export function waistFromResult(result: EngineResult, rules: Rules, engine: stri
     states: stateTable({ lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents }, GRAIN_NOUN[rules.grain]),
     engine: { name: engine, version: TIDEMARK_VERSION },
     periods: [...w.periods],
-    rows: result.rows as WaistManifest['rows'],
+    rows: { ...result.rows } as unknown as WaistManifest['rows'],
     rowsInLastPeriod: result.rowsInLastPeriod,
-    lastPeriod: { ...result.lastPeriod },
+    lastPeriod: { label: result.lastPeriod.label, coverage: result.lastPeriod.coverage, complete: result.lastPeriod.complete },
     users: result.users,
     events: result.events.map((e) => ({ ...e })),
     attributes: result.attributes.map((a) => ({ ...a })),
     by: w.segmentCells?.by ?? null,
+    byPerPerson: w.segmentCells?.perPerson ?? false,
   };
   return { manifest, tables: w };
 }

@@ -59,6 +59,7 @@ export const waistManifestSchema = z.strictObject({
   events: z.array(z.strictObject({ name: z.string(), rows: count, key: z.boolean() })),
   attributes: z.array(z.strictObject({ name: z.string(), values: count })),
   by: z.string().nullable().describe('The attribute of the attribute splits, or null.'),
+  byPerPerson: z.boolean().describe('Whether that attribute holds nearly one value per user: sentences then never name its values.'),
 });
 
 export type WaistManifest = z.output<typeof waistManifestSchema>;

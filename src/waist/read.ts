@@ -306,8 +306,8 @@ export function readWaist(dir: string): Waist {
     durations: canonicalDurations(durations),
   };
   if (m.by !== null) {
-    tables.segmentCells = { by: m.by, cells: canonicalSegmentCells(segmentCells) };
-    tables.segmentDurations = { by: m.by, rows: canonicalDurations(segmentDurations) };
+    tables.segmentCells = { by: m.by, cells: canonicalSegmentCells(segmentCells), perPerson: m.byPerPerson };
+    tables.segmentDurations = { by: m.by, rows: canonicalDurations(segmentDurations), perPerson: m.byPerPerson };
   }
   return { manifest: m, tables };
 }

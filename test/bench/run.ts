@@ -17,6 +17,34 @@ import { summariseFlows } from '../../src/flows/summary.js';
 import { mulberry32 } from '../../src/markov/random.js';
 import { parseRules } from '../../src/rules/load.js';
 import { periodLabel } from '../../src/periods/calendar.js';
+import { formatBytes } from '../../src/engines/budget.js';
+import { buildReport } from '../../src/report/build.js';
+import { writeReport } from '../../src/report/write.js';
+import { writeFileSync } from 'node:fs';
+
+/**
+ * Report time against the number of periods: 40 members over 20 weeks and one booking P weeks
+ * earlier (the shape of a log with one stray timestamp), for P doubling. Each step of the report is at
+ * most n log n in the periods, so the time should about double with P, not grow fourfold or more.
+ */
+async function reportScaling(dir: string): Promise<void> {
+  const rules = parseRules('grain: week\nlapseLimit: 2\n');
+  const end = Date.UTC(2026, 4, 18);
+  const rng = mulberry32(3);
+  const bulk = Array.from({ length: 200 }, (_, i) => `m${i % 40},${new Date(end - Math.floor(rng() * 20 * 604_800_000)).toISOString()},booking_made`);
+  let before = 0;
+  for (const P of [750, 1500, 3000, 6000]) {
+    const file = join(dir, `stray-${P}.csv`);
+    writeFileSync(file, ['user_id,timestamp,event', ...bulk, `m3,${new Date(end - P * 604_800_000).toISOString()},booking_made`].join('\n'));
+    const log = await readEvents([file], { rules });
+    const t = performance.now();
+    const model = buildReport(runOnLog(log, rules).result, rules);
+    await writeReport(model, join(dir, `report-${P}`), 'bench');
+    const took = (performance.now() - t) / 1000;
+    console.log(`report over ${P.toLocaleString('en-US').padStart(5)} weeks  ${took.toFixed(2)} s${before ? `  (×${(took / before).toFixed(1)} for ×2 periods)` : ''}`);
+    before = took;
+  }
+}
 
 const arg = (name: string, dflt: number) => {
   const i = process.argv.indexOf(name);
@@ -65,7 +93,7 @@ try {
   const t0 = performance.now();
   const log = await readEvents([file], { rules });
   const t1 = performance.now();
-  const { result, classified } = runOnLog(log, rules);
+  const { result, classified, footprint } = runOnLog(log, rules);
   const t2 = performance.now();
   summariseFlows(result.waist);
   const t3 = performance.now();
@@ -89,7 +117,8 @@ try {
   console.log(`engine (total)       ${secs(t1, t2)}  = active periods ${(tAct / 1000).toFixed(2)} s, classify ${(tCls / 1000).toFixed(2)} s, arquero waist ${(tAgg / 1000).toFixed(2)} s`);
   console.log(`flow summaries       ${secs(t2, t3)}`);
   console.log(`user-periods         ${classified.size.toLocaleString('en-US')}`);
-  console.log(`peak RSS             ${mb(peak)} (${mb(base)} before reading)`);
+  console.log(`peak RSS             ${mb(peak)} (${mb(base)} before reading); the engine's estimate of its own need: ${formatBytes(footprint.total)} (${footprint.parts.map((p) => `${p.what} ${formatBytes(p.bytes)}`).join(', ')})`);
+  await reportScaling(dir);
 } finally {
   rmSync(dir, { recursive: true, force: true });
 }

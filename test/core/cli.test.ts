@@ -154,8 +154,16 @@ describe('exit codes and messages', () => {
     expect(JSON.parse(r.out).rows).toMatchObject({ read: 2, used: 1, rejected: { 'bad timestamp': 1 } });
   });
 
-  it('a warm-up that leaves no period to analyse: exit 1, one line', async () => {
-    expectOneLineFailure(await run('flows', '--events', events, '--rules', rules, '--warmup', '9'));
+  it('a --warmup that leaves no period to analyse: exit 2 naming the flag, one line', async () => {
+    const r = await run('flows', '--events', events, '--rules', rules, '--warmup', '9');
+    expect(r.code, r.err).toBe(2);
+    expect(r.err.split('\n').filter((l) => l.trim() !== '')).toEqual([expect.stringMatching(/^tidemark: --warmup: a warm-up of 9 periods leaves no period/)]);
+  });
+
+  it('the same warm-up from the rules file is a data problem: exit 1, one line naming the key', async () => {
+    const warm = t.file('warm-rules.yaml', rulesYaml({ ...RULES, warmup: 9 }));
+    const line = expectOneLineFailure(await run('flows', '--events', events, '--rules', warm));
+    expect(line).toMatch(/key warmup: a warm-up of 9 periods/);
   });
 
   it('an unknown option: exit 2', async () => {

@@ -169,6 +169,17 @@ describe('fitSbg — errors and edge cases', () => {
     }
   });
 
+  it('two ages are not identified: the likelihood depends on α/(α + β) alone, so the fit is refused', () => {
+    // independent computation: with n0, n1 only, LL = (n0 − n1)·ln P(T = 1) + n1·ln S(1), and
+    // P(T = 1) = α/(α + β), S(1) = β/(α + β) (module definitions), so (1, 2) and (10, 20) tie
+    const ll = (a: number, b: number) => sbgLogLikelihood(a, b, [100, 60]);
+    const byHand = 40 * Math.log(1 / 3) + 60 * Math.log(2 / 3);
+    expect(ll(1, 2)).toBeCloseTo(byHand, 10);
+    expect(ll(10, 20)).toBeCloseTo(byHand, 10);
+    expect(() => fitSbg([100, 60])).toThrow(expect.objectContaining({ code: 'NOT_ENOUGH_DATA', message: expect.stringMatching(/cannot identify/) }));
+    expect(fitSbg([100, 60, 45]).converged).toBe(true);
+  });
+
   it('flags a fit pushed to the edge of the parameter space', () => {
     // Half leave at once and the rest never leave: the MLE is the limit α, β → 0.
     const f = fitSbg([100, 50, 50, 50, 50]);

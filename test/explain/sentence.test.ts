@@ -23,6 +23,17 @@ describe('decompositionSentence', () => {
     );
   });
 
+  it('with unnamedGroups names no group: total rate effect within groups, mix between groups (per-person columns)', () => {
+    // The same makerspace table as above, keyed by member emails: rate effects −2.627 + 0.907 = −1.72 → 1.7; mix −0.08 → 0.1.
+    const r = kitagawaFromCounts([
+      { key: 'v@makerspace.example', n0: 600, retained0: 360, n1: 597, retained1: 332 },
+      { key: 'n@makerspace.example', n0: 400, retained0: 120, n1: 403, retained1: 130 },
+    ]);
+    const s = decompositionSentence(r, { grain: 'one-week', labels: { 'v@makerspace.example': 'v@makerspace.example users' }, unnamedGroups: true });
+    expect(s).toBe('Overall one-week retention fell 1.8 points: changes within the groups cost 1.7, the shift between groups cost 0.1. The groups are not named: their values are nearly unique per user.');
+    expect(s).not.toMatch(/@/);
+  });
+
   it('uses the default state names and the grain word', () => {
     expect(DEFAULT_STATE_LABELS).toEqual({ fresh: 'newcomers', engaged: 'regulars', returned: 'returners' });
     // Same mix; only regulars' rate moves, from 0.5 to 0.55: rate effect 0.05 × 0.5 = 2.5 points.

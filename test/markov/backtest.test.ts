@@ -48,6 +48,46 @@ describe('backtest', () => {
     expect(all.rows[0].coverage).toBeLessThan(1);
   });
 
+  it('pools each origin’s counts as a plain sum would (checked by an independent loop, all origins and a window)', () => {
+    // regime change at week 6, so every origin's fit differs; the one-step point forecast is
+    // x·P̂ + mean fresh, P̂ the row-normalised sum of the counts in the fit window
+    const shifted = MAKERSPACE_P.map((row) => row.slice());
+    shifted[1] = [0, 0.3, 0, 0.5, 0.2];
+    const tables = exactTables([...Array.from({ length: 6 }, () => MAKERSPACE_P), shifted], [40, 900, 50, 80, 150], [40, 55, 30, 70, 40, 45, 60, 35, 50, 40, 65, 30]);
+    for (const window of [undefined, 3]) {
+      let sum = 0, n = 0;
+      for (let k = 1; k < tables.transitions.length - 1; k++) {
+        const lo = window === undefined ? 0 : Math.max(0, k + 1 - window);
+        const S = tables.states.length;
+        const pooled = Array.from({ length: S }, () => new Array<number>(S).fill(0));
+        let fresh = 0;
+        for (let t = lo; t <= k; t++) {
+          for (let i = 0; i < S; i++) for (let j = 0; j < S; j++) pooled[i][j] += tables.transitions[t].counts[i][j];
+          fresh += tables.transitions[t].fresh;
+        }
+        const x = tables.stateCounts[k + 1];
+        const next = Array.from({ length: S }, (_, j) => x.reduce((a, xi, i) => a + xi * pooled[i][j] / pooled[i].reduce((u, v) => u + v, 0), 0) + (j === 0 ? fresh / (k + 1 - lo) : 0));
+        const total = next.reduce((a, b) => a + b, 0);
+        const actual = tables.stateCounts[k + 2];
+        const actualTotal = actual.reduce((a, b) => a + b, 0);
+        sum += next.reduce((a, v, j) => a + Math.abs(v / total - actual[j] / actualTotal), 0) / S;
+        n++;
+      }
+      const r = backtest(tables, { horizon: 1, minFit: 2, window, samples: 2 });
+      expect(r.rows[0].origins).toBe(n);
+      expectClose(r.rows[0].mae, sum / n, 1e-12);
+    }
+  });
+
+  it('maxOrigins scores only the latest origins', () => {
+    const tables = exactTables([MAKERSPACE_P], start, fresh);
+    const all = backtest(tables, { horizon: 3, minFit: 2, samples: 10 });
+    const latest = backtest(tables, { horizon: 3, minFit: 2, samples: 10, maxOrigins: 4 });
+    expect(latest.origins).toEqual(all.origins.slice(-4));
+    expect(latest.rows.map((x) => x.origins)).toEqual([4, 3, 2]);
+    expectRefusal(() => backtest(tables, { maxOrigins: 0 }), 'INPUT_INVALID', /maxOrigins/);
+  });
+
   it('same seed, same result', () => {
     const tables = exactTables([MAKERSPACE_P], start, fresh);
     expect(backtest(tables, { samples: 15, seed: 9 })).toEqual(backtest(tables, { samples: 15, seed: 9 }));

@@ -96,10 +96,11 @@ describe('selection', () => {
   });
 
   it('refuses a label that is not a period, naming the period that holds it', () => {
-    const e = expectRefusal(() => selectTransitions(tables, { from: '2026-01-13' }), 'RANGE_INVALID', /'2026-01-13' \(range from\) is not a period/);
+    const e = expectRefusal(() => selectTransitions(tables, { from: '2026-01-13' }), 'RANGE_INVALID', /start '2026-01-13' is not a period/);
+    expect(e.where.key).toBe('range.from');
     // the hint points to the period holding that date (periods are labelled by start date)
     expect(e.hint).toMatch(/lies in the period labelled 2026-01-12/);
-    expectRefusal(() => selectTransitions(tables, { to: '2025-13-40' }), 'RANGE_INVALID', /'2025-13-40' \(range to\)/);
+    expectRefusal(() => selectTransitions(tables, { to: '2025-13-40' }), 'RANGE_INVALID', /end '2025-13-40' is not a period/);
   });
 
   it('refuses FROM after TO, an empty range, and N out of range', () => {

@@ -3,6 +3,7 @@ import { project } from '../../src/markov/project.js';
 import { reweightRow } from '../../src/markov/reweight.js';
 import { parseScenario } from '../../src/markov/scenario.js';
 import { applyScenario, whatIf } from '../../src/markov/whatif.js';
+import { lifecycleMoves } from '../../src/lifecycle/moves.js';
 import { MAKERSPACE_P, STATES, expectClose, expectRefusal } from './helpers.js';
 
 const model = { states: STATES, matrix: MAKERSPACE_P, inflow: [50, 0, 0, 0, 0] };
@@ -151,5 +152,68 @@ describe('whatIf', () => {
   it('refuses a bad start or horizon', () => {
     expectRefusal(() => whatIf(model, ['inflow*2'], [1, 2], 3), 'INPUT_INVALID', /start has 2 entries/);
     expectRefusal(() => whatIf(model, ['inflow*2'], start, -1), 'INPUT_INVALID', /horizon/);
+  });
+});
+
+describe('what-ifs on lifecycle states: only moves the rules allow (moves from the lifecycle machine)', () => {
+  // a chain that respects lapseLimit 2: fresh, engaged and returned go to engaged or lapsing; lapsing to
+  // returned, lapsing or dormant; dormant to returned or dormant (the state table in the README)
+  const P = [
+    [0, 0.55, 0, 0.45, 0],
+    [0, 0.7, 0, 0.3, 0],
+    [0, 0.6, 0, 0.4, 0],
+    [0, 0, 0.3, 0.2, 0.5],
+    [0, 0, 0.1, 0, 0.9],
+  ];
+  const moves = lifecycleMoves({ lapseLimit: 2 });
+  const lifecycle = { states: STATES, matrix: P, inflow: [50, 0, 0, 0, 0], moves };
+  const applyL = (...texts: string[]) => applyScenario(lifecycle, parseScenario(texts));
+  /** The move a "did you mean" names, if any. */
+  const suggested = (hint: string | undefined) => /'([a-z]+)->([a-z]+)[*=]/.exec(hint ?? '');
+
+  it('refuses lapsing->engaged, scaled or set, with the reason, and suggests lapsing->returned', () => {
+    for (const text of ['lapsing->engaged*1.2', 'lapsing->engaged=0.1']) {
+      const e = expectRefusal(() => applyL(text), 'INPUT_INVALID', /lapsing->engaged cannot happen: a lapsing user who is active the next period becomes returned/);
+      expect(e.hint).toBe(`did you mean '${text.replace('engaged', 'returned')}'?`);
+    }
+  });
+
+  it('the same edits pass on a planner\'s chain without move rules (a deliberate new route)', () => {
+    expect(applyScenario({ ...lifecycle, moves: undefined }, parseScenario(['lapsing->engaged=0.1'])).matrix[3][1]).toBe(0.1);
+  });
+
+  it('a misspelt state suggests only possible moves, with the edit\'s operation', () => {
+    const e = expectRefusal(() => applyL('lapsng->dormant*0.8'), 'INPUT_INVALID', /'lapsng' is not a state/);
+    expect(e.hint).toBe("did you mean 'lapsing->dormant*0.8'?");
+    for (const text of ['lapsing->engagd=0.1', 'fressh->lapsing*0.9', 'dormant->lapsin=0.2', 'egaged->returned*2']) {
+      try {
+        applyL(text);
+        expect.unreachable(text);
+      } catch (err) {
+        const m = suggested((err as { hint?: string }).hint);
+        if (m) expect(moves.allows(m[1], m[2]), `${text} suggests ${m[0]}`).toBe(true);
+      }
+    }
+  });
+
+  it('new users arrive only in fresh', () => {
+    const e = expectRefusal(() => applyL('inflow.engaged=100'), 'INPUT_INVALID', /new users arrive only in fresh, not in engaged/);
+    expect(e.hint).toBe("did you mean 'inflow.fresh=100'?");
+    expect(applyL('inflow.fresh=100').inflow).toEqual([100, 0, 0, 0, 0]);
+  });
+
+  it('refuses a rescaled row whose remainder would go to an impossible move (fresh->fresh)', () => {
+    // fresh goes only to engaged here; setting it to 0.6 leaves 0.4 that reweightRow would put on the
+    // diagonal, fresh->fresh, which no user can make
+    const only = { ...lifecycle, matrix: [[0, 1, 0, 0, 0], ...P.slice(1)] };
+    expectRefusal(() => applyScenario(only, parseScenario(['fresh->engaged=0.6'])), 'INPUT_INVALID', /fresh->fresh, which cannot happen/);
+    // naming where the rest goes is fine
+    expect(applyScenario(only, parseScenario(['fresh->engaged=0.6', 'fresh->lapsing=0.4'])).matrix[0]).toEqual([0, 0.6, 0, 0.4, 0]);
+  });
+
+  it('possible moves work as before', () => {
+    const s = applyL('lapsing->dormant*0.8');
+    expect(s.matrix[3][4]).toBeCloseTo(0.4, 12);
+    expect(s.matrix[3].reduce((a, b) => a + b, 0)).toBeCloseTo(1, 12);
   });
 });

@@ -78,6 +78,90 @@ describe('parseRules', () => {
   });
 });
 
+describe('bounds on every numeric key', () => {
+  // [key path, YAML at the bound, YAML one past it, the bound as the message words it]
+  it.each([
+    ['lapseLimit', 'lapseLimit: 100000', 'lapseLimit: 100001', '100,000 periods'],
+    ['warmup', 'lapseLimit: 2\nwarmup: 100000', 'lapseLimit: 2\nwarmup: 100001', '100,000 periods'],
+    ['activity.minEvents', 'lapseLimit: 2\nactivity: { minEvents: 1000000 }', 'lapseLimit: 2\nactivity: { minEvents: 1000001 }', '1,000,000 events'],
+    ['minCell', 'lapseLimit: 2\nminCell: 1000000', 'lapseLimit: 2\nminCell: 1000001', '1,000,000 users'],
+    ['tenureBands[1]', 'lapseLimit: 2\ntenureBands: [0, 100000]', 'lapseLimit: 2\ntenureBands: [0, 100001]', '100,000 periods'],
+    ['tenureBands', `lapseLimit: 2\ntenureBands: [${Array.from({ length: 32 }, (_, i) => i).join(', ')}]`, `lapseLimit: 2\ntenureBands: [${Array.from({ length: 33 }, (_, i) => i).join(', ')}]`, '32 edges'],
+  ])('%s: accepted at its bound, refused past it with the key and the bound named', (key, atBound, past, bound) => {
+    expect(() => parseRules(`grain: day\n${atBound}\n`)).not.toThrow();
+    const e = failure(`grain: day\n${past}\n`);
+    expect(e.code).toBe('RULES_INVALID');
+    expect(e.where.key).toBe(key);
+    expect(e.message).toContain(bound);
+  });
+
+  it.each([
+    ['1e9', 'a huge lapse limit'],
+    ['1e400', 'a number beyond double range (YAML reads it as Infinity)'],
+    ['.inf', 'YAML infinity'],
+    ['.nan', 'YAML not-a-number'],
+    ['-.inf', 'YAML minus infinity'],
+    ['"2"', 'a string'],
+    ['[2]', 'a list'],
+  ])('refuses lapseLimit %s (%s) with a line naming the key', (value) => {
+    const e = failure(`grain: week\nlapseLimit: ${value}\n`);
+    expect(e.code).toBe('RULES_INVALID');
+    expect(e.where).toMatchObject({ key: 'lapseLimit', line: 2 });
+  });
+});
+
+describe('limits on the YAML itself', () => {
+  it('refuses an alias bomb ("billion laughs") with a line naming the problem, at once', () => {
+    const levels = ['a: &a ["lol","lol","lol","lol","lol","lol","lol","lol","lol"]'];
+    for (let i = 1; i < 9; i++) levels.push(`${'abcdefghi'[i]}: &${'abcdefghi'[i]} [${Array(9).fill(`*${'abcdefghi'[i - 1]}`).join(',')}]`);
+    const e = failure(`${levels.join('\n')}\ngrain: week\nlapseLimit: 2\n`);
+    expect(e.code).toBe('RULES_SYNTAX');
+    expect(e.oneLine()).toMatch(/^r\.yaml: the YAML expands its aliases too often/);
+  });
+
+  it('refuses an alias without its anchor with the library’s reason', () => {
+    expect(failure('grain: week\nlapseLimit: 2\nname: *nope\n').oneLine()).toMatch(/Unresolved alias.*nope/);
+  });
+
+  it('refuses a key that is a list, without the YAML library printing a warning', () => {
+    expect(failure('grain: week\nlapseLimit: 2\n? [a, b]\n: 1\n').message).toContain('a key must be a name');
+  });
+
+  it('accepts a few aliases (YAML allows them)', () => {
+    expect(parseRules('grain: &g week\nlapseLimit: 2\nname: *g\n').name).toBe('week');
+  });
+
+  it.each([
+    ['flow lists', `name: ${'['.repeat(5000)}${']'.repeat(5000)}`],
+    ['flow maps', `name: ${'{a: '.repeat(5000)}1${'}'.repeat(5000)}`],
+    ['block lists on one line', `name:\n  ${'- '.repeat(5000)}x`],
+    ['block lists, one a line', `name:\n${Array.from({ length: 300 }, (_, i) => `${' '.repeat(i + 1)}-`).join('\n')} x`],
+    ['block maps', `name:\n${Array.from({ length: 300 }, (_, i) => `${' '.repeat(i + 1)}k:`).join('\n')} x`],
+  ])('refuses %s nested hundreds or thousands deep before the parser recurses', (_what, body) => {
+    const e = failure(`grain: week\nlapseLimit: 2\n${body}\n`);
+    expect(e.code).toBe('RULES_SYNTAX');
+    expect(e.message).toContain('nests more than 32 levels');
+  });
+
+  it('refuses text beyond 256 KB', () => {
+    expect(failure(`grain: week\nlapseLimit: 2\ndescription: ${'x'.repeat(300_000)}\n`).message).toContain('256 KB');
+  });
+});
+
+describe('loadRulesFile', () => {
+  it('reads at most 256 KB of a file that never ends (/dev/zero) and refuses it', () => {
+    expect(() => loadRulesFile('/dev/zero')).toThrow(/larger than 256 KB/);
+  });
+
+  it('refuses a folder with a line naming it', () => {
+    expect(() => loadRulesFile('rules')).toThrow(TidemarkError);
+  });
+
+  it('refuses a missing file', () => {
+    expect(() => loadRulesFile('rules/no-such.yaml')).toThrow(/cannot read the rules file/);
+  });
+});
+
 describe('shipped rules', () => {
   it.each(['weekly', 'daily', 'monthly'])('rules/%s.yaml is valid', (name) => {
     expect(loadRulesFile(`rules/${name}.yaml`).name).toBe(name);

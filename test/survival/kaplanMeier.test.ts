@@ -184,9 +184,48 @@ describe('kaplanMeier — edge cases', () => {
     expect(km.points[0]).toMatchObject({ t: 0, survival: 0.75, events: 1, censored: 3 });
   });
 
-  it('median at exactly 0.5: the first time survival reaches it', () => {
+  it('median at exactly 0.5: the midpoint of the flat stretch (SAS PROC LIFETEST; R survival quantile.survfit)', () => {
+    // by hand: Ŝ(1) = 3/4, Ŝ(2) = 3/4 · 2/3 = 1/2 until t = 3, where Ŝ(3) = 1/4; midpoint of [2, 3) = 2.5,
+    // the sample median of 1, 2, 3, 4
     const km = kaplanMeier([1, 2, 3, 4].map((t) => ({ group: '', duration: t, observed: 1 as const, users: 1 })));
-    expect(km.median).toBe(2);
+    expect(km.points.find((p) => p.t === 2)?.survival).toBeCloseTo(0.5, 15);
+    expect(km.median).toBe(2.5);
+  });
+
+  it('median at exactly 0.5 with censoring: the stretch runs to the next event time, not the censoring', () => {
+    // by hand: 6 users; events at 1, 2, 4, 7; censored at 3 and 5. Ŝ(1) = 5/6, Ŝ(2) = 5/6 · 4/5 = 2/3,
+    // Ŝ(4) = 2/3 · 2/3 = 4/9 (at risk at 4: users with t ≥ 4 = 3) — steps over 0.5, median 4
+    const rows = [[1, 1], [2, 1], [3, 0], [4, 1], [5, 0], [7, 1]].map(([t, o]) => ({ group: '', duration: t, observed: o as 0 | 1, users: 1 }));
+    expect(kaplanMeier(rows).median).toBe(4);
+    // by hand: 4 users; events at 1 and 3, censored at 2 and 5. Ŝ(1) = 3/4, Ŝ(3) = 3/4 · 1/2 = 3/8: steps over, median 3
+    const rows2 = [[1, 1], [2, 0], [3, 1], [5, 0]].map(([t, o]) => ({ group: '', duration: t, observed: o as 0 | 1, users: 1 }));
+    expect(kaplanMeier(rows2).median).toBe(3);
+    // by hand: 4 users; 2 end at 1, 1 is censored at 2, 1 ends at 4: Ŝ = 1/2 from 1 to 4, where the one
+    // user at risk ends (Ŝ(4) = 0); median (1 + 4)/2 = 2.5
+    const rows3 = [{ duration: 1, observed: 1, users: 2 }, { duration: 2, observed: 0, users: 1 }, { duration: 4, observed: 1, users: 1 }]
+      .map((r) => ({ group: '', ...r, observed: r.observed as 0 | 1 }));
+    expect(kaplanMeier(rows3).median).toBe(2.5);
+  });
+
+  it('a curve that stays at exactly 0.5 to the end: midpoint of its start and the last observed time (as R survival)', () => {
+    // by hand: 4 users; 2 end at 3, 2 are censored at 9: Ŝ = 1/2 from 3 to the end of the data at 9
+    const km = kaplanMeier([{ group: '', duration: 3, observed: 1, users: 2 }, { group: '', duration: 9, observed: 0, users: 2 }]);
+    expect(km.median).toBe(6);
+  });
+
+  it('uncensored: the median equals the ordinary sample median (independent computation, seeded)', () => {
+    // without censoring Ŝ(t) is the share of durations above t, so the midpoint rule gives the sample
+    // median: the middle value, or the mean of the two middle values (common practice)
+    fc.assert(
+      fc.property(fc.array(fc.integer({ min: 0, max: 12 }), { minLength: 1, maxLength: 40 }), (ds) => {
+        const sorted = [...ds].sort((a, b) => a - b);
+        const n = sorted.length;
+        const sampleMedian = n % 2 ? sorted[(n - 1) / 2] : (sorted[n / 2 - 1] + sorted[n / 2]) / 2;
+        const km = kaplanMeier(ds.map((t) => ({ group: '', duration: t, observed: 1 as const, users: 1 })));
+        expect(km.median).toBe(sampleMedian);
+      }),
+      { seed: 8, numRuns: 300 },
+    );
   });
 
   it('rejects a bad row, naming it', () => {

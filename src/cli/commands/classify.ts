@@ -1,8 +1,7 @@
 /** `tidemark classify`: one lifecycle state per user and period. */
 import type { Command } from 'commander';
-import { MemoryEngine } from '../../engines/memory.js';
 import type { ClassifiedRow } from '../../engines/types.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, eventRun, note, noteRun, resolveRules, rowLine, runClassifyEngine, type CommonOptions } from '../common.js';
 import { emit, json, textTable, toCsv, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -14,8 +13,10 @@ export function formatClassified(rows: ClassifiedRow[], format: Format): string 
 
 export async function runClassify(o: CommonOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const { rows, result } = await new MemoryEngine().classify(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(result.rows));
+  const { rows, result } = await runClassifyEngine(eventRun(o, rules, false), rules);
+  noteRun(io, o, result);
+  const lp = result.lastPeriod;
+  if (!lp.complete) note(io, o, `note: the last period, ${lp.label}, looks incomplete (the data stop ${(lp.coverage * 100).toFixed(0)}% of the way through it): its states may still change as more events arrive`);
   note(io, o, 'note: this output holds user ids: it is personal data; share it only as your privacy rules allow');
   emit(formatClassified(rows, o.format), o.out, io);
 }

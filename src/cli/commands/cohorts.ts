@@ -1,10 +1,9 @@
 /** `tidemark cohorts`: the acquisition-cohort triangle and the classic retention measures. */
 import type { Command } from 'commander';
 import { Option } from 'commander';
-import { TidemarkError } from '../../errors.js';
-import { MemoryEngine } from '../../engines/memory.js';
+import { TidemarkError, showValue } from '../../errors.js';
 import { cohortReport, type CohortsOutput } from '../../explain/cohortReport.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -14,20 +13,24 @@ export interface CohortsCliOptions extends CommonOptions {
   group: 'month' | 'all' | 'cohort';
 }
 
+/** Oldest age the options may ask for (a cohort older than this is beyond any real log's periods). */
+export const MAX_AGE = 10_000;
+
 function ages(text: string): number[] {
-  const v = text.split(',').map((x) => Number(x.trim()));
-  if (v.length === 0 || v.some((x) => !Number.isInteger(x) || x < 1)) throw new TidemarkError('USAGE', `--ages '${text}' must be whole numbers ≥ 1, comma-separated`, { key: '--ages' }, 'For example --ages 1,4,12');
+  const parts = text.split(',').map((x) => x.trim());
+  const v = parts.map((x) => (/^\d+$/.test(x) ? Number(x) : NaN));
+  if (v.some((x) => !(x >= 1 && x <= MAX_AGE))) throw new TidemarkError('USAGE', `'${showValue(text)}' must be whole numbers from 1 to ${MAX_AGE.toLocaleString('en-US')}, comma-separated`, { key: '--ages' }, 'For example --ages 1,4,12');
   return v;
 }
 
 function windowOf(text: string): [number, number] {
   const m = /^(\d+)\.\.(\d+)$/.exec(text.trim());
-  if (!m || +m[1] < 1 || +m[1] > +m[2]) throw new TidemarkError('USAGE', `--window '${text}' must be A..B with 1 ≤ A ≤ B`, { key: '--window' }, 'For example --window 4..8');
+  if (!m || +m[1] < 1 || +m[1] > +m[2] || +m[2] > MAX_AGE) throw new TidemarkError('USAGE', `'${showValue(text)}' must be A..B with 1 ≤ A ≤ B ≤ ${MAX_AGE.toLocaleString('en-US')}`, { key: '--window' }, 'For example --window 4..8');
   return [+m[1], +m[2]];
 }
 
-export function formatCohorts(c: CohortsOutput, format: Format): string {
-  if (format === 'json') return json(c);
+export function formatCohorts(c: CohortsOutput, format: Format, extra: object = {}): string {
+  if (format === 'json') return json({ ...c, ...extra });
   const cells = c.triangle.flatMap((r) => r.cells.map((x) => [r.cohort, x.age, x.n, x.active, x.share]));
   if (format === 'csv') return toCsv(['cohort', 'age', 'members', 'active', 'share'], cells);
   const show = [1, 2, 4, 8, 12];
@@ -51,10 +54,12 @@ export function formatCohorts(c: CohortsOutput, format: Format): string {
 
 export async function runCohorts(o: CohortsCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const r = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(r.rows));
-  const c = cohortReport(r.waist.cohorts, { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group, minN: rules.minCell });
-  emit(formatCohorts(c, o.format), o.out, io);
+  const measure = { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group, minN: rules.minCell };
+  const run = eventRun(o, rules, true);
+  const r = await runEngine(run, rules);
+  noteRun(io, o, r);
+  notePartial(io, o, r, run.range);
+  emit(formatCohorts(cohortReport(r.waist.cohorts, measure), o.format, partialJson(r)), o.out, io);
 }
 
 export function cohortsCommand(program: Command, io: Io): void {
@@ -64,5 +69,5 @@ export function cohortsCommand(program: Command, io: Io): void {
     .option('--ages <list>', 'ages N for N-period and on-or-after retention', '1,4,12')
     .option('--window <a..b>', 'ages for window retention (active at least once in them)', '4..8')
     .addOption(new Option('--group <by>', 'group cohorts for the grouped curves').choices(['month', 'all', 'cohort']).default('month'));
-  addFormatOptions(addEventOptions(cmd), 'table').action((opts: CohortsCliOptions) => runCohorts(opts, io));
+  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: CohortsCliOptions) => runCohorts(opts, io));
 }

@@ -2,7 +2,6 @@
  * `tidemark demo`: simulate the demo event log (a fictional makerspace) and run the main job on it:
  * the report, the explanation of the planted change and the projection with a what-if.
  */
-import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import type { Command } from 'commander';
 import { CHANGE_WEEK, DEMO_START, PROMO_WEEK, simulateMakerspace } from '../../demo/makerspace.js';
@@ -12,7 +11,8 @@ import { buildReport } from '../../report/build.js';
 import { writeReport } from '../../report/write.js';
 import { loadRulesFile } from '../../rules/load.js';
 import { DEFAULT_RULES, intOption, rowLine } from '../common.js';
-import { csvField } from '../format.js';
+import { csvField, terminalText } from '../format.js';
+import { writeFileAtomic } from '../../output/atomic.js';
 import type { Io } from '../io.js';
 import { formatExplain } from './explain.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
@@ -32,11 +32,10 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const seed = intOption(o.seed, '--seed', 0);
   // the raw events (with member ids) go beside the report folder, never into it
   const eventsFile = o.events ?? join(dirname(o.out), `${o.out.replace(/\/+$/, '').split('/').pop()}-input`, 'events.csv');
-  mkdirSync(dirname(eventsFile), { recursive: true });
   const lines: string[] = ['user_id,timestamp,event,plan,channel'];
   const { members, events } = simulateMakerspace(seed, (e) => lines.push([e.user_id, e.timestamp, e.event, e.plan, e.channel].map(csvField).join(',')));
-  writeFileSync(eventsFile, `${lines.join('\n')}\n`);
-  io.stderr(`demo: ${members.toLocaleString('en-US')} members, ${events.toLocaleString('en-US')} events of a fictional makerspace → ${eventsFile}\n`);
+  writeFileAtomic(eventsFile, `${lines.join('\n')}\n`);
+  io.stderr(terminalText(`demo: ${members.toLocaleString('en-US')} members, ${events.toLocaleString('en-US')} events of a fictional makerspace → ${eventsFile}\n`));
 
   const rules = loadRulesFile(DEFAULT_RULES);
   const base = weekLabel(CHANGE_WEEK - 1); // retention into the week before the change
@@ -45,7 +44,7 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   io.stderr(`${rowLine(result.rows)}\n`);
   const model = buildReport(result, rules, { base, compare, droppedPartial: dropped });
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
-  io.stderr(`demo: report written to ${o.out}/index.html (${files.length} files)\n`);
+  io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 
   const explained = explainRetention(result.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
   const projection = computeProjection({ tables: result.waist }, { fit: '8', horizon: 12, whatIf: ['lapsing->dormant*0.8'], until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });

@@ -1,14 +1,16 @@
 /** `tidemark explain`: why retention moved between two periods — mix versus rate, with intervals. */
 import type { Command } from 'commander';
-import { MemoryEngine } from '../../engines/memory.js';
 import { explainRetention, type Decomposition, type ExplainOutput } from '../../explain/run.js';
 import type { RetentionChange } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { asFlags, dateOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
+import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
+import { showValue } from '../../errors.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
 
-export interface ExplainCliOptions extends CommonOptions {
+export interface ExplainCliOptions extends CommonOptions, PerPersonOption {
   base?: string;
   compare?: string;
   by?: string;
@@ -48,17 +50,22 @@ export function formatExplain(e: ExplainOutput, format: Format): string {
     groupTable(e.byTenure, 'tenure'),
   ];
   if (e.bySegment) {
-    out.push('', `By ${e.bySegment.by}: ${e.bySegment.sentence}`, groupTable(e.bySegment, e.bySegment.by), '', changeTable(e.bySegment.changes, e.bySegment.by, 'segment'), `Caution: ${e.bySegment.caution}`);
+    const by = showValue(e.bySegment.by, 40);
+    out.push('', `By ${by}: ${e.bySegment.sentence}`, groupTable(e.bySegment, by), '', changeTable(e.bySegment.changes, by, 'segment'), `Caution: ${e.bySegment.caution}`);
   }
   return wrapProse(`${out.filter((l, i) => l !== '' || out[i - 1] !== '').join('\n')}\n`);
 }
 
 export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const r = await new MemoryEngine().run(sourceOf(o), rules, { ...rangeOf(o), by: o.by });
-  note(io, o, rowLine(r.rows));
-  const e = explainRetention(r.waist, { base: o.base, compare: o.compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
-  emit(formatExplain(e, o.format), o.out, io);
+  const base = dateOption(o.base, '--base');
+  const compare = dateOption(o.compare, '--compare');
+  const run = eventRun(o, rules, true, o.by);
+  const r = await runEngine(run, rules);
+  noteRun(io, o, r);
+  notePartial(io, o, r, run.range);
+  const e = asFlags(() => explainRetention(r.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell }), { base: '--base', compare: '--compare' }, periodFlagHint(r, rules, { base, compare }));
+  emit(formatExplain({ ...e, ...partialJson(r) }, o.format), o.out, io);
 }
 
 export function explainCommand(program: Command, io: Io): void {
@@ -67,6 +74,7 @@ export function explainCommand(program: Command, io: Io): void {
     .description('why overall retention moved between two periods: rate versus mix effects by prior state, tenure and attribute')
     .option('--base <period>', 'base period, by the label of the period retained into (default: the one before --compare)')
     .option('--compare <period>', 'compared period (default: the latest)')
-    .option('--by <column>', 'also decompose over an attribute column (plan, region, channel…), by the user\'s value in the earlier period');
-  addFormatOptions(addEventOptions(cmd), 'table').action((opts: ExplainCliOptions) => runExplain(opts, io));
+    .option('--by <column>', 'also decompose over an attribute column (plan, region, channel…), by the user\'s value in the earlier period (refused when its values are nearly unique per user)');
+  addPerPersonOption(cmd);
+  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: ExplainCliOptions) => runExplain(opts, io));
 }

@@ -1,10 +1,10 @@
 /** `tidemark flows`: transition matrices, status-split retention and growth accounting per period. */
 import type { Command } from 'commander';
-import { MemoryEngine } from '../../engines/memory.js';
 import type { EngineResult } from '../../engines/types.js';
 import { summariseFlows, type FlowsSummary } from '../../flows/summary.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, eventRun, note, noteRun, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { asFlags, selectionOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -80,9 +80,11 @@ function flowsTable(f: FlowsOutput): string {
 
 export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const result = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(result.rows));
-  emit(formatFlows(flowsOutput(result, rules, o.pool), o.format), o.out, io);
+  if (o.pool !== undefined) selectionOption(o.pool, '--pool');
+  const result = await runEngine(eventRun(o, rules, false), rules);
+  noteRun(io, o, result);
+  const out = asFlags(() => flowsOutput(result, rules, o.pool), { range: '--pool' });
+  emit(formatFlows(out, o.format), o.out, io);
 }
 
 export function flowsCommand(program: Command, io: Io): void {

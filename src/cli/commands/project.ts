@@ -5,9 +5,13 @@
 import { readFileSync } from 'node:fs';
 import { Option, type Command } from 'commander';
 import { TidemarkError, inFile } from '../../errors.js';
-import { MemoryEngine } from '../../engines/memory.js';
-import { computeProjection, type ProjectOutput } from '../../markov/run.js';
-import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { selectTransitions } from '../../flows/select.js';
+import { lifecycleMoves } from '../../lifecycle/moves.js';
+import { STATES } from '../../lifecycle/states.js';
+import { computeProjection, type ProjectionOptions, type ProjectOutput } from '../../markov/run.js';
+import { validateModel } from '../../markov/validate.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { asFlags, countNumber, parseBand, seedOption, selectionOption, stateOption, whatIfOption, wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -26,13 +30,13 @@ export interface ProjectOptions extends Omit<CommonOptions, 'events'> {
   backtestHorizon: string;
 }
 
-/** --band LO,HI: two percentiles with 0 ≤ LO < HI ≤ 100. */
-export function parseBand(text: string): [number, number] {
-  const m = /^(\d+(?:\.\d+)?)[,-](\d+(?:\.\d+)?)$/.exec(text.trim());
-  const lo = m ? Number(m[1]) : NaN, hi = m ? Number(m[2]) : NaN;
-  if (!(lo >= 0 && hi <= 100 && lo < hi)) throw new TidemarkError('USAGE', `--band '${text}' is not two percentiles LO,HI with 0 ≤ LO < HI ≤ 100`, { key: '--band' }, 'For example --band 10,90');
-  return [lo, hi];
-}
+/** Longest projection, in periods (the bands cost samples × horizon × states² each). */
+export const MAX_HORIZON = 1000;
+/** Most sampled chains for the bands. */
+export const MAX_SAMPLES = 100_000;
+
+/** Flags of the projection's library keys, for errors that need the fitted chain. */
+const PROJECTION_FLAGS = { range: '--fit', scenario: '--what-if', target: '--until', inflow: '--inflow' };
 
 const n0 = (x: number) => (Math.round(x) || 0).toLocaleString('en-US');
 const signed = (x: number) => `${Math.round(x) > 0 ? '+' : ''}${n0(x)}`;
@@ -86,17 +90,30 @@ export function formatProjection(p: ProjectOutput, format: Format): string {
   return wrapProse(`${out.join('\n')}\n`);
 }
 
-export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
-  const horizon = intOption(o.horizon, '--horizon', 1);
-  const common = {
-    fit: o.fit, horizon, until: o.until, whatIf: o.whatIf, samples: intOption(o.samples, '--samples', 1), seed: intOption(o.seed, '--seed', 0),
-    band: parseBand(o.band), backtest: o.backtest, backtestHorizon: intOption(o.backtestHorizon, '--backtest-horizon', 1),
-    inflow: o.inflow === undefined ? undefined : Number(o.inflow),
+/** The projection options, every one checked before anything is read (states and moves come later). */
+function projectionOptions(o: ProjectOptions): ProjectionOptions & { fit: string } {
+  const fit = o.fit ?? 'all';
+  selectionOption(fit, '--fit');
+  return {
+    fit,
+    horizon: wholeNumber(o.horizon, '--horizon', 1, MAX_HORIZON),
+    until: o.until,
+    whatIf: o.whatIf,
+    samples: wholeNumber(o.samples, '--samples', 1, MAX_SAMPLES),
+    seed: seedOption(o.seed),
+    band: parseBand(o.band),
+    backtest: o.backtest,
+    backtestHorizon: wholeNumber(o.backtestHorizon, '--backtest-horizon', 1, MAX_HORIZON),
+    inflow: o.inflow === undefined ? undefined : countNumber(o.inflow, '--inflow'),
   };
-  if (common.inflow !== undefined && !(common.inflow >= 0)) throw new TidemarkError('USAGE', `--inflow must be a count ≥ 0, not '${o.inflow}'`, { key: '--inflow' });
+}
+
+export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
+  const common = projectionOptions(o);
   let result: ProjectOutput;
   if (o.matrix) {
     if (o.events) throw new TidemarkError('USAGE', 'give either --events or --matrix, not both', { key: '--matrix' });
+    if (o.fit !== 'all') throw new TidemarkError('USAGE', 'fits a chain on events; a --matrix is used as given', { key: '--fit' });
     let doc: unknown;
     try {
       doc = JSON.parse(readFileSync(o.matrix, 'utf8'));
@@ -104,17 +121,35 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
       const missing = (e as { code?: string }).code === 'ENOENT';
       throw new TidemarkError(missing ? 'FILE_NOT_FOUND' : 'INPUT_INVALID', missing ? 'cannot read the matrix file' : `not valid JSON: ${(e as Error).message}`, { file: o.matrix });
     }
+    const model = (() => {
+      try {
+        return validateModel(doc);
+      } catch (e) {
+        throw inFile(e, o.matrix as string);
+      }
+    })();
+    // the planner's states are known now: check the options that name them
+    if (o.until !== undefined) stateOption(o.until, '--until', model.states);
+    whatIfOption(o.whatIf, '--what-if', model.states);
     try {
-      result = computeProjection({ doc, file: o.matrix }, common);
+      result = asFlags(() => computeProjection({ doc, file: o.matrix as string }, common), PROJECTION_FLAGS);
     } catch (e) {
-      throw inFile(e, o.matrix);
+      throw e instanceof TidemarkError && e.code === 'USAGE' ? e : inFile(e, o.matrix);
     }
   } else {
     if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --matrix', { key: '--events' }, 'See tidemark project --help');
     const rules = resolveRules(o as CommonOptions);
-    const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, rangeOf(o as CommonOptions));
-    note(io, o, rowLine(r.rows));
-    result = computeProjection({ tables: r.waist }, common);
+    const moves = lifecycleMoves(rules);
+    if (o.until !== undefined) stateOption(o.until, '--until', STATES);
+    whatIfOption(o.whatIf, '--what-if', STATES, moves);
+    const run = eventRun(o as CommonOptions, rules, true);
+    const r = await runEngine(run, rules);
+    noteRun(io, o, r);
+    notePartial(io, o, r, run.range);
+    const hint = periodFlagHint(r, rules, { range: common.fit });
+    // --fit against the data: N at most the transitions there are, labels that are periods of the data
+    if (r.waist.transitions.length > 0) asFlags(() => selectTransitions(r.waist, selectionOption(common.fit, '--fit')), { range: '--fit' }, hint);
+    result = { ...asFlags(() => computeProjection({ tables: r.waist }, { ...common, moves }), PROJECTION_FLAGS, hint), ...partialJson(r) };
   }
   emit(formatProjection(result, o.format), o.out, io);
 }
@@ -125,16 +160,16 @@ export function projectCommand(program: Command, io: Io): void {
     .description('project the state mix with a Markov chain fitted from the flows (or your own matrix): long run, bands, what-ifs, backtest')
     .option('--matrix <file>', 'a planner\'s matrix instead of events: {"states","matrix","start","inflow"} (JSON)')
     .option('--fit <range>', 'transitions to fit on: all, N (the last N) or FROM..TO', 'all')
-    .option('--horizon <n>', 'periods to project ahead', '12')
+    .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--inflow <n>', 'new users per period (default: the mean fresh count over the fitted range)')
     .option('--until <state>', 'expected periods until first reaching this state, from each other state')
     .option('--what-if <edit>', 'scenario edit, repeatable: "lapsing->dormant*0.8", "lapsing->dormant=0.3", "inflow*1.2", "inflow=500"', (v: string, acc: string[]) => [...acc, v], [] as string[])
-    .option('--samples <n>', 'sampled matrices for the uncertainty bands', '500')
+    .option('--samples <n>', `sampled matrices for the uncertainty bands (1 to ${MAX_SAMPLES.toLocaleString('en-US')})`, '500')
     .option('--seed <n>', 'random seed for the bands and backtest', '1')
     .option('--band <lo,hi>', 'band percentiles', '10,90')
     .addOption(new Option('--no-backtest', 'skip the backtest'))
     .option('--backtest-horizon <n>', 'periods ahead scored in the backtest', '4');
   cmd.option('--events <files...>', 'event log(s): CSV or NDJSON');
-  addEventOptions(cmd, false);
+  addPartialOption(addEventOptions(cmd, false));
   addFormatOptions(cmd, 'table').action((opts: ProjectOptions) => runProject(opts, io));
 }

@@ -1,9 +1,8 @@
 /** `tidemark retention`: status-split retention per period, by prior state (and tenure band), with Wilson intervals. */
 import type { Command } from 'commander';
-import { MemoryEngine } from '../../engines/memory.js';
 import { collapseCells } from '../../explain/run.js';
 import { retentionRates, type RetentionRate } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -11,8 +10,8 @@ export interface RetentionCliOptions extends CommonOptions {
   tenure?: boolean;
 }
 
-export function formatRetention(rows: RetentionRate[], format: Format, split: boolean, minCell: number): string {
-  if (format === 'json') return json({ definition: 'share of users in each active state in the period before who are active in the period (Wilson 95% intervals)', minCell, rows });
+export function formatRetention(rows: RetentionRate[], format: Format, split: boolean, minCell: number, extra: object = {}): string {
+  if (format === 'json') return json({ definition: 'share of users in each active state in the period before who are active in the period (Wilson 95% intervals)', minCell, rows, ...extra });
   const body = rows.map((r) => [r.to, r.state, ...(split ? [r.segment] : []), r.n, r.retained, r.rate, r.lower, r.upper, r.small]);
   const head = ['period_to', 'state', ...(split ? ['tenure'] : []), 'users', 'retained', 'rate', 'lower95', 'upper95', 'small'];
   if (format === 'csv') return toCsv(head, body);
@@ -30,10 +29,12 @@ export function formatRetention(rows: RetentionRate[], format: Format, split: bo
 
 export async function runRetention(o: RetentionCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const r = await new MemoryEngine().run(sourceOf(o), rules, rangeOf(o));
-  note(io, o, rowLine(r.rows));
+  const run = eventRun(o, rules, true);
+  const r = await runEngine(run, rules);
+  noteRun(io, o, r);
+  notePartial(io, o, r, run.range);
   const cells = o.tenure ? r.waist.tenureCells : collapseCells(r.waist.tenureCells, 'state');
-  emit(formatRetention(retentionRates(cells, { minN: rules.minCell }), o.format, Boolean(o.tenure), rules.minCell), o.out, io);
+  emit(formatRetention(retentionRates(cells, { minN: rules.minCell }), o.format, Boolean(o.tenure), rules.minCell, partialJson(r)), o.out, io);
 }
 
 export function retentionCommand(program: Command, io: Io): void {
@@ -41,5 +42,5 @@ export function retentionCommand(program: Command, io: Io): void {
     .command('retention')
     .description('retention per period by prior state (and tenure band), with Wilson 95% intervals and small-cell flags')
     .option('--tenure', 'split by the tenure bands of the rules too');
-  addFormatOptions(addEventOptions(cmd), 'table').action((opts: RetentionCliOptions) => runRetention(opts, io));
+  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: RetentionCliOptions) => runRetention(opts, io));
 }

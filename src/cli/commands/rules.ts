@@ -2,7 +2,7 @@
 import type { Command } from 'commander';
 import { loadRulesFile } from '../../rules/load.js';
 import { rulesJsonSchema } from '../../rules/schema.js';
-import { emit, json } from '../format.js';
+import { emit, json, terminalText } from '../format.js';
 import type { Io } from '../io.js';
 
 export function rulesCommand(program: Command, io: Io): void {
@@ -14,8 +14,8 @@ export function rulesCommand(program: Command, io: Io): void {
     .action((files: string[]) => {
       for (const f of files) {
         const r = loadRulesFile(f);
-        io.stderr(`${f}: ok (${r.grain} grain, ${r.timezone}, lapseLimit ${r.lapseLimit})\n`);
-        io.stdout(json(r));
+        io.stderr(terminalText(`${f}: ok (${r.grain} grain, ${r.timezone}, lapseLimit ${r.lapseLimit})\n`));
+        emit(json(r), undefined, io);
       }
     });
   rules

@@ -2,26 +2,28 @@
 import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import { TidemarkError } from '../../errors.js';
-import { MemoryEngine } from '../../engines/memory.js';
 import type { DurationRow } from '../../flows/types.js';
 import { parseDurationsCsv } from '../../survival/durations.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../survival/run.js';
-import { addEventOptions, addFormatOptions, intOption, note, rangeOf, resolveRules, rowLine, sourceOf, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
+import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
+import { showValue } from '../../errors.js';
 
-export interface SurvivalCliOptions extends Omit<CommonOptions, 'events'> {
+export interface SurvivalCliOptions extends Omit<CommonOptions, 'events'>, PerPersonOption {
   events?: string[];
   durations?: string;
   by: string;
   merge: string;
 }
 
-export function formatSurvival(s: SurvivalOutput, format: Format): string {
-  if (format === 'json') return json(s);
+export function formatSurvival(s: SurvivalOutput, format: Format, extra: object = {}): string {
+  if (format === 'json') return json({ ...s, ...extra });
   const rows = s.groups.flatMap((g) => g.points.map((p) => [g.group, p.t, p.survival, p.atRisk, p.events, p.se, p.lower, p.upper]));
   if (format === 'csv') return toCsv(['group', 't', 'survival', 'at_risk', 'events', 'se', 'lower95', 'upper95'], rows);
-  const out = [`Kaplan-Meier: ${s.measure}, by ${s.groupedBy} (censored at the end of the data)`];
+  const out = [`Kaplan-Meier: ${s.measure}, by ${showValue(s.groupedBy, 40)} (censored at the end of the data)`];
   out.push(textTable(['group', 'users', 'reached', 'median', 'S(1)', 'S(4)', 'S(8)'], s.groups.map((g) => {
     const at = (t: number) => {
       const p = [...g.points].reverse().find((q) => q.t <= t);
@@ -38,8 +40,12 @@ export function formatSurvival(s: SurvivalOutput, format: Format): string {
 export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> {
   let rows: DurationRow[];
   let by = o.by;
+  let extra: object = {};
+  const merge = wholeNumber(o.merge, '--merge', 1);
+  if (merge > 1 && o.by !== 'cohort') throw new TidemarkError('USAGE', 'pools cohorts: use it with --by cohort', { key: '--merge' });
   if (o.durations) {
     if (o.events) throw new TidemarkError('USAGE', 'give either --events or --durations, not both', { key: '--durations' });
+    if (o.by !== 'none') throw new TidemarkError('USAGE', 'applies to --events; a durations file gives its groups in its group column', { key: '--by' });
     let text: string;
     try {
       text = readFileSync(o.durations, 'utf8');
@@ -53,14 +59,17 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --durations', { key: '--events' }, 'See tidemark survival --help');
     const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
     const rules = resolveRules(o as CommonOptions);
-    const r = await new MemoryEngine().run(sourceOf(o as CommonOptions), rules, { ...rangeOf(o as CommonOptions), by: column });
-    note(io, o, rowLine(r.rows));
+    const run = eventRun(o as CommonOptions, rules, true, column);
+    const r = await runEngine(run, rules);
+    noteRun(io, o, r);
+    notePartial(io, o, r, run.range);
+    extra = partialJson(r);
     rows = column ? r.waist.segmentDurations!.rows : r.waist.durations;
     if (o.by === 'none') rows = rows.map((x) => ({ ...x, group: 'all' }));
-    if (o.by === 'cohort') rows = mergeCohorts(rows, intOption(o.merge, '--merge', 1));
+    if (o.by === 'cohort') rows = mergeCohorts(rows, merge);
   }
   if (rows.length === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'no users to follow after the warm-up', {}, 'Lower the warm-up or use a longer log');
-  emit(formatSurvival(survivalCurves(rows, by), o.format), o.out, io);
+  emit(formatSurvival(survivalCurves(rows, by), o.format, extra), o.out, io);
 }
 
 export function survivalCommand(program: Command, io: Io): void {
@@ -69,8 +78,9 @@ export function survivalCommand(program: Command, io: Io): void {
     .description('Kaplan-Meier curves of the time from first active to first dormant, with the log-rank test across groups')
     .option('--events <files...>', 'event log(s): CSV or NDJSON')
     .option('--durations <file>', 'durations computed elsewhere: CSV with duration, observed (1/0) and an optional group column')
-    .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period)', 'none')
+    .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period; refused when its values are nearly unique per user)', 'none')
     .option('--merge <k>', 'with --by cohort: pool k consecutive cohorts into one curve', '1');
-  addEventOptions(cmd, false);
+  addPerPersonOption(cmd);
+  addPartialOption(addEventOptions(cmd, false));
   addFormatOptions(cmd, 'table').action((opts: SurvivalCliOptions) => runSurvival(opts, io));
 }

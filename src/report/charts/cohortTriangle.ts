@@ -4,13 +4,16 @@ import type { CohortsOutput } from '../../explain/cohortReport.js';
 import { RAMP } from '../palette.js';
 import { type Chart, WIDTH } from './types.js';
 
+/** Ages the chart shows at most (a year of weeks): the full rows are in cohorts.json. */
+export const TRIANGLE_AGES = 52;
+
 export function cohortTriangleChart(c: CohortsOutput, grainWord: string, minCell: number): Chart {
-  const cells = c.triangle.flatMap((r) => r.cells.filter((x) => x.age > 0).map((x) => ({ cohort: r.cohort, age: x.age, n: x.n, active: x.active, share: x.share, small: x.n < minCell })));
+  const cells = c.triangle.flatMap((r) => r.cells.filter((x) => x.age > 0 && x.age <= TRIANGLE_AGES).map((x) => ({ cohort: r.cohort, age: x.age, n: x.n, active: x.active, share: x.share, small: x.n < minCell })));
   const spec: TopLevelSpec = {
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
     width: WIDTH,
     height: Math.max(160, Math.min(420, c.triangle.length * 13)),
-    title: { text: 'Acquisition cohorts', subtitle: `Share of each cohort active N ${grainWord}s after its first active ${grainWord}` },
+    title: { text: 'Acquisition cohorts', subtitle: `Share of each cohort active N ${grainWord}s after its first active ${grainWord}${c.triangle.some((r) => r.cells.length > TRIANGLE_AGES + 1) ? ` (N up to ${TRIANGLE_AGES})` : ''}` },
     data: { values: cells },
     mark: { type: 'rect' },
     encoding: {
