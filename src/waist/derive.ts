@@ -60,8 +60,8 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
     cohorts,
     durations: shorten(t.durations),
   };
-  if (t.segmentCells) tables.segmentCells = { by: t.segmentCells.by, cells: t.segmentCells.cells.filter((c) => c.to !== last) };
-  if (t.segmentDurations) tables.segmentDurations = { by: t.segmentDurations.by, rows: shorten(t.segmentDurations.rows) };
+  if (t.segmentCells) tables.segmentCells = { ...t.segmentCells, cells: t.segmentCells.cells.filter((c) => c.to !== last) };
+  if (t.segmentDurations) tables.segmentDurations = { ...t.segmentDurations, rows: shorten(t.segmentDurations.rows) };
   const rows = { ...m.rows, used: m.rows.used - m.rowsInLastPeriod, partialPeriod: m.rowsInLastPeriod };
   const manifest = {
     ...m,
@@ -86,7 +86,7 @@ function analysisForm(t: WaistTables): WaistTables {
     }),
     durations: mergeCohorts(t.durations),
   };
-  if (t.segmentDurations) out.segmentDurations = { by: t.segmentDurations.by, rows: mergeCohorts(t.segmentDurations.rows) };
+  if (t.segmentDurations) out.segmentDurations = { ...t.segmentDurations, rows: mergeCohorts(t.segmentDurations.rows) };
   return out;
 }
 
