@@ -1,0 +1,270 @@
+/**
+ * SQL dialects: the few spots where duckdb, postgres, spark, trino, bigquery and snowflake differ.
+ * The compiler (./compile.ts) writes one query shape for all of them and asks its dialect for these
+ * small pieces only: literals, integer division, regular expressions, time zones, dates and series.
+ *
+ * What each hook must return is stated on the interface; the implementations follow each engine's
+ * own reference documentation (named beside each). Only duckdb and postgres run on a real engine in
+ * the tests; the other four are checked by parsing (see README, "Dialects").
+ */
+import { FAST_UTC, renderPattern, type Pattern } from './regex.js';
+
+export const DIALECTS = ['duckdb', 'postgres', 'spark', 'trino', 'bigquery', 'snowflake'] as const;
+export type DialectName = (typeof DIALECTS)[number];
+
+export interface Dialect {
+  readonly name: DialectName;
+  /** A string literal holding `s` exactly. */
+  str(s: string): string;
+  /** A quoted identifier. */
+  ident(s: string): string;
+  /** Type names. */
+  readonly bigint: string;
+  readonly double: string;
+  readonly text: string;
+  /** a ÷ b rounded toward zero, for integer a, b (the compiler uses it where a ≥ 0 or a is a multiple of b). */
+  intDiv(a: string, b: string): string;
+  /** a mod b with the sign of a (C semantics). */
+  mod(a: string, b: string): string;
+  /** `s` as a double when it is a decimal number (guarded by the caller), else NULL; never an error. */
+  toDouble(s: string): string;
+  /** The one-character string of a Unicode code point. */
+  chr(code: number): string;
+  /** Whether `s` matches the regular expression (the pattern is anchored itself). */
+  matches(s: string, p: Pattern): string;
+  /** `s` with the first match of `p` removed (the callers' patterns are anchored: one match at most). */
+  strip(s: string, p: Pattern): string;
+  /**
+   * Expressions for named groups of `p` matched against `s` ('' or NULL when a group did not take
+   * part). `prepare` is a select-list expression computed once a row in an earlier CTE, under the
+   * alias given, when the dialect can match once and read every group (duckdb, postgres).
+   */
+  groups(s: string, p: Pattern, alias: string): { prepare?: string; group(name: string): string };
+  /**
+   * Optional: the instant ms of text in the commonest form `YYYY-MM-DDTHH:MM:SS[.sss]Z`, read with
+   * the engine's own timestamp parser, else NULL (the general path then reads it).
+   */
+  fastUtcMs?(s: string): string;
+  /** Wall-clock ms in `zone` of the instant `ms` (BIGINT ms since the epoch, UTC). */
+  wallOfInstant(ms: string, zone: string): string;
+  /** ms since the epoch of a TIMESTAMP WITH TIME ZONE (or the dialect's instant type). */
+  msOfInstant(ts: string): string;
+  /** Wall-clock ms of a TIMESTAMP WITHOUT TIME ZONE (local date and time, counted as if UTC). */
+  msOfLocal(ts: string): string;
+  /** 'YYYY-MM-DD' of day number `d` (days since 1970-01-01). */
+  dayLabel(d: string): string;
+  /** A SELECT yielding one column `x` with the integers lo…hi; `from` is a relation lo and hi may refer to. */
+  series(lo: string, hi: string, from: string): string;
+  /** An ORDER BY key that sorts strings in Unicode code-point (UTF-8 byte) order. */
+  binaryOrder(s: string): string;
+  /** string_agg(x, sep ORDER BY key). */
+  stringAgg(x: string, sep: string, key: string): string;
+  /** A JSON string literal ("…", escaped) of the text value x. */
+  jsonString(x: string): string;
+  /** Cast a number to text (for JSON). */
+  numText(x: string): string;
+}
+
+const ansi = (s: string) => `'${s.replace(/'/g, "''")}'`;
+/** A literal for dialects whose strings take backslash escapes (spark, bigquery). */
+const backslashed = (s: string) => `'${s.replace(/\\/g, '\\\\').replace(/'/g, "\\'")}'`;
+const dq = (s: string) => `"${s.replace(/"/g, '""')}"`;
+
+/** DuckDB 1.5 (duckdb.org/docs: regexp_extract with a name list, ICU time zones, epoch_ms). */
+const duckdb: Dialect = {
+  name: 'duckdb',
+  str: ansi,
+  ident: dq,
+  bigint: 'BIGINT',
+  double: 'DOUBLE',
+  text: 'VARCHAR',
+  intDiv: (a, b) => `((${a}) // (${b}))`,
+  mod: (a, b) => `((${a}) % (${b}))`,
+  toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
+  chr: (c) => `chr(${c})`,
+  matches: (s, p) => `regexp_full_match(${s}, ${ansi(renderPattern(p, 'noncapturing').source)})`,
+  strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing').source)}, '')`,
+  groups(s, p, alias) {
+    const r = renderPattern(p, 'noncapturing');
+    return {
+      prepare: `regexp_extract(${s}, ${ansi(r.source)}, [${r.names.map((n) => ansi(n)).join(', ')}])`,
+      group: (name) => `NULLIF(${alias}.${name}, '')`,
+    };
+  },
+  fastUtcMs: (s) =>
+    `CASE WHEN ${duckdbFast(s)} AND substr(${s}, 12, 2) < '24' AND substr(${s}, 18, 2) < '60' THEN epoch_ms(TRY_CAST(substr(${s}, 1, length(${s}) - 1) AS TIMESTAMP)) END`,
+  wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `epoch_ms(timezone(${ansi(zone)}, epoch_ms(${ms}) AT TIME ZONE 'UTC'))`),
+  msOfInstant: (ts) => `epoch_ms(CAST(${ts} AS TIMESTAMPTZ))`,
+  msOfLocal: (ts) => `epoch_ms(CAST(${ts} AS TIMESTAMP))`,
+  dayLabel: (d) => `CAST(DATE '1970-01-01' + CAST(${d} AS INTEGER) AS VARCHAR)`,
+  series: (lo, hi, from) => `SELECT CAST(s.x AS BIGINT) AS x FROM ${from}, generate_series(${lo}, ${hi}) AS s(x)`,
+  binaryOrder: (s) => s,
+  stringAgg: (x, sep, key) => `string_agg(${x}, ${ansi(sep)} ORDER BY ${key})`,
+  jsonString: (x) => `CAST(to_json(${x}) AS VARCHAR)`,
+  numText: (x) => `CAST(${x} AS VARCHAR)`,
+};
+
+/** PostgreSQL 15 (postgresql.org/docs/15: regexp_match, AT TIME ZONE, COLLATE "C", generate_series). */
+const postgres: Dialect = {
+  name: 'postgres',
+  str: ansi,
+  ident: dq,
+  bigint: 'BIGINT',
+  double: 'DOUBLE PRECISION',
+  text: 'TEXT',
+  intDiv: (a, b) => `((${a}) / (${b}))`,
+  mod: (a, b) => `((${a}) % (${b}))`,
+  // guarded by the caller (a decimal number of at most 40 characters): the cast cannot fail
+  toDouble: (s) => `CAST(${s} AS DOUBLE PRECISION)`,
+  chr: (c) => `chr(${c})`,
+  matches: (s, p) => `(${s} ~ ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)})`,
+  strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)}, '')`,
+  groups(s, p, alias) {
+    const r = renderPattern(p, 'noncapturing', 'postgres');
+    return {
+      prepare: `regexp_match(${s}, ${ansi(r.source)})`,
+      group: (name) => `NULLIF(${alias}[${r.names.indexOf(name) + 1}], '')`,
+    };
+  },
+  wallOfInstant: (ms, zone) =>
+    isUtc(zone) ? ms : `CAST(EXTRACT(EPOCH FROM ((TIMESTAMPTZ '1970-01-01 00:00:00+00' + (${ms}) * INTERVAL '1 millisecond') AT TIME ZONE ${ansi(zone)})) * 1000 AS BIGINT)`,
+  msOfInstant: (ts) => `CAST(EXTRACT(EPOCH FROM CAST(${ts} AS TIMESTAMPTZ)) * 1000 AS BIGINT)`,
+  msOfLocal: (ts) => `CAST(EXTRACT(EPOCH FROM CAST(${ts} AS TIMESTAMP)) * 1000 AS BIGINT)`,
+  dayLabel: (d) => `to_char(DATE '1970-01-01' + CAST(${d} AS INTEGER), 'YYYY-MM-DD')`,
+  series: (lo, hi, from) => `SELECT CAST(generate_series(${lo}, ${hi}) AS BIGINT) AS x FROM ${from}`,
+  binaryOrder: (s) => `(${s}) COLLATE "C"`,
+  stringAgg: (x, sep, key) => `string_agg(${x}, ${ansi(sep)} ORDER BY ${key})`,
+  jsonString: (x) => `CAST(to_json(CAST(${x} AS TEXT)) AS TEXT)`,
+  numText: (x) => `CAST(${x} AS TEXT)`,
+};
+
+/** Spark SQL 3.5 (spark.apache.org/docs: regexp_extract, from_utc_timestamp, sequence/explode). */
+const spark: Dialect = {
+  name: 'spark',
+  str: backslashed,
+  ident: (s) => `\`${s.replace(/`/g, '``')}\``,
+  bigint: 'BIGINT',
+  double: 'DOUBLE',
+  text: 'STRING',
+  intDiv: (a, b) => `((${a}) DIV (${b}))`,
+  mod: (a, b) => `((${a}) % (${b}))`,
+  toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
+  chr: (c) => (c < 256 ? `chr(${c})` : `decode(unhex(${backslashed(utf8Hex(c))}), 'UTF-8')`),
+  matches: (s, p) => `(${s} RLIKE ${backslashed(renderPattern(p, 'noncapturing', 'java').source)})`,
+  strip: (s, p) => `regexp_replace(${s}, ${backslashed(renderPattern(p, 'noncapturing', 'java').source)}, '')`,
+  groups(s, p) {
+    const r = renderPattern(p, 'noncapturing', 'java');
+    return { group: (name) => `NULLIF(regexp_extract(${s}, ${backslashed(r.source)}, ${r.names.indexOf(name) + 1}), '')` };
+  },
+  wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `unix_millis(from_utc_timestamp(timestamp_millis(${ms}), ${backslashed(zone)}))`),
+  msOfInstant: (ts) => `unix_millis(CAST(${ts} AS TIMESTAMP))`,
+  msOfLocal: (ts) => `unix_millis(to_utc_timestamp(CAST(${ts} AS TIMESTAMP_NTZ), 'UTC'))`,
+  dayLabel: (d) => `CAST(date_add(DATE '1970-01-01', CAST(${d} AS INT)) AS STRING)`,
+  series: (lo, hi, from) => `SELECT CAST(explode(sequence(${lo}, ${hi})) AS BIGINT) AS x FROM ${from}`,
+  binaryOrder: (s) => s,
+  stringAgg: (x, sep, key) => `array_join(transform(array_sort(collect_list(struct(${key} AS k, ${x} AS v))), e -> e.v), ${backslashed(sep)})`,
+  jsonString: (x) => `regexp_extract(to_json(named_struct('v', ${x})), '^\\\\{"v":(.*)\\\\}$', 1)`,
+  numText: (x) => `CAST(${x} AS STRING)`,
+};
+
+/** Trino 4xx (trino.io/docs: regexp_extract, at_timezone, from_unixtime_nanos, sequence/UNNEST). */
+const trino: Dialect = {
+  name: 'trino',
+  str: ansi,
+  ident: dq,
+  bigint: 'BIGINT',
+  double: 'DOUBLE',
+  text: 'VARCHAR',
+  intDiv: (a, b) => `((${a}) / (${b}))`,
+  mod: (a, b) => `mod(${a}, ${b})`,
+  toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
+  chr: (c) => `chr(${c})`,
+  matches: (s, p) => `regexp_like(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
+  strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
+  groups(s, p) {
+    const r = renderPattern(p, 'noncapturing', 'java');
+    return { group: (name) => `NULLIF(regexp_extract(${s}, ${ansi(r.source)}, ${r.names.indexOf(name) + 1}), '')` };
+  },
+  wallOfInstant: (ms, zone) =>
+    isUtc(zone) ? ms : `date_diff('millisecond', TIMESTAMP '1970-01-01 00:00:00.000', CAST(at_timezone(from_unixtime_nanos(CAST(${ms} AS BIGINT) * 1000000), ${ansi(zone)}) AS TIMESTAMP(3)))`,
+  msOfInstant: (ts) => `CAST(floor(to_unixtime(${ts}) * 1000) AS BIGINT)`,
+  msOfLocal: (ts) => `date_diff('millisecond', TIMESTAMP '1970-01-01 00:00:00.000', CAST(${ts} AS TIMESTAMP(3)))`,
+  dayLabel: (d) => `CAST(date_add('day', ${d}, DATE '1970-01-01') AS VARCHAR)`,
+  series: (lo, hi, from) => `SELECT CAST(s.x AS BIGINT) AS x FROM ${from} CROSS JOIN UNNEST(sequence(${lo}, ${hi})) AS s(x)`,
+  binaryOrder: (s) => s,
+  stringAgg: (x, sep, key) => `array_join(array_agg(${x} ORDER BY ${key}), ${ansi(sep)})`,
+  jsonString: (x) => `json_format(CAST(${x} AS JSON))`,
+  numText: (x) => `CAST(${x} AS VARCHAR)`,
+};
+
+/** BigQuery GoogleSQL (cloud.google.com/bigquery/docs/reference/standard-sql: REGEXP_EXTRACT, DATETIME(ts, zone)). */
+const bigquery: Dialect = {
+  name: 'bigquery',
+  str: backslashed,
+  ident: (s) => `\`${s.replace(/`/g, '\\`')}\``,
+  bigint: 'INT64',
+  double: 'FLOAT64',
+  text: 'STRING',
+  intDiv: (a, b) => `DIV(${a}, ${b})`,
+  mod: (a, b) => `MOD(${a}, ${b})`,
+  toDouble: (s) => `SAFE_CAST(${s} AS FLOAT64)`,
+  chr: (c) => `CODE_POINTS_TO_STRING([${c}])`,
+  matches: (s, p) => `REGEXP_CONTAINS(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)})`,
+  strip: (s, p) => `REGEXP_REPLACE(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)}, '')`,
+  groups(s, p) {
+    // BigQuery extracts at most one capturing group: each group gets its own pattern
+    return { group: (name) => `NULLIF(REGEXP_EXTRACT(${s}, ${backslashed(renderPattern(p, 'only', 're2', name).source)}), '')` };
+  },
+  wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `UNIX_MILLIS(TIMESTAMP(DATETIME(TIMESTAMP_MILLIS(${ms}), ${backslashed(zone)})))`),
+  msOfInstant: (ts) => `UNIX_MILLIS(${ts})`,
+  msOfLocal: (ts) => `UNIX_MILLIS(TIMESTAMP(${ts}))`,
+  dayLabel: (d) => `CAST(DATE_ADD(DATE '1970-01-01', INTERVAL ${d} DAY) AS STRING)`,
+  series: (lo, hi, from) => `SELECT x FROM ${from}, UNNEST(GENERATE_ARRAY(${lo}, ${hi})) AS x`,
+  binaryOrder: (s) => s,
+  stringAgg: (x, sep, key) => `STRING_AGG(${x}, ${backslashed(sep)} ORDER BY ${key})`,
+  jsonString: (x) => `TO_JSON_STRING(${x})`,
+  numText: (x) => `CAST(${x} AS STRING)`,
+};
+
+/** Snowflake (docs.snowflake.com: REGEXP_SUBSTR with group number, CONVERT_TIMEZONE, ARRAY_GENERATE_RANGE). */
+const snowflake: Dialect = {
+  name: 'snowflake',
+  str: (s) => `'${s.replace(/\\/g, '\\\\').replace(/'/g, "''")}'`,
+  ident: dq,
+  bigint: 'BIGINT',
+  double: 'DOUBLE',
+  text: 'VARCHAR',
+  intDiv: (a, b) => `TRUNC((${a}) / (${b}))`,
+  mod: (a, b) => `MOD(${a}, ${b})`,
+  toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
+  chr: (c) => `CHR(${c})`,
+  matches: (s, p) => `REGEXP_LIKE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)})`,
+  strip: (s, p) => `REGEXP_REPLACE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)}, '')`,
+  groups(s, p) {
+    const r = renderPattern(p, 'capturing', 'posix');
+    return { group: (name) => `NULLIF(REGEXP_SUBSTR(${s}, ${snowflake.str(r.source)}, 1, 1, 'e', ${r.names.indexOf(name) + 1}), '')` };
+  },
+  wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `DATE_PART(EPOCH_MILLISECOND, CONVERT_TIMEZONE('UTC', ${snowflake.str(zone)}, TO_TIMESTAMP_NTZ(${ms}, 3)))`),
+  msOfInstant: (ts) => `DATE_PART(EPOCH_MILLISECOND, CAST(${ts} AS TIMESTAMP_TZ))`,
+  msOfLocal: (ts) => `DATE_PART(EPOCH_MILLISECOND, CAST(${ts} AS TIMESTAMP_NTZ))`,
+  dayLabel: (d) => `TO_VARCHAR(DATEADD(day, ${d}, DATE '1970-01-01'), 'YYYY-MM-DD')`,
+  series: (lo, hi, from) => `SELECT CAST(${lo} + f.value AS BIGINT) AS x FROM ${from}, LATERAL FLATTEN(INPUT => ARRAY_GENERATE_RANGE(0, ${hi} - ${lo} + 1)) f`,
+  binaryOrder: (s) => `COLLATE(${s}, '')`,
+  stringAgg: (x, sep, key) => `LISTAGG(${x}, ${snowflake.str(sep)}) WITHIN GROUP (ORDER BY ${key})`,
+  jsonString: (x) => `TO_JSON(TO_VARIANT(${x}))`,
+  numText: (x) => `TO_VARCHAR(${x})`,
+};
+
+function duckdbFast(s: string): string {
+  return `regexp_full_match(${s}, ${ansi(renderPattern(FAST_UTC, 'noncapturing').source)})`;
+}
+
+function isUtc(zone: string): boolean {
+  return zone === 'UTC' || zone === 'Etc/UTC';
+}
+
+function utf8Hex(code: number): string {
+  return Buffer.from(String.fromCodePoint(code), 'utf8').toString('hex');
+}
+
+export const DIALECT: Record<DialectName, Dialect> = { duckdb, postgres, spark, trino, bigquery, snowflake };
