@@ -103,8 +103,10 @@ export function compile({ dialect: D, rules, source, range = {} }: CompileInput)
   const pass = ['user_id', ...(has.event ? ['event'] : []), ...(has.by ? ['by_value'] : []), ...(has.preReason ? ['pre_reason'] : []), ...attrCols];
   const cols = (prefix = '') => pass.map((c) => `${prefix}${c}`).join(', ');
   const floorDiv = (a: string, b: number) => D.intDiv(`(${a}) - ${D.mod(`${D.mod(a, String(b))} + ${b}`, String(b))}`, String(b));
-  const wsList = JS_SPACE.map((c) => D.chr(c)).join(', ');
-  const startsOrEndsWithSpace = (x: string) => `(substr(${x}, 1, 1) IN (${wsList}) OR substr(${x}, length(${x}), 1) IN (${wsList}))`;
+  // white space by code point: the common first characters (33…159) answer the first test
+  const isSpace = (c: string) => `(${c} <= 32 OR ${c} >= 160) AND ${c} IN (${JS_SPACE.join(', ')})`;
+  const startsWithSpace = (x: string) => `(${isSpace(D.firstCode(x))})`;
+  const startsOrEndsWithSpace = (x: string) => `(${startsWithSpace(x)} OR ${startsWithSpace(`substr(${x}, length(${x}), 1)`)})`;
   const trimJs = (x: string) => `CASE WHEN ${startsOrEndsWithSpace(x)} THEN ${D.strip(D.strip(x, LEADING_SPACE), TRAILING_SPACE)} ELSE ${x} END`;
   const name = (code: string) => `CASE ${code} ${m.states.map((s, i) => `WHEN ${i} THEN ${D.str(s)}`).join(' ')} END`;
   const ctes: Cte[] = [];
@@ -120,11 +122,11 @@ export function compile({ dialect: D, rules, source, range = {} }: CompileInput)
     `SELECT ${cols()}, ${has.tsText ? 'ts_text' : `CAST(NULL AS ${D.text}) AS ts_text`}, ${has.tsNum ? 'ts_num' : `CAST(NULL AS ${D.double}) AS ts_num`},
   ${has.tsInstant ? 'ts_instant' : `CAST(NULL AS ${D.bigint}) AS ts_instant`}, ${has.tsLocal ? 'ts_local' : `CAST(NULL AS ${D.bigint}) AS ts_local`},
   ${fast ? `${fast} AS fast_ms` : `CAST(NULL AS ${D.bigint}) AS fast_ms`}
-FROM tm_src`);
+FROM tm_src${D.fence}`);
   cte('tm_text', 'the timestamp text, trimmed as JavaScript trims it',
     `SELECT ${cols()}, ts_num, ts_instant, ts_local, fast_ms,
   CASE WHEN ts_text IS NOT NULL AND fast_ms IS NULL THEN ${trimJs('ts_text')} END AS t
-FROM tm_fast`);
+FROM tm_fast${D.fence}`);
   const short = `length(t) <= ${MAX_TIMESTAMP_TEXT}`;
   cte('tm_form', 'which form the text has: epoch digits (ep), ISO 8601 extended (1) or basic (2)',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, t,
@@ -132,16 +134,16 @@ FROM tm_fast`);
        WHEN ts_num IS NOT NULL AND (ts_num = 0 OR (abs(ts_num) >= 1e-6 AND abs(ts_num) < 1e21)) THEN ts_num END AS ep,
   CASE WHEN t IS NOT NULL AND ${short} AND NOT ${D.matches('t', EPOCH)} THEN
     CASE WHEN ${D.matches('t', ISO)} THEN 1 WHEN ${D.matches('t', ISO_BASIC)} THEN 2 END END AS form
-FROM tm_text`);
+FROM tm_text${D.fence}`);
   const prepared = [iso.prepare && `CASE WHEN form = 1 THEN ${iso.prepare} END AS iso_m`, basic.prepare && `CASE WHEN form = 2 THEN ${basic.prepare} END AS basic_m`].filter(Boolean);
   cte('tm_match', 'the regular-expression match of the ISO forms',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, t, ep, form${prepared.length ? `, ${prepared.join(', ')}` : ''}
-FROM tm_form`);
+FROM tm_form${D.fence}`);
   const num = (g: string) => (g === 'z' || g === 'sg' || g === 'f' ? `CASE form WHEN 1 THEN ${iso.group(g)} WHEN 2 THEN ${basic.group(g)} END` : `CAST(CASE form WHEN 1 THEN ${iso.group(g)} WHEN 2 THEN ${basic.group(g)} END AS ${D.bigint})`);
   cte('tm_parts', 'the fields of an ISO timestamp as numbers',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, ep, form,
   ${ISO_GROUPS.map((g) => `${num(g)} AS ${g === 's' ? 'sec' : g}`).join(',\n  ')}
-FROM tm_match`);
+FROM tm_match${D.fence}`);
   const y1 = 'CASE WHEN mo <= 2 THEN y - 1 ELSE y END';
   const daysFromCivil = (yy: string, mm: string, dd: string) => {
     // H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", days_from_civil (years ≥ 0 here)
@@ -162,7 +164,7 @@ FROM tm_match`);
       + CASE WHEN f IS NULL THEN 0 ELSE CAST(floor(${D.toDouble(`'0.' || f`)} * 1000) AS ${D.bigint}) END
   END AS local_ms,
   CASE WHEN sg = '-' THEN -1 ELSE 1 END * (coalesce(oh, 0) * 60 + coalesce(om, 0)) AS off_min
-FROM tm_parts`);
+FROM tm_parts${D.fence}`);
   const epMs = `CASE WHEN abs(ep) >= 1e11 THEN ep ELSE ep * 1000 END`;
   cte('tm_instant', 'the instant (ms since the epoch) of timestamps that name one, or the local ms of those that do not',
     `SELECT ${cols()},
@@ -171,17 +173,17 @@ FROM tm_parts`);
        WHEN local_ms IS NOT NULL AND (z IS NOT NULL OR sg IS NOT NULL) THEN local_ms - off_min * 60000
        WHEN ts_instant IS NOT NULL AND ts_instant > -2300000000000 AND ts_instant < 7400000000000 THEN ts_instant END AS instant_ms,
   CASE WHEN local_ms IS NOT NULL AND z IS NULL AND sg IS NULL THEN local_ms ELSE ts_local END AS local_ms
-FROM tm_local`);
+FROM tm_local${D.fence}`);
   cte('tm_wall', `wall-clock ms in ${rules.timezone}, years 1900 to 2199`,
     `SELECT ${cols()}, CASE WHEN w >= ${MS_1900} AND w < ${MS_2200} THEN w END AS wall_ms
-FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instant_ms IS NOT NULL THEN ${D.wallOfInstant('instant_ms', rules.timezone)} END AS w FROM tm_instant) x`);
+FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instant_ms IS NOT NULL THEN ${D.wallOfInstant('instant_ms', rules.timezone)} END AS w FROM tm_instant${D.fence}) x${D.fence}`);
 
   // ---- each row's fate and period
   const day = floorDiv('wall_ms', DAY_MS);
   const ws = weekdayIndex(rules.weekStart);
   const keyOfDay = rules.grain === 'day' ? 'day' : rules.grain === 'week' ? floorDiv(`day + ${3 - ws}`, 7) : 'month_key';
   const keyEvents = rules.activity.keyEvents;
-  const blankUser = `(user_id IS NULL OR user_id = '' OR (substr(user_id, 1, 1) IN (${wsList}) AND ${D.matches('user_id', BLANK)}))`;
+  const blankUser = `(user_id IS NULL OR user_id = '' OR (${startsWithSpace('user_id')} AND ${D.matches('user_id', BLANK)}))`;
   const reason = [
     has.preReason ? 'WHEN pre_reason IS NOT NULL THEN pre_reason' : '',
     `WHEN ${blankUser} THEN 'missing user id'`,
@@ -192,22 +194,22 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
     keyEvents && has.event ? `WHEN event NOT IN (${keyEvents.map((e) => D.str(e)).join(', ')}) THEN 'notkey'` : '',
     range.toKey !== undefined ? `WHEN k > ${range.toKey} THEN 'after'` : '',
   ].filter(Boolean).join(' ');
-  cte('tm_day', 'the local day of each row (days since 1970-01-01)', `SELECT ${cols()}, wall_ms, ${day} AS day FROM tm_wall`);
+  cte('tm_day', 'the local day of each row (days since 1970-01-01)', `SELECT ${cols()}, wall_ms, ${day} AS day FROM tm_wall${D.fence}`);
   let keySource = 'tm_day';
   if (rules.grain === 'month') {
     // Hinnant's civil_from_days: the month of a day number, as year · 12 + month − 1
-    cte('tm_era', 'the 400-year era of each day', `SELECT ${cols()}, wall_ms, day, ${D.intDiv('day + 719468', '146097')} AS era, day + 719468 - ${D.intDiv('day + 719468', '146097')} * 146097 AS doe FROM tm_day`);
-    cte('tm_yoe', 'the year of the era', `SELECT ${cols()}, wall_ms, day, era, doe, ${D.intDiv(`doe - ${D.intDiv('doe', '1460')} + ${D.intDiv('doe', '36524')} - ${D.intDiv('doe', '146096')}`, '365')} AS yoe FROM tm_era`);
-    cte('tm_mp', 'the month counted from March', `SELECT ${cols()}, wall_ms, day, era, yoe, ${D.intDiv(`5 * (doe - (365 * yoe + ${D.intDiv('yoe', '4')} - ${D.intDiv('yoe', '100')})) + 2`, '153')} AS mp FROM tm_yoe`);
+    cte('tm_era', 'the 400-year era of each day', `SELECT ${cols()}, wall_ms, day, ${D.intDiv('day + 719468', '146097')} AS era, day + 719468 - ${D.intDiv('day + 719468', '146097')} * 146097 AS doe FROM tm_day${D.fence}`);
+    cte('tm_yoe', 'the year of the era', `SELECT ${cols()}, wall_ms, day, era, doe, ${D.intDiv(`doe - ${D.intDiv('doe', '1460')} + ${D.intDiv('doe', '36524')} - ${D.intDiv('doe', '146096')}`, '365')} AS yoe FROM tm_era${D.fence}`);
+    cte('tm_mp', 'the month counted from March', `SELECT ${cols()}, wall_ms, day, era, yoe, ${D.intDiv(`5 * (doe - (365 * yoe + ${D.intDiv('yoe', '4')} - ${D.intDiv('yoe', '100')})) + 2`, '153')} AS mp FROM tm_yoe${D.fence}`);
     cte('tm_month', 'the month key of each day',
-      `SELECT ${cols()}, wall_ms, day, (yoe + era * 400 + CASE WHEN mp >= 10 THEN 1 ELSE 0 END) * 12 + CASE WHEN mp < 10 THEN mp + 2 ELSE mp - 10 END AS month_key FROM tm_mp`);
+      `SELECT ${cols()}, wall_ms, day, (yoe + era * 400 + CASE WHEN mp >= 10 THEN 1 ELSE 0 END) * 12 + CASE WHEN mp < 10 THEN mp + 2 ELSE mp - 10 END AS month_key FROM tm_mp${D.fence}`);
     keySource = 'tm_month';
   }
-  cte('tm_keyed', `the ${rules.grain} of each row`, `SELECT ${cols()}, wall_ms, CASE WHEN wall_ms IS NOT NULL THEN ${keyOfDay} END AS k FROM ${keySource}`);
+  cte('tm_keyed', `the ${rules.grain} of each row`, `SELECT ${cols()}, wall_ms, CASE WHEN wall_ms IS NOT NULL THEN ${keyOfDay} END AS k FROM ${keySource}${D.fence}`);
   cte('tm_ev', 'each row: used, not a key event (notkey), after --to (after), or rejected with its reason',
     `SELECT ${cols()}, wall_ms, k,
   CASE WHEN reason IS NOT NULL THEN 'rejected' ${status} ELSE 'used' END AS status, reason
-FROM (SELECT ${cols()}, wall_ms, k, CASE ${reason} END AS reason FROM tm_keyed) x`);
+FROM (SELECT ${cols()}, wall_ms, k, CASE ${reason} END AS reason FROM tm_keyed${D.fence}) x${D.fence}`);
   cte('tm_used', 'the used rows', `SELECT user_id, k, wall_ms${has.by ? ', by_value' : ''}${attrCols.map((c) => `, ${c}`).join('')} FROM tm_ev WHERE status = 'used'`);
 
   // ---- the range

@@ -30,6 +30,8 @@ export interface Dialect {
   toDouble(s: string): string;
   /** The one-character string of a Unicode code point. */
   chr(code: number): string;
+  /** The code point of the first character of `s` (NULL or 0 for an empty string). */
+  firstCode(s: string): string;
   /** Whether `s` matches the regular expression (the pattern is anchored itself). */
   matches(s: string, p: Pattern): string;
   /** `s` with the first match of `p` removed (the callers' patterns are anchored: one match at most). */
@@ -63,6 +65,12 @@ export interface Dialect {
   jsonString(x: string): string;
   /** Cast a number to text (for JSON). */
   numText(x: string): string;
+  /**
+   * Appended to a per-row step's SELECT so that the planner computes its expressions once a row
+   * rather than copying them into every use in the next step (PostgreSQL inlines CTEs; the copies
+   * multiply step by step). Empty where the planner does not copy.
+   */
+  readonly fence: string;
 }
 
 const ansi = (s: string) => `'${s.replace(/'/g, "''")}'`;
@@ -73,6 +81,7 @@ const dq = (s: string) => `"${s.replace(/"/g, '""')}"`;
 /** DuckDB 1.5 (duckdb.org/docs: regexp_extract with a name list, ICU time zones, epoch_ms). */
 const duckdb: Dialect = {
   name: 'duckdb',
+  fence: '',
   str: ansi,
   ident: dq,
   bigint: 'BIGINT',
@@ -82,6 +91,7 @@ const duckdb: Dialect = {
   mod: (a, b) => `((${a}) % (${b}))`,
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `chr(${c})`,
+  firstCode: (s) => `unicode(${s})`,
   matches: (s, p) => `regexp_full_match(${s}, ${ansi(renderPattern(p, 'noncapturing').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing').source)}, '')`,
   groups(s, p, alias) {
@@ -107,6 +117,7 @@ const duckdb: Dialect = {
 /** PostgreSQL 15 (postgresql.org/docs/15: regexp_match, AT TIME ZONE, COLLATE "C", generate_series). */
 const postgres: Dialect = {
   name: 'postgres',
+  fence: '\nOFFSET 0',
   str: ansi,
   ident: dq,
   bigint: 'BIGINT',
@@ -117,6 +128,7 @@ const postgres: Dialect = {
   // guarded by the caller (a decimal number of at most 40 characters): the cast cannot fail
   toDouble: (s) => `CAST(${s} AS DOUBLE PRECISION)`,
   chr: (c) => `chr(${c})`,
+  firstCode: (s) => `ascii(${s})`,
   matches: (s, p) => `(${s} ~ ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)}, '')`,
   groups(s, p, alias) {
@@ -141,6 +153,7 @@ const postgres: Dialect = {
 /** Spark SQL 3.5 (spark.apache.org/docs: regexp_extract, from_utc_timestamp, sequence/explode). */
 const spark: Dialect = {
   name: 'spark',
+  fence: '',
   str: backslashed,
   ident: (s) => `\`${s.replace(/`/g, '``')}\``,
   bigint: 'BIGINT',
@@ -150,6 +163,7 @@ const spark: Dialect = {
   mod: (a, b) => `((${a}) % (${b}))`,
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => (c < 256 ? `chr(${c})` : `decode(unhex(${backslashed(utf8Hex(c))}), 'UTF-8')`),
+  firstCode: (s) => `ascii(${s})`,
   matches: (s, p) => `(${s} RLIKE ${backslashed(renderPattern(p, 'noncapturing', 'java').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${backslashed(renderPattern(p, 'noncapturing', 'java').source)}, '')`,
   groups(s, p) {
@@ -170,6 +184,7 @@ const spark: Dialect = {
 /** Trino 4xx (trino.io/docs: regexp_extract, at_timezone, from_unixtime_nanos, sequence/UNNEST). */
 const trino: Dialect = {
   name: 'trino',
+  fence: '',
   str: ansi,
   ident: dq,
   bigint: 'BIGINT',
@@ -179,6 +194,7 @@ const trino: Dialect = {
   mod: (a, b) => `mod(${a}, ${b})`,
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `chr(${c})`,
+  firstCode: (s) => `codepoint(CAST(substr(${s}, 1, 1) AS VARCHAR(1)))`,
   matches: (s, p) => `regexp_like(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
   groups(s, p) {
@@ -200,6 +216,7 @@ const trino: Dialect = {
 /** BigQuery GoogleSQL (cloud.google.com/bigquery/docs/reference/standard-sql: REGEXP_EXTRACT, DATETIME(ts, zone)). */
 const bigquery: Dialect = {
   name: 'bigquery',
+  fence: '',
   str: backslashed,
   ident: (s) => `\`${s.replace(/`/g, '\\`')}\``,
   bigint: 'INT64',
@@ -209,6 +226,7 @@ const bigquery: Dialect = {
   mod: (a, b) => `MOD(${a}, ${b})`,
   toDouble: (s) => `SAFE_CAST(${s} AS FLOAT64)`,
   chr: (c) => `CODE_POINTS_TO_STRING([${c}])`,
+  firstCode: (s) => `UNICODE(${s})`,
   matches: (s, p) => `REGEXP_CONTAINS(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)})`,
   strip: (s, p) => `REGEXP_REPLACE(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)}, '')`,
   groups(s, p) {
@@ -229,6 +247,7 @@ const bigquery: Dialect = {
 /** Snowflake (docs.snowflake.com: REGEXP_SUBSTR with group number, CONVERT_TIMEZONE, ARRAY_GENERATE_RANGE). */
 const snowflake: Dialect = {
   name: 'snowflake',
+  fence: '',
   str: (s) => `'${s.replace(/\\/g, '\\\\').replace(/'/g, "''")}'`,
   ident: dq,
   bigint: 'BIGINT',
@@ -238,6 +257,7 @@ const snowflake: Dialect = {
   mod: (a, b) => `MOD(${a}, ${b})`,
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `CHR(${c})`,
+  firstCode: (s) => `UNICODE(${s})`,
   matches: (s, p) => `REGEXP_LIKE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)})`,
   strip: (s, p) => `REGEXP_REPLACE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)}, '')`,
   groups(s, p) {

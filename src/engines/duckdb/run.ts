@@ -6,6 +6,7 @@
  * The per-row stage (parsing, each row's fate) and the per-active-period stage (tm_life) are stored
  * as temporary tables once; every table and count is then a small query on them.
  */
+import { performance } from 'node:perf_hooks';
 import { DuckDBInstance, type DuckDBConnection } from '@duckdb/node-api';
 import { TidemarkError } from '../../errors.js';
 import { readEvents } from '../../ingest/read.js';
@@ -31,6 +32,8 @@ export interface DuckdbOptions {
   threads?: number;
   /** Where DuckDB spills what does not fit in memory (default: DuckDB's, beside the database or in the temp folder). */
   tempDirectory?: string;
+  /** Called after each stage with its name and wall seconds (for the benchmark). */
+  onStage?(stage: string, seconds: number): void;
 }
 
 /** The tables stored once per run; the rest are queries on them. */
@@ -74,10 +77,17 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
         (await rowsOf(c, `DESCRIBE SELECT * FROM ${rel}`)).map((r) => ({ name: String(r.column_name), type: String(r.column_type) })),
     }, range.by);
     const compiled = compile({ dialect: DIALECT.duckdb, rules, source: prepared.source, range: { fromKey, toKey, warmup: range.warmup } });
+    let t0 = performance.now();
+    const stage = (name: string) => {
+      const t = performance.now();
+      options.onStage?.(name, (t - t0) / 1000);
+      t0 = t;
+    };
     const stored = new Set<string>();
     for (const name of STORED) {
       await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
       stored.add(name);
+      stage(name);
     }
     const query = (final: string) => rowsOf(c, withCtes(compiled.ctes, final, stored));
     const readerRejects = await countRejects(c, prepared.rejects, input);
@@ -97,7 +107,11 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       file: prepared.files.join(', '),
     });
     const tables = {} as Record<TableName, TableRows>;
-    for (const name of Object.keys(WAIST_TABLES) as TableName[]) tables[name] = (await query(compiled.tables[name])) as TableRows;
+    stage('facts');
+    for (const name of Object.keys(WAIST_TABLES) as TableName[]) {
+      tables[name] = (await query(compiled.tables[name])) as TableRows;
+      stage(name);
+    }
     return waistOf(manifest, tables);
   } finally {
     c.closeSync();

@@ -20,6 +20,8 @@ import type { Rules } from '../../rules/schema.js';
 import type { SqlSource } from '../../sql/compile.js';
 import { BLANK_REASON } from '../../sql/facts.js';
 import { BLANK, renderPattern } from '../../sql/regex.js';
+import { DIALECT } from '../../sql/dialects.js';
+import { kindOfType, qualified, tableSource } from '../../sql/source.js';
 import { noSplitColumn } from '../../lifecycle/perPerson.js';
 
 export type DuckdbFileFormat = 'csv' | 'ndjson' | 'parquet';
@@ -205,23 +207,21 @@ async function ndjsonSelect(file: string, i: number, rules: Rules, attributes: s
   };
 }
 
-/** Typed columns (Parquet, a DuckDB table): text as text; a timestamp with a time zone is an instant, one without (or a date) local time; a number epoch time. */
+/** Typed columns (Parquet): text as text; a timestamp with a time zone is an instant, one without (or a date) local time; a number epoch time. */
 function typedSelect(from: string, columns: ColumnType[], rules: Rules, attributes: string[], file: string): { sel: FileSelect; hasEvent: boolean } {
-  const cols = rules.columns;
-  const plan = headerPlan(columns.map((c) => c.name), cols, rules.activity.keyEvents !== undefined, file);
+  const D = DIALECT.duckdb;
+  const plan = headerPlan(columns.map((c) => c.name), rules.columns, rules.activity.keyEvents !== undefined, file);
   for (const a of plan.attributeNames) if (!attributes.includes(a)) attributes.push(a);
   const ref = (j: number) => dq(columns[j].name);
   const text = (j: number) => `CAST(${ref(j)} AS VARCHAR)`;
-  const t = columns[plan.timestamp].type.toUpperCase();
   const ts = ref(plan.timestamp);
-  const isNum = /^(TINYINT|SMALLINT|INTEGER|BIGINT|HUGEINT|UTINYINT|USMALLINT|UINTEGER|UBIGINT|UHUGEINT|FLOAT|DOUBLE|DECIMAL)/.test(t);
-  const tsCols = t.startsWith('TIMESTAMP WITH TIME ZONE') || t === 'TIMESTAMPTZ'
-    ? `CAST(NULL AS VARCHAR) AS ts_text, CAST(NULL AS DOUBLE) AS ts_num, epoch_ms(${ts}) AS ts_instant, CAST(NULL AS BIGINT) AS ts_local`
-    : t.startsWith('TIMESTAMP') || t === 'DATE'
-      ? `CAST(NULL AS VARCHAR) AS ts_text, CAST(NULL AS DOUBLE) AS ts_num, CAST(NULL AS BIGINT) AS ts_instant, epoch_ms(CAST(${ts} AS TIMESTAMP)) AS ts_local`
-      : isNum
-        ? `CAST(NULL AS VARCHAR) AS ts_text, CAST(${ts} AS DOUBLE) AS ts_num, CAST(NULL AS BIGINT) AS ts_instant, CAST(NULL AS BIGINT) AS ts_local`
-        : `${text(plan.timestamp)} AS ts_text, CAST(NULL AS DOUBLE) AS ts_num, CAST(NULL AS BIGINT) AS ts_instant, CAST(NULL AS BIGINT) AS ts_local`;
+  const kind = kindOfType(columns[plan.timestamp].type);
+  const tsCols = [
+    `${kind === 'text' ? text(plan.timestamp) : 'CAST(NULL AS VARCHAR)'} AS ts_text`,
+    `${kind === 'number' ? `CAST(${ts} AS DOUBLE)` : 'CAST(NULL AS DOUBLE)'} AS ts_num`,
+    `${kind === 'instant' ? D.msOfInstant(ts) : 'CAST(NULL AS BIGINT)'} AS ts_instant`,
+    `${kind === 'local' ? D.msOfLocal(ts) : 'CAST(NULL AS BIGINT)'} AS ts_local`,
+  ].join(', ');
   return {
     hasEvent: plan.event >= 0,
     sel: {
@@ -231,7 +231,6 @@ function typedSelect(from: string, columns: ColumnType[], rules: Rules, attribut
     },
   };
 }
-
 
 /**
  * The source relation for event files or a DuckDB table.
@@ -249,16 +248,14 @@ export async function prepareSource(input: DuckdbInput, rules: Rules, db: Source
   let files: string[];
   if ('db' in input) {
     mustExist(input.db);
-    files = [input.db];
     try {
       await db.exec(`ATTACH ${q(input.db)} AS tm_srcdb (READ_ONLY)`);
     } catch (e) {
       throw new TidemarkError('FILE_UNREADABLE', `not a DuckDB database: ${String((e as Error).message).split('\n')[0]}`, { file: input.db }, 'Give a database file written by DuckDB with --db');
     }
-    const rel = `tm_srcdb.${input.table.split('.').map(dq).join('.')}`;
-    const typed = typedSelect(rel, await describeWith(describe, rel, input.db, input.table), rules, attributes, input.db);
-    selects.push(typed.sel);
-    hasEvent = typed.hasEvent;
+    const rel = `tm_srcdb.${qualified(DIALECT.duckdb, input.table)}`;
+    const columns = await describeWith(describe, rel, input.db, input.table);
+    return { source: tableSource(DIALECT.duckdb, rel, columns.map((c) => ({ name: c.name, kind: kindOfType(c.type) })), rules, by, input.db), rejects: [], files: [input.db] };
   } else {
     files = input.files;
     const formats = files.map((f) => fileFormat(f, input.format));
