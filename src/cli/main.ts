@@ -15,6 +15,7 @@ import { projectCommand } from './commands/project.js';
 import { reportCommand } from './commands/report.js';
 import { retentionCommand } from './commands/retention.js';
 import { rulesCommand } from './commands/rules.js';
+import { sqlCommand } from './commands/sql.js';
 import { survivalCommand } from './commands/survival.js';
 
 export function buildProgram(io: Io): Command {
@@ -36,6 +37,7 @@ export function buildProgram(io: Io): Command {
   reportCommand(program, io);
   demoCommand(program, io);
   rulesCommand(program, io);
+  sqlCommand(program, io);
   for (const c of program.commands) applyOverrides(c, io);
   return program;
 }
