@@ -59,53 +59,59 @@ export const DATA_FIELDS = ['periods', 'rows', 'rowsInLastPeriod', 'lastPeriod',
 export function manifestSelect(D: Dialect, rules: Rules, engine: string, warmup: number, by: string | undefined): string {
   const fixed = staticManifest(rules, engine, warmup, by);
   const n = (x: string) => D.numText(`coalesce(${x}, 0)`);
-  const count = (where: string) => `(SELECT ${n('SUM(n)')} FROM (SELECT status, reason, count(*) AS n FROM tm_ev GROUP BY status, reason) a WHERE ${where})`;
   const ws = weekdayIndex(rules.weekStart);
   // first day of period key x, and of x + 1 (calendar.ts, periodStartDay)
   const startDay = (x: string) =>
     rules.grain === 'day' ? x : rules.grain === 'week' ? `(${x}) * 7 + ${ws - 3}` : monthStartDay(D, x);
   const startMs = `(${startDay('b.end_key')}) * ${DAY}`;
   const endMs = `(${startDay('b.end_key + 1')}) * ${DAY}`;
-  const later = `(SELECT count(*) FROM tm_ev WHERE status = 'after') > 0`;
-  const cov = `CASE WHEN ${later} THEN 1.0 ELSE CASE WHEN lp.max_wall IS NULL THEN 0.0 ELSE GREATEST(0.0, LEAST(1.0, CAST(lp.max_wall - ${startMs} AS ${D.double}) / CAST(${endMs} - ${startMs} AS ${D.double}))) END END`;
+  const later = 'ac.after_rows > 0';
+  const cov = `CASE WHEN ${later} THEN 1.0 WHEN lp.max_wall IS NULL THEN 0.0 ELSE GREATEST(0.0, LEAST(1.0, CAST(lp.max_wall - ${startMs} AS ${D.double}) / CAST(${endMs} - ${startMs} AS ${D.double}))) END`;
   const complete = `CASE WHEN ${later} OR lp.max_wall >= ${endMs} - CAST(${endMs} - ${startMs} AS ${D.double}) / 7 THEN 'true' ELSE 'false' END`;
   const keys = rules.activity.keyEvents;
   const isKey = keys ? `CASE WHEN event IN (${keys.map((k) => D.str(k)).join(', ')}) THEN 'true' ELSE 'false' END` : "'true'";
-  const events = `(SELECT coalesce(${D.stringAgg(`'{"name":' || ${D.jsonString('event')} || ',"rows":' || ${D.numText('n')} || ',"key":' || ${isKey} || '}'`, ',', 'r')}, '')
-    FROM (SELECT event, n, row_number() OVER (ORDER BY n DESC, ${D.binaryOrder('event')}) AS r
-          FROM (SELECT event, count(*) AS n FROM tm_ev WHERE event IS NOT NULL AND (status <> 'rejected' OR reason = 'missing event name') GROUP BY event) e) x
-    WHERE r <= ${EVENT_NAMES_KEPT})`;
-  const rejected = `(SELECT coalesce(${D.stringAgg(`${D.jsonString('reason')} || ':' || ${D.numText('n')}`, ',', 'reason')}, '')
-    FROM (SELECT reason, count(*) AS n FROM tm_ev WHERE status = 'rejected' GROUP BY reason) x)`;
-  const attributes = by === undefined ? "'[]'"
-    : `'[{"name":' || ${D.jsonString(D.str(by))} || ',"values":' || (SELECT ${n('count(DISTINCT by_value)')} FROM tm_used WHERE by_value <> '') || '}]'`;
+  const sum = (where: string) => `SUM(CASE WHEN ${where} THEN n ELSE 0 END)`;
+  // one-row relations, cross-joined: each holds one part of the manifest
+  const from = [
+    'tm_bounds b',
+    `(SELECT count(*) AS n, max(u.wall_ms) AS max_wall FROM tm_used u CROSS JOIN tm_bounds bb WHERE u.k = bb.end_key) lp`,
+    `(SELECT ${sum("coalesce(reason, '') <> '(blank line)'")} AS read_rows, ${sum("status = 'used'")} AS used_rows, ${sum("status = 'notkey'")} AS notkey_rows, ${sum("status = 'after'")} AS after_rows
+   FROM (SELECT status, reason, count(*) AS n FROM tm_ev GROUP BY status, reason) a) ac`,
+    `(SELECT coalesce(${D.commaAgg(`${D.jsonString('reason')} || ':' || ${D.numText('n')}`, 'rn')}, '') AS txt
+   FROM (SELECT reason, n, row_number() OVER (ORDER BY ${D.binaryOrder('reason')}) AS rn FROM (SELECT reason, count(*) AS n FROM tm_ev WHERE status = 'rejected' AND reason <> '(blank line)' GROUP BY reason) r0) r1) rj`,
+    `(SELECT coalesce(${D.commaAgg(`'"' || label || '"'`, 'k')}, '') AS txt, max(CASE WHEN k = bp.end_key THEN label END) AS last_label FROM tm_periods CROSS JOIN tm_bounds bp) pe`,
+    `(SELECT count(DISTINCT user_id) AS users FROM tm_active) us`,
+    `(SELECT coalesce(${D.commaAgg(`'{"name":' || ${D.jsonString('event')} || ',"rows":' || ${D.numText('n')} || ',"key":' || ${isKey} || '}'`, 'r')}, '') AS txt
+   FROM (SELECT event, n, row_number() OVER (ORDER BY n DESC, ${D.binaryOrder('event')}) AS r
+         FROM (SELECT event, count(*) AS n FROM tm_ev WHERE event IS NOT NULL AND (status <> 'rejected' OR reason = 'missing event name') GROUP BY event) e0) e1
+   WHERE r <= ${EVENT_NAMES_KEPT}) ev`,
+    ...(by === undefined ? [] : [
+      `(SELECT count(DISTINCT by_value) AS n_values, count(DISTINCT user_id) AS with_value FROM tm_used WHERE by_value <> '') bv`,
+      `(SELECT count(DISTINCT u1) AS with_own FROM (SELECT by_value, min(user_id) AS u1, max(user_id) AS u2 FROM tm_used WHERE by_value <> '' GROUP BY by_value) o WHERE u1 = u2) bo`,
+    ]),
+  ];
+  const attributes = by === undefined ? "'[]'" : `'[{"name":' || ${D.jsonString(D.str(by))} || ',"values":' || ${n('bv.n_values')} || '}]'`;
   const perPerson = by === undefined ? "'false'"
-    : `(SELECT CASE WHEN with_value >= ${PER_PERSON_MIN_USERS} AND with_own > ${PER_PERSON_SHARE} * with_value THEN 'true' ELSE 'false' END FROM (
-        SELECT (SELECT count(DISTINCT user_id) FROM tm_used WHERE by_value <> '') AS with_value,
-          (SELECT count(DISTINCT u1) FROM (SELECT by_value, min(user_id) AS u1, max(user_id) AS u2 FROM tm_used WHERE by_value <> '' GROUP BY by_value) o WHERE u1 = u2) AS with_own) x)`;
+    : `CASE WHEN bv.with_value >= ${PER_PERSON_MIN_USERS} AND bo.with_own > ${PER_PERSON_SHARE} * bv.with_value THEN 'true' ELSE 'false' END`;
   const head = JSON.stringify(fixed).split('"periods":null')[0]; // '{"format":…,"engine":{…},'
-  const by_ = `,"by":${JSON.stringify(by ?? null)},"byPerPerson":`;
   const parts = [
-    D.str(`${head}"periods":[`),
-    `(SELECT coalesce(${D.stringAgg(`'"' || label || '"'`, ',', 'k')}, '') FROM tm_periods)`,
-    D.str('],"rows":{"read":'),
-    `(SELECT ${n('count(*)')} FROM tm_ev WHERE reason IS NULL OR reason <> '(blank line)')`,
-    D.str(',"used":'), count("status = 'used'"),
-    D.str(',"notKeyEvent":'), count("status = 'notkey'"),
-    D.str(',"afterRange":'), count("status = 'after'"),
-    D.str(',"partial":0,"rejected":{'), rejected,
+    D.str(`${head}"periods":[`), 'pe.txt',
+    D.str('],"rows":{"read":'), n('ac.read_rows'),
+    D.str(',"used":'), n('ac.used_rows'),
+    D.str(',"notKeyEvent":'), n('ac.notkey_rows'),
+    D.str(',"afterRange":'), n('ac.after_rows'),
+    D.str(',"partial":0,"rejected":{'), 'rj.txt',
     D.str('},"blankLines":0},"rowsInLastPeriod":'), D.numText('lp.n'),
-    D.str(',"lastPeriod":{"label":"'), `(SELECT label FROM tm_periods WHERE k = b.end_key)`,
+    D.str(',"lastPeriod":{"label":"'), 'pe.last_label',
     D.str('","coverage":'), D.numText(cov),
     D.str(',"complete":'), complete,
-    D.str('},"users":'), `(SELECT ${n('count(DISTINCT user_id)')} FROM tm_active)`,
-    D.str(',"events":['), events,
+    D.str('},"users":'), n('us.users'),
+    D.str(',"events":['), 'ev.txt',
     D.str('],"attributes":'), attributes,
-    D.str(by_), perPerson,
+    D.str(`,"by":${JSON.stringify(by ?? null)},"byPerPerson":`), perPerson,
     D.str('}'),
   ];
-  return `SELECT ${parts.join('\n  || ')} AS manifest
-FROM tm_bounds b CROSS JOIN (SELECT count(*) AS n, max(u.wall_ms) AS max_wall FROM tm_used u CROSS JOIN tm_bounds bb WHERE u.k = bb.end_key) lp`;
+  return `SELECT ${parts.join('\n  || ')} AS manifest\nFROM ${from.join('\nCROSS JOIN ')}`;
 }
 
 /** First day of month key x (integers only: Hinnant's days_from_civil on year x ÷ 12, month x mod 12 + 1). */
