@@ -113,6 +113,11 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       stage(name);
     }
     return waistOf(manifest, tables);
+  } catch (e) {
+    if (e instanceof TidemarkError) throw e;
+    // DuckDB's own refusal (a file it cannot read, a type it cannot cast): one line, naming the source
+    const where = 'db' in input ? input.db : input.files.join(', ');
+    throw new TidemarkError('FILE_UNREADABLE', `DuckDB could not read the events: ${String((e as Error).message).split('\n')[0]}`, { file: where }, 'Check the files, or run the memory engine to find the row');
   } finally {
     c.closeSync();
     instance.closeSync();

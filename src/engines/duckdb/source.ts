@@ -200,9 +200,13 @@ async function ndjsonSelect(file: string, i: number, rules: Rules, attributes: s
   CAST(NULL AS BIGINT) AS ts_instant, CAST(NULL AS BIGINT) AS ts_local,
   ${jsonText(cols.event)} AS event,
   CASE WHEN is_blank THEN ${q(BLANK_REASON)} WHEN NOT ok THEN 'not valid JSON' END AS pre_reason`,
-    from: `(SELECT line, is_blank, NOT is_blank AND coalesce(json_valid(line), false) AND json_type(line) = 'OBJECT' AS ok
-  FROM (SELECT CASE WHEN substr(l0, 1, 1) = chr(65279) THEN substr(l0, 2) ELSE l0 END AS line, l0 IS NULL OR ${BLANK_LINE} AS is_blank
-        FROM (SELECT line AS l0 FROM ${read}) r0) r1) r2`,
+    // the JSON functions fail on text that is not JSON, and DuckDB may compute a repeated expression
+    // for every row before any CASE picks (common subexpressions): they only ever see valid JSON
+    from: `(SELECT jline AS line, is_blank, NOT is_blank AND valid AND json_type(jline) = 'OBJECT' AS ok
+  FROM (SELECT CASE WHEN valid THEN line ELSE '{}' END AS jline, is_blank, valid
+        FROM (SELECT line, is_blank, coalesce(json_valid(line), false) AS valid
+              FROM (SELECT CASE WHEN substr(l0, 1, 1) = chr(65279) THEN substr(l0, 2) ELSE l0 END AS line, l0 IS NULL OR ${BLANK_LINE} AS is_blank
+                    FROM (SELECT line AS l0 FROM ${read}) r0) r1) r2) r3) r4`,
     attrs: new Map(keys.map((k) => [k, `coalesce(${jsonText(k)}, '')`])),
   };
 }
