@@ -339,8 +339,10 @@ ORDER BY x.split DESC, x.grp, x.c, x.duration, x.observed`,
   cte('tm_wmembers', `each active period of members of cohorts observed over at most ${WINDOW_AGES} ages: the ages whose next active age is this one`,
     `SELECT l.first_k AS c, CASE WHEN l.prev_k IS NULL THEN 0 ELSE l.prev_k - l.first_k + 1 END AS a_lo, l.k - l.first_k AS nx
 FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND b.end_key - l.first_k <= ${WINDOW_AGES}`);
-  cte('tm_whist', 'members by cohort, age a and their next active age from a on (nx)',
-    `SELECT w.c, ag.x AS a, w.nx, count(*) AS n FROM tm_wmembers w JOIN tm_ages ag ON ag.x >= w.a_lo AND ag.x <= w.nx GROUP BY w.c, ag.x, w.nx`);
+  cte('tm_whist', 'members by cohort, age a and their next active age from a on (nx): counted first, then spread over the ages a',
+    `SELECT w.c, ag.x AS a, w.nx, SUM(w.n) AS n
+FROM (SELECT c, a_lo, nx, count(*) AS n FROM tm_wmembers GROUP BY c, a_lo, nx) w JOIN tm_ages ag ON ag.x >= w.a_lo AND ag.x <= w.nx
+GROUP BY w.c, ag.x, w.nx`);
   cte('tm_wgrid', 'every window (a, b) of observed ages of those cohorts',
     `SELECT wc.c, a1.x AS a, a2.x AS b FROM (SELECT DISTINCT c FROM tm_wmembers) wc CROSS JOIN tm_ages a1 CROSS JOIN tm_ages a2 CROSS JOIN tm_bounds bd
 WHERE a1.x <= a2.x AND a2.x <= bd.end_key - wc.c`);

@@ -61,6 +61,14 @@ describe('the DuckDB engine on hostile files: the memory engine\'s answer', () =
     expect(await sameAsMemory(file, rules, false, `pl"an'; --`)).toBe('equal');
   }, 60_000);
 
+  it('--by a per-person column (an email address a member) is refused as the memory engine refuses it, and runs when allowed', async () => {
+    const rows = Array.from({ length: 60 }, (_, i) => `m${i % 25},2026-03-${String(2 + (i % 20)).padStart(2, '0')}T10:00:00Z,booking,member${i % 25}@makerspace.invalid`);
+    const file = c.file('emails.csv', csv(rows, 'user_id,timestamp,event,email'));
+    expect(await sameAsMemory(file, weekly, false, 'email')).toBe('refused');
+    const allowed = { by: 'email', allowPerPersonColumn: true };
+    expect(comparable(await runDuckdb({ files: [file] }, weekly, allowed))).toEqual(comparable(await memoryWaist(file, weekly, allowed)));
+  }, 60_000);
+
   it('NDJSON with lines that are not objects, blank lines and numbers as ids and timestamps', async () => {
     const lines = [
       '{"user_id":"m1","timestamp":"2026-03-02T10:00:00Z","event":"booking","plan":"pro"}',
