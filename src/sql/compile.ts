@@ -25,7 +25,7 @@ import type { TableName } from '../waist/tables.js';
 import type { Dialect } from './dialects.js';
 import { gapModel, type GapModel } from './gaps.js';
 import type { Cte } from './query.js';
-import { BLANK, EPOCH, FAST_UTC, ISO, ISO_BASIC, ISO_GROUPS, JS_SPACE, LEADING_SPACE, TRAILING_SPACE } from './regex.js';
+import { BLANK, EPOCH, ISO, ISO_BASIC, ISO_GROUPS, JS_SPACE, LEADING_SPACE, TRAILING_SPACE } from './regex.js';
 
 /** Oldest observed age of a cohort whose window counts the waist holds (one more than the analyses use). */
 export const WINDOW_AGES = WINDOW_MAX_AGE + 1;
@@ -104,7 +104,18 @@ export function compile({ dialect: D, rules, source, range = {} }: CompileInput)
   const cols = (prefix = '') => pass.map((c) => `${prefix}${c}`).join(', ');
   const floorDiv = (a: string, b: number) => D.intDiv(`(${a}) - ${D.mod(`${D.mod(a, String(b))} + ${b}`, String(b))}`, String(b));
   // white space by code point: the common first characters (33…159) answer the first test
-  const isSpace = (c: string) => `(${c} <= 32 OR ${c} >= 160) AND ${c} IN (${JS_SPACE.join(', ')})`;
+  // (an OR of comparisons rather than IN: some planners turn a long IN list into a join)
+  const isSpace = (c: string) => {
+    const high = JS_SPACE.filter((x) => x >= 160);
+    const runs: string[] = [];
+    for (let i = 0; i < high.length; i++) {
+      let j = i;
+      while (j + 1 < high.length && high[j + 1] === high[j] + 1) j++;
+      runs.push(j > i ? `${c} BETWEEN ${high[i]} AND ${high[j]}` : `${c} = ${high[i]}`);
+      i = j;
+    }
+    return `(${c} BETWEEN 9 AND 13 OR ${c} = 32 OR (${c} >= 160 AND (${runs.join(' OR ')})))`;
+  };
   const startsWithSpace = (x: string) => `(${isSpace(D.firstCode(x))})`;
   const startsOrEndsWithSpace = (x: string) => `(${startsWithSpace(x)} OR ${startsWithSpace(`substr(${x}, length(${x}), 1)`)})`;
   const trimJs = (x: string) => `CASE WHEN ${startsOrEndsWithSpace(x)} THEN ${D.strip(D.strip(x, LEADING_SPACE), TRAILING_SPACE)} ELSE ${x} END`;
@@ -229,7 +240,7 @@ FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k
   lag(k) OVER (PARTITION BY user_id ORDER BY k) AS prev_k,
   lag(k, 2) OVER (PARTITION BY user_id ORDER BY k) AS prev2_k,
   lead(k) OVER (PARTITION BY user_id ORDER BY k) AS next_k,
-  min(k) OVER (PARTITION BY user_id) AS first_k
+  first_value(k) OVER (PARTITION BY user_id ORDER BY k) AS first_k
 FROM tm_active`);
   const stateAt = (k: string, prev: string) => `CASE WHEN ${prev} IS NULL THEN ${m.arrival} WHEN ${prev} = ${k} - 1 THEN ${m.continuing} ELSE ${m.returning} END`;
   const quietState = (j: string) => (L === 0 ? String(m.exit) : `CASE WHEN ${j} <= ${L} THEN ${m.lapse} ELSE ${m.exit} END`);
@@ -364,7 +375,7 @@ FROM (
 ) y WHERE r <= ${EVENT_NAMES_KEPT} ORDER BY n DESC, event`
       : `SELECT CAST(NULL AS ${D.text}) AS event, 0 AS n FROM tm_bounds WHERE 1 = 0`,
     lastPeriod: 'SELECT count(*) AS n, max(u.wall_ms) AS max_wall FROM tm_used u CROSS JOIN tm_bounds b WHERE u.k = b.end_key',
-    users: 'SELECT count(DISTINCT user_id) AS users FROM tm_active',
+    users: 'SELECT count(DISTINCT user_id) AS users FROM tm_life',
     attributes: attrCols.length
       ? `SELECT ${attrCols.map((c, i) => `count(DISTINCT CASE WHEN ${c} <> '' THEN ${c} END) AS values_${i}`).join(', ')} FROM tm_used`
       : 'SELECT 0 AS none FROM tm_bounds',

@@ -97,9 +97,6 @@ export const ISO_BASIC = pattern(
 /** The names of the ISO groups, in order. */
 export const ISO_GROUPS = ['y', 'mo', 'd', 'h', 'mi', 's', 'f', 'z', 'sg', 'oh', 'om'] as const;
 
-/** The commonest form, `YYYY-MM-DDTHH:MM:SS[.sss]Z`: the memory engine's fast path. */
-export const FAST_UTC = pattern('^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}(?:[.][0-9]{3})?Z$');
-
 /** Only white space (or nothing). */
 export const BLANK = pattern('^\\s*$');
 /** Leading and trailing white space. */

@@ -42,7 +42,10 @@ describe('the DuckDB engine on hostile files: the memory engine\'s answer', () =
     ['a row with a field too many, skipped and counted', csv([...ROWS, 'm1,2026-03-04T10:00:00Z,booking,pro,extra']), true],
     ['a row with a field too many, refused at its line', csv([...ROWS, 'm1,2026-03-04T10:00:00Z,booking,pro,extra']), false],
     ['bad timestamps of every kind, skipped and counted', csv([...ROWS, 'm1,2026-02-29T10:00:00Z,booking,pro', 'm1,1899-12-31T12:00:00Z,booking,pro', 'm1,2200-01-01T00:00:00Z,booking,pro',
-      'm1,99999999999999999999999,booking,pro', 'm1,2026-03-04T24:00:00Z,booking,pro', `m1,${'1'.repeat(45)},booking,pro`, 'm1,1e9,booking,pro', 'm1,,booking,pro']), true],
+      'm1,99999999999999999999999,booking,pro', 'm1,2026-03-04T24:00:00Z,booking,pro', `m1,${'1'.repeat(45)},booking,pro`, 'm1,1e9,booking,pro', 'm1,,booking,pro',
+      // shapes of the fast form that only look like it
+      'm1,-026-03-04T10:00:00Z,booking,pro', 'm1, 026-03-04T10:00:00Z,booking,pro', 'm1,2026-03-04T1 :00:00Z,booking,pro', 'm1,2026-03-04T10:00:00.1 2Z,booking,pro',
+      'm1,2026-03-04 10:00:00Z,booking,pro', 'm1,2026-03-04T10:60:00Z,booking,pro', 'm1,2026-03-04T10:00:00.000Z ,booking,pro']), true],
     ['edge timestamps that are read: a leap second, offsets across years, the last instant of 2199', csv([...ROWS, 'm1,2026-03-04T23:59:60Z,booking,pro', 'm2,1899-12-31T23:00:00-02:00,booking,pro',
       'm3,2199-12-31T23:59:59.999Z,booking,pro', 'm4,  2026-03-05T10:00:00Z\u3000,booking,pro', 'm5,20260305T1000+0130,booking,pro', 'm6,1772702400.75,booking,pro']), true],
     ['blank and white-space user ids, rejected', csv([...ROWS, ' ,2026-03-04T10:00:00Z,booking,pro', '\u3000\u00a0,2026-03-04T10:00:00Z,booking,pro']), true],
