@@ -25,7 +25,7 @@ import type { TableName } from '../waist/tables.js';
 import type { Dialect } from './dialects.js';
 import { gapModel, type GapModel } from './gaps.js';
 import type { Cte } from './query.js';
-import { BLANK, EPOCH, ISO, ISO_BASIC, ISO_GROUPS, JS_SPACE, LEADING_SPACE, TRAILING_SPACE } from './regex.js';
+import { BLANK, EPOCH, ISO, ISO_BASIC, JS_SPACE, LEADING_SPACE, TRAILING_SPACE } from './regex.js';
 
 /** Oldest observed age of a cohort whose window counts the waist holds (one more than the analyses use). */
 export const WINDOW_AGES = WINDOW_MAX_AGE + 1;
@@ -126,8 +126,6 @@ export function compile({ dialect: D, rules, source, range = {} }: CompileInput)
   cte('tm_src', 'the events, one row each, in canonical columns', source.select);
 
   // ---- timestamps → wall-clock ms in the rules' zone (src/ingest/timestamp.ts, step by step)
-  const iso = D.groups('t', ISO, 'iso_m');
-  const basic = D.groups('t', ISO_BASIC, 'basic_m');
   const fast = has.tsText && D.fastUtcMs ? D.fastUtcMs('ts_text') : undefined;
   cte('tm_fast', 'the commonest form, read natively where the dialect can (the memory engine has the same fast path)',
     `SELECT ${cols()}, ${has.tsText ? 'ts_text' : `CAST(NULL AS ${D.text}) AS ts_text`}, ${has.tsNum ? 'ts_num' : `CAST(NULL AS ${D.double}) AS ts_num`},
@@ -146,15 +144,41 @@ FROM tm_fast${D.fence}`);
   CASE WHEN t IS NOT NULL AND ${short} AND NOT ${D.matches('t', EPOCH)} THEN
     CASE WHEN ${D.matches('t', ISO)} THEN 1 WHEN ${D.matches('t', ISO_BASIC)} THEN 2 END END AS form
 FROM tm_text${D.fence}`);
-  const prepared = [iso.prepare && `CASE WHEN form = 1 THEN ${iso.prepare} END AS iso_m`, basic.prepare && `CASE WHEN form = 2 THEN ${basic.prepare} END AS basic_m`].filter(Boolean);
-  cte('tm_match', 'the regular-expression match of the ISO forms',
-    `SELECT ${cols()}, ts_instant, ts_local, fast_ms, t, ep, form${prepared.length ? `, ${prepared.join(', ')}` : ''}
+  // The fields of a text the ISO patterns accepted, by position: no regular-expression capture (slow
+  // in some engines), only substr. Extended: YYYY-MM-DD[(T|t| )HH:MM[:SS[(.|,)F]]][space][offset];
+  // basic: YYYYMMDD(T|t)HHMM[SS[(.|,)F]][offset]. An offset is at the end, its sign past the date.
+  const at = (i: string, n: number | string = 1) => `substr(t, ${i}, ${n})`;
+  const digit = (i: string) => `coalesce(${D.firstCode(at(i))}, 0) BETWEEN 48 AND 57`;
+  cte('tm_shape', 'where the parts of an ISO timestamp are: time, seconds, fraction, the offset\'s sign',
+    `SELECT ${cols()}, ts_instant, ts_local, fast_ms, t, ep, form,
+  CASE WHEN form = 1 AND ${digit('12')} THEN 1 WHEN form = 2 THEN 1 ELSE 0 END AS has_time,
+  CASE form WHEN 1 THEN 12 WHEN 2 THEN 10 END AS h_at,
+  CASE form WHEN 1 THEN 15 WHEN 2 THEN 12 END AS mi_at,
+  CASE WHEN form = 1 AND length(t) >= 19 AND ${digit('12')} AND ${at('17')} = ':' THEN 18
+       WHEN form = 2 AND ${digit('14')} THEN 14 END AS sec_at,
+  CASE WHEN form IS NULL THEN NULL
+       WHEN length(t) - 5 > 10 AND ${at('length(t) - 5')} IN ('+', '-') AND ${at('length(t) - 2')} = ':' THEN length(t) - 5
+       WHEN length(t) - 4 > 9 AND ${at('length(t) - 4')} IN ('+', '-') THEN length(t) - 4
+       WHEN length(t) - 2 > 9 AND ${at('length(t) - 2')} IN ('+', '-') THEN length(t) - 2 END AS sign_at
 FROM tm_form${D.fence}`);
-  const num = (g: string) => (g === 'z' || g === 'sg' || g === 'f' ? `CASE form WHEN 1 THEN ${iso.group(g)} WHEN 2 THEN ${basic.group(g)} END` : `CAST(CASE form WHEN 1 THEN ${iso.group(g)} WHEN 2 THEN ${basic.group(g)} END AS ${D.bigint})`);
-  cte('tm_parts', 'the fields of an ISO timestamp as numbers',
+  const fracLen = `CASE ${Array.from({ length: 8 }, (_, i) => `WHEN NOT (${digit(`sec_at + ${i + 4}`)}) THEN ${i + 1}`).join(' ')} ELSE 9 END`;
+  // digits as numbers by their code points: no cast, so nothing can fail on a row the patterns refused
+  const num = (i: string, n: number) => `CAST(${Array.from({ length: n }, (_, k) => `(coalesce(${D.firstCode(at(`${i} + ${k}`))}, 0) - 48) * ${10 ** (n - 1 - k)}`).join(' + ')} AS ${D.bigint})`;
+  const when = (cond: string, v: string) => `CASE WHEN ${cond} THEN ${v} END`;
+  cte('tm_parts', 'the fields of an ISO timestamp as numbers (text for the fraction, the Z and the sign)',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, ep, form,
-  ${ISO_GROUPS.map((g) => `${num(g)} AS ${g === 's' ? 'sec' : g}`).join(',\n  ')}
-FROM tm_match${D.fence}`);
+  ${when('form IS NOT NULL', num('1', 4))} AS y,
+  CASE form WHEN 1 THEN ${num('6', 2)} WHEN 2 THEN ${num('5', 2)} END AS mo,
+  CASE form WHEN 1 THEN ${num('9', 2)} WHEN 2 THEN ${num('7', 2)} END AS d,
+  ${when('has_time = 1', num('h_at', 2))} AS h,
+  ${when('has_time = 1', num('mi_at', 2))} AS mi,
+  ${when('sec_at IS NOT NULL', num('sec_at', 2))} AS sec,
+  ${when(`sec_at IS NOT NULL AND ${at('sec_at + 2')} IN ('.', ',')`, at('sec_at + 3', fracLen))} AS f,
+  ${when(`form IS NOT NULL AND ${at('length(t)')} IN ('Z', 'z')`, "'Z'")} AS z,
+  ${when('sign_at IS NOT NULL', at('sign_at'))} AS sg,
+  ${when('sign_at IS NOT NULL', num('sign_at + 1', 2))} AS oh,
+  ${when('sign_at IS NOT NULL AND sign_at < length(t) - 2', num('length(t) - 1', 2))} AS om
+FROM tm_shape${D.fence}`);
   const y1 = 'CASE WHEN mo <= 2 THEN y - 1 ELSE y END';
   const daysFromCivil = (yy: string, mm: string, dd: string) => {
     // H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", days_from_civil (years ≥ 0 here)

@@ -37,12 +37,6 @@ export interface Dialect {
   /** `s` with the first match of `p` removed (the callers' patterns are anchored: one match at most). */
   strip(s: string, p: Pattern): string;
   /**
-   * Expressions for named groups of `p` matched against `s` ('' or NULL when a group did not take
-   * part). `prepare` is a select-list expression computed once a row in an earlier CTE, under the
-   * alias given, when the dialect can match once and read every group (duckdb, postgres).
-   */
-  groups(s: string, p: Pattern, alias: string): { prepare?: string; group(name: string): string };
-  /**
    * Optional: the instant ms of text in the commonest form `YYYY-MM-DDTHH:MM:SS[.sss]Z`, read with
    * the engine's own timestamp parser, else NULL (the general path then reads it).
    */
@@ -94,13 +88,6 @@ const duckdb: Dialect = {
   firstCode: (s) => `unicode(${s})`,
   matches: (s, p) => `regexp_full_match(${s}, ${ansi(renderPattern(p, 'noncapturing').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing').source)}, '')`,
-  groups(s, p, alias) {
-    const r = renderPattern(p, 'noncapturing');
-    return {
-      prepare: `regexp_extract(${s}, ${ansi(r.source)}, [${r.names.map((n) => ansi(n)).join(', ')}])`,
-      group: (name) => `NULLIF(${alias}.${name}, '')`,
-    };
-  },
   // the shape by LIKE, the digits and the calendar by DuckDB's own timestamp cast (which takes the Z as
   // UTC and refuses a non-digit in every two-digit field; a year that is not four digits falls outside
   // 1900-2199 and is refused later, as the memory engine refuses it); hour 24 is not the fast form
@@ -134,13 +121,6 @@ const postgres: Dialect = {
   firstCode: (s) => `ascii(${s})`,
   matches: (s, p) => `(${s} ~ ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)}, '')`,
-  groups(s, p, alias) {
-    const r = renderPattern(p, 'noncapturing', 'postgres');
-    return {
-      prepare: `regexp_match(${s}, ${ansi(r.source)})`,
-      group: (name) => `NULLIF(${alias}[${r.names.indexOf(name) + 1}], '')`,
-    };
-  },
   wallOfInstant: (ms, zone) =>
     // timezone(zone, timestamptz) is AT TIME ZONE: the local date and time there
     isUtc(zone) ? ms : `CAST(EXTRACT(EPOCH FROM timezone(${ansi(zone)}, to_timestamp(0) + (${ms}) * INTERVAL '1 millisecond')) * 1000 AS BIGINT)`,
@@ -173,10 +153,6 @@ const spark: Dialect = {
   firstCode: (s) => `ascii(${s})`,
   matches: (s, p) => `(${s} RLIKE ${backslashed(renderPattern(p, 'noncapturing', 'java').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${backslashed(renderPattern(p, 'noncapturing', 'java').source)}, '')`,
-  groups(s, p) {
-    const r = renderPattern(p, 'noncapturing', 'java');
-    return { group: (name) => `NULLIF(regexp_extract(${s}, ${backslashed(r.source)}, ${r.names.indexOf(name) + 1}), '')` };
-  },
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `unix_millis(from_utc_timestamp(timestamp_millis(${ms}), ${backslashed(zone)}))`),
   msOfInstant: (ts) => `unix_millis(CAST(${ts} AS TIMESTAMP))`,
   // the local date and time read in the session's zone, then shifted back: the same in any session zone
@@ -207,10 +183,6 @@ const trino: Dialect = {
   firstCode: (s) => `codepoint(CAST(substr(${s}, 1, 1) AS VARCHAR(1)))`,
   matches: (s, p) => `regexp_like(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
-  groups(s, p) {
-    const r = renderPattern(p, 'noncapturing', 'java');
-    return { group: (name) => `NULLIF(regexp_extract(${s}, ${ansi(r.source)}, ${r.names.indexOf(name) + 1}), '')` };
-  },
   wallOfInstant: (ms, zone) =>
     isUtc(zone) ? ms : `date_diff('millisecond', TIMESTAMP '1970-01-01 00:00:00.000', CAST(at_timezone(from_unixtime_nanos(CAST(${ms} AS BIGINT) * 1000000), ${ansi(zone)}) AS TIMESTAMP(3)))`,
   msOfInstant: (ts) => `CAST(floor(to_unixtime(${ts}) * 1000) AS BIGINT)`,
@@ -239,10 +211,6 @@ const bigquery: Dialect = {
   firstCode: (s) => `UNICODE(${s})`,
   matches: (s, p) => `REGEXP_CONTAINS(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)})`,
   strip: (s, p) => `REGEXP_REPLACE(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)}, '')`,
-  groups(s, p) {
-    // BigQuery extracts at most one capturing group: each group gets its own pattern
-    return { group: (name) => `NULLIF(REGEXP_EXTRACT(${s}, ${backslashed(renderPattern(p, 'only', 're2', name).source)}), '')` };
-  },
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `UNIX_MILLIS(TIMESTAMP(DATETIME(TIMESTAMP_MILLIS(${ms}), ${backslashed(zone)})))`),
   msOfInstant: (ts) => `UNIX_MILLIS(${ts})`,
   msOfLocal: (ts) => `UNIX_MILLIS(TIMESTAMP(${ts}))`,
@@ -271,10 +239,6 @@ const snowflake: Dialect = {
   firstCode: (s) => `UNICODE(${s})`,
   matches: (s, p) => `REGEXP_LIKE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)})`,
   strip: (s, p) => `REGEXP_REPLACE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)}, '')`,
-  groups(s, p) {
-    const r = renderPattern(p, 'capturing', 'posix');
-    return { group: (name) => `NULLIF(REGEXP_SUBSTR(${s}, ${snowflake.str(r.source)}, 1, 1, 'e', ${r.names.indexOf(name) + 1}), '')` };
-  },
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `DATE_PART(EPOCH_MILLISECOND, CONVERT_TIMEZONE('UTC', ${snowflake.str(zone)}, TO_TIMESTAMP_NTZ(${ms}, 3)))`),
   msOfInstant: (ts) => `DATE_PART(EPOCH_MILLISECOND, CAST(${ts} AS TIMESTAMP_TZ))`,
   msOfLocal: (ts) => `DATE_PART(EPOCH_MILLISECOND, CAST(${ts} AS TIMESTAMP_NTZ))`,

@@ -94,9 +94,6 @@ export const ISO_BASIC = pattern(
   '^(?<y>[0-9]{4})(?<mo>[0-9]{2})(?<d>[0-9]{2})[Tt](?<h>[0-9]{2})(?<mi>[0-9]{2})(?:(?<s>[0-9]{2})(?:[.,](?<f>[0-9]{1,9}))?)?(?:(?<z>[Zz])|(?<sg>[+-])(?<oh>[0-9]{2})(?<om>[0-9]{2})?)?$',
 );
 
-/** The names of the ISO groups, in order. */
-export const ISO_GROUPS = ['y', 'mo', 'd', 'h', 'mi', 's', 'f', 'z', 'sg', 'oh', 'om'] as const;
-
 /** Only white space (or nothing). */
 export const BLANK = pattern('^\\s*$');
 /** Leading and trailing white space. */

@@ -72,10 +72,7 @@ function marked(D: Dialect): Dialect {
       if (typeof v === 'string') return `⟦${v}⟧`;
       if (typeof v !== 'function') return v;
       return (...args: unknown[]) => {
-        const out = (v as (...a: unknown[]) => unknown).apply(target, args);
-        if (typeof out === 'string') return `⟦${out}⟧`;
-        const g = out as { prepare?: string; group(n: string): string };
-        return { prepare: g.prepare === undefined ? undefined : `⟦${g.prepare}⟧`, group: (n: string) => `⟦${g.group(n)}⟧` };
+        return `⟦${(v as (...a: unknown[]) => string).apply(target, args)}⟧`;
       };
     },
   });
@@ -94,9 +91,8 @@ function skeleton(sql: string): string {
 }
 
 describe('each dialect is the DuckDB query but for its hooks', () => {
-  // tm_fast holds DuckDB's native fast path and tm_match the match computed once (DuckDB, PostgreSQL):
-  // optional steps, present or absent by dialect
-  const OPTIONAL = new Set(['tm_fast', 'tm_match']);
+  // tm_fast holds DuckDB's native fast path: present or absent by dialect
+  const OPTIONAL = new Set(['tm_fast']);
   for (const { name, rules } of RULES) {
     it(name, () => {
       const shapes = DIALECTS.map((d) => {

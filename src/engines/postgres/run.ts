@@ -89,6 +89,9 @@ export async function runPostgres(input: PostgresInput, rules: Rules, range: Ran
     }
   };
   try {
+    // the planner overestimates these queries (cross joins with one-row relations) and would spend
+    // seconds compiling each with LLVM for a run of milliseconds
+    await run('SET jit = off');
     const probe = await run(`SELECT * FROM ${relation} LIMIT 0`);
     const columns = probe.fields.map((f) => ({ name: f.name, kind: OID_KIND[f.dataTypeID] ?? ('text' as ColumnKind) }));
     const source = tableSource(D, relation, columns, rules, range.by, place);
