@@ -36,7 +36,7 @@ export interface DuckdbOptions {
   onStage?(stage: string, seconds: number): void;
 }
 
-/** The tables stored once per run; the rest are queries on them. */
+/** The tables stored once per run (and tm_attr with --by); the rest are queries on them. */
 const STORED = ['tm_ev', 'tm_life'] as const;
 
 /** Rows of a query as objects, BIGINT and HUGEINT as numbers. */
@@ -84,7 +84,7 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       t0 = t;
     };
     const stored = new Set<string>();
-    for (const name of STORED) {
+    for (const name of [...STORED, ...(prepared.source.has.by ? ['tm_attr'] : [])]) {
       await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
       stored.add(name);
       stage(name);

@@ -97,7 +97,7 @@ export async function runPostgres(input: PostgresInput, rules: Rules, range: Ran
     const source = tableSource(D, relation, columns, rules, range.by, place);
     const compiled = compile({ dialect: D, rules, source, range: { fromKey, toKey, warmup: range.warmup } });
     const stored = new Set<string>();
-    for (const name of STORED) {
+    for (const name of [...STORED, ...(source.has.by ? ['tm_attr'] : [])]) {
       await run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
       await run(`ANALYZE ${name}`);
       stored.add(name);
