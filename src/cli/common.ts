@@ -85,7 +85,11 @@ export function intOption(text: string, name: string, min: number): number {
   return v;
 }
 
-/** One line of row accounting, e.g. "rows: 1,204 read, 1,190 used, 10 not key events, 4 rejected (bad timestamp 4)". */
+/**
+ * One line of row accounting, e.g. "rows: 1,204 read, 1,190 used, 10 not key events, 4 rejected (bad
+ * timestamp 4)", with the physical lines when they differ from the rows ("; lines: 1,212 read = 1 header
+ * + 2 blank + 1,200 in rows + 9 in rejected rows").
+ */
 export function rowLine(r: RowAccount): string {
   const f = (n: number) => n.toLocaleString('en-US');
   const rejected = Object.entries(r.rejected);
@@ -94,7 +98,12 @@ export function rowLine(r: RowAccount): string {
   if (r.notKeyEvent) parts.push(`${f(r.notKeyEvent)} not key events`);
   if (r.afterRange) parts.push(`${f(r.afterRange)} after --to`);
   if (nRej) parts.push(`${f(nRej)} rejected (${rejected.map(([k, n]) => `${k} ${f(n ?? 0)}`).join(', ')})`);
-  return `rows: ${parts.join(', ')}`;
+  const l = r.lines;
+  // lines are shown when they tell more than the rows: blank lines, records over several lines, stray quotes
+  const lines = l && l.read !== l.header + r.read
+    ? `; lines: ${f(l.read)} read = ${[l.header && `${f(l.header)} header`, l.blank && `${f(l.blank)} blank`, `${f(l.records)} in rows`, l.rejected && `${f(l.rejected)} in rejected rows`].filter(Boolean).join(' + ')}`
+    : '';
+  return `rows: ${parts.join(', ')}${lines}`;
 }
 
 export function note(io: Io, o: { quiet?: boolean }, text: string): void {
