@@ -37,7 +37,7 @@ function kind(v: unknown): string {
 }
 
 /** The user id of a parsed line, or why the value is no id. */
-export function userIdOf(v: unknown, raw: () => string | undefined): { id: string } | { problem: string; shown: string } {
+export function userIdOf(v: unknown, raw: () => string | undefined): { id: string } | { problem: string; shown?: string } {
   if (typeof v === 'string') return { id: v };
   if (v === undefined || v === null) return { id: '' };
   if (typeof v === 'number') {
@@ -50,7 +50,7 @@ export function userIdOf(v: unknown, raw: () => string | undefined): { id: strin
     }
     return { id: token };
   }
-  return { shown: kind(v), problem: `${kind(v)} is not an id: an id is a string, or a whole number written plainly` };
+  return { problem: `${kind(v)} is not an id: an id is a string, or a whole number written plainly` };
 }
 
 export async function readNdjson(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, limits: ScanLimits = DEFAULT_LIMITS): Promise<void> {
