@@ -1,7 +1,7 @@
 /** Options shared by the commands that read events. */
 import { fileURLToPath } from 'node:url';
 import { Command, Option } from 'commander';
-import { TidemarkError, suggestion } from '../errors.js';
+import { TidemarkError, showValue, suggestion } from '../errors.js';
 import type { EventSource, RangeOptions } from '../engines/types.js';
 import type { RowAccount } from '../ingest/eventLog.js';
 import { loadRulesFile } from '../rules/load.js';
@@ -69,8 +69,8 @@ export function resolveRules(o: CommonOptions): Rules {
 export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter'>): EventSource {
   if (!o.events || o.events.length === 0) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
   const delimiter = o.delimiter === '\\t' || o.delimiter === 'tab' ? '\t' : o.delimiter;
-  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter === '"' || delimiter === '\n')) {
-    throw new TidemarkError('USAGE', `--delimiter must be one character other than a quote or newline, not '${o.delimiter}'`, { key: '--delimiter' });
+  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter.charCodeAt(0) > 127 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
+    throw new TidemarkError('USAGE', `--delimiter must be one ASCII character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' });
   }
   return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter };
 }

@@ -3,8 +3,26 @@
  * /dev/stdin alike (no seeking, no second pass). Open and read failures become one clear
  * TidemarkError naming the file.
  */
+import { read } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
 import { TidemarkError } from '../errors.js';
+
+/** Paths of the standard input. When it is a socket (as a parent Node process makes it), opening them fails with ENXIO and file descriptor 0 is read instead. */
+const STDIN_PATHS = new Set(['/dev/stdin', '/dev/fd/0', '/proc/self/fd/0']);
+
+interface Source {
+  read(buf: Buffer, offset: number, length: number): Promise<number>;
+  close(): Promise<void>;
+}
+
+function fileSource(fh: FileHandle): Source {
+  return { read: async (buf, offset, length) => (await fh.read(buf, offset, length, null)).bytesRead, close: () => fh.close() };
+}
+
+const stdinSource: Source = {
+  read: (buf, offset, length) => new Promise((resolve, reject) => read(0, buf, offset, length, null, (err, n) => (err ? reject(err) : resolve(n)))),
+  close: async () => undefined,
+};
 
 /** The error for a failed open or read of an events file: missing, a directory, unreadable. */
 export function fileError(err: unknown, file: string): TidemarkError {
@@ -35,7 +53,7 @@ export class ChunkReader {
   base = 0;
   eof = false;
 
-  private constructor(private readonly fh: FileHandle, readonly file: string, size: number) {
+  private constructor(private readonly src: Source, readonly file: string, size: number) {
     this.buf = Buffer.allocUnsafe(Math.max(16, size));
   }
 
@@ -44,6 +62,7 @@ export class ChunkReader {
     try {
       fh = await open(file, 'r');
     } catch (err) {
+      if ((err as { code?: string })?.code === 'ENXIO' && STDIN_PATHS.has(file)) return new ChunkReader(stdinSource, file, size);
       throw fileError(err, file);
     }
     try {
@@ -52,7 +71,7 @@ export class ChunkReader {
       await fh.close();
       throw fileError(err, file);
     }
-    return new ChunkReader(fh, file, size);
+    return new ChunkReader(fileSource(fh), file, size);
   }
 
   /**
@@ -73,7 +92,7 @@ export class ChunkReader {
     while (!this.eof && this.end < this.buf.length) {
       let n: number;
       try {
-        n = (await this.fh.read(this.buf, this.end, this.buf.length - this.end, null)).bytesRead;
+        n = await this.src.read(this.buf, this.end, this.buf.length - this.end);
       } catch (err) {
         throw fileError(err, this.file);
       }
@@ -84,6 +103,6 @@ export class ChunkReader {
   }
 
   async close(): Promise<void> {
-    await this.fh.close();
+    await this.src.close();
   }
 }
