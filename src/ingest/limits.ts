@@ -12,8 +12,8 @@ export const MAX_QUOTED_LINES = 64;
 /** Most columns in a CSV header, or attribute keys in an NDJSON sample (each costs 4 bytes an event). */
 export const MAX_COLUMNS = 1000;
 
-/** Bytes read at a time (the buffer grows only while a record longer than the rest of it is read). */
-export const READ_CHUNK = 4 << 20;
+/** Bytes read at a time (1 MiB; the buffer doubles while an unfinished record fills more than half of it). */
+export const READ_CHUNK = 1 << 20;
 
 /** Bounds as one value, so tests can lower them to exercise the limits on small inputs. */
 export interface ScanLimits {

@@ -75,16 +75,17 @@ export class ChunkReader {
   }
 
   /**
-   * Move `buf[from, end)` to the front and read until the buffer is full or the input ends (a pipe
-   * returns little at a time; filling the buffer keeps the scan linear). The buffer doubles when the
-   * kept bytes fill it: callers bound what they keep. Returns the number of bytes kept.
+   * Move `buf[from, end)` to the front and read until the buffer is full or the input ends. The buffer
+   * doubles when the kept bytes fill more than half of it, so every refill reads at least as many new
+   * bytes as it keeps, and a caller that scans the kept bytes again does linear work in all (a pipe
+   * returns little at a time, hence the filling). Callers bound what they keep. Returns the bytes kept.
    */
   async refill(from: number): Promise<number> {
     const kept = this.end - from;
     if (kept > 0 && from > 0) this.buf.copyWithin(0, from, this.end);
     this.base += from;
     this.end = kept;
-    if (kept === this.buf.length) {
+    if (kept > this.buf.length / 2) {
       const bigger = Buffer.allocUnsafe(this.buf.length * 2);
       this.buf.copy(bigger, 0, 0, kept);
       this.buf = bigger;
