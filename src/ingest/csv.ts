@@ -80,6 +80,9 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
           throw new TidemarkError('EVENTS_FORMAT', `the header has ${scanner.nFields.toLocaleString('en-US')} columns, more than the ${MAX_COLUMNS.toLocaleString('en-US')} tidemark keeps`, { file, line },
             'Keep the user, timestamp and event columns and the attributes you need');
         }
+        if (scanner.nFields === 1 && scanner.starts[0] === scanner.ends[0]) {
+          throw new TidemarkError('EVENTS_FORMAT', 'the first line is blank: it must be the header', { file, line }, `Start the file with a header such as ${columns.user},${columns.timestamp},${columns.event}`);
+        }
         const loneCr = r.buf.subarray(scanner.recStart, scanner.recEnd).indexOf(13);
         if (loneCr >= 0 && scanner.recStart + loneCr + 1 < scanner.recEnd) {
           throw new TidemarkError('EVENTS_FORMAT', 'the header holds a carriage return inside the line: the file seems to use CR alone as its line end', { file, line },
@@ -105,7 +108,9 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
       } else {
         const pp = plan.attributePositions;
         for (let a = 0; a < pp.length; a++) attrs[a] = field(pp[a]);
-        builder.add(file, line, field(plan.user), field(plan.timestamp), plan.event >= 0 ? field(plan.event) : undefined, attrs, lines);
+        const u = plan.user;
+        const known = scanner.flags[u] & ESCAPED ? -1 : builder.knownUser(r.buf, scanner.starts[u], scanner.ends[u]);
+        builder.add(file, line, known >= 0 ? known : field(u), field(plan.timestamp), plan.event >= 0 ? field(plan.event) : undefined, attrs, lines);
       }
       line += lines;
       pos = scanner.next;

@@ -11,6 +11,7 @@ import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
 import { parseTimestamp } from './timestamp.js';
 import { Dictionary, GrowableFloat64, GrowableInt32, ownCopy } from './growable.js';
+import { IdDictionary } from './idDictionary.js';
 
 /** Why a row was rejected. */
 export type RejectReason =
@@ -96,7 +97,7 @@ export class EventLogBuilder {
   private readonly user = new GrowableInt32();
   private readonly period = new GrowableInt32();
   private readonly wall = new GrowableFloat64();
-  private readonly users = new Dictionary();
+  private readonly users = new IdDictionary();
   private attrNames: string[] = [];
   private attrCodes: GrowableInt32[] = [];
   private attrDicts: Dictionary[] = [];
@@ -150,12 +151,21 @@ export class EventLogBuilder {
   }
 
   /**
-   * Add one row spanning `lines` physical lines; `attrs` holds the values of the attribute columns
-   * named in {@link startFile}, in that order (the array may be reused by the caller).
+   * The code of a user id already seen, found from its UTF-8 bytes `b[s, e)` with no string made, or
+   * -1. A reader passes the code to {@link add} in place of the id.
    */
-  add(file: string, line: LineRef, userId: string, ts: string, event: string | undefined, attrs: readonly string[], lines = 1): void {
+  knownUser(b: Uint8Array, s: number, e: number): number {
+    return this.users.find(b, s, e);
+  }
+
+  /**
+   * Add one row spanning `lines` physical lines. `userId` is the id, or the code {@link knownUser}
+   * gave for it; `attrs` holds the values of the attribute columns named in {@link startFile}, in that
+   * order (the array may be reused by the caller).
+   */
+  add(file: string, line: LineRef, userId: string | number, ts: string, event: string | undefined, attrs: readonly string[], lines = 1): void {
     const cols = this.opts.rules.columns;
-    if (userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId, undefined, lines);
+    if (typeof userId === 'string' && userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId, undefined, lines);
     const wall = parseTimestamp(ts, this.clock);
     if (wall === undefined) {
       return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows', lines);
@@ -182,7 +192,7 @@ export class EventLogBuilder {
       return;
     }
     this.rows.used++;
-    this.user.push(this.users.code(userId));
+    this.user.push(typeof userId === 'number' ? userId : this.users.code(userId));
     this.period.push(key);
     this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {

@@ -7,7 +7,8 @@
  * Ids: a string is an id as written. A number is an id only when it is a safe integer written as a
  * plain integer token (`123`, not `123.0`, `1e3` or `-0`, and at most 2^53 − 1 in size): JSON.parse
  * turns numbers into doubles, so beyond that two ids could become one. Objects, arrays and booleans
- * are not ids; null counts as a missing id.
+ * are not ids; null counts as a missing id; a string with a lone surrogate (`"\ud800"`) is no text and
+ * is refused.
  */
 import { TidemarkError } from '../errors.js';
 import type { EventLogBuilder } from './eventLog.js';
@@ -18,6 +19,7 @@ import { byteOrderMark, firstInvalidUtf8, inspectChunk, invalidUtf8Hint, type Ch
 
 const SAMPLE = 1000;
 const PLAIN_INTEGER = /^(?:0|-?[1-9][0-9]*)$/;
+const LONE_SURROGATE = /[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/;
 
 type Obj = Record<string, unknown>;
 
@@ -38,7 +40,11 @@ function kind(v: unknown): string {
 
 /** The user id of a parsed line, or why the value is no id. */
 export function userIdOf(v: unknown, raw: () => string | undefined): { id: string } | { problem: string; shown?: string } {
-  if (typeof v === 'string') return { id: v };
+  if (typeof v === 'string') {
+    // "\ud800" and "\ud801" are two JSON strings but no text: as UTF-8 both would be U+FFFD, one id
+    if (LONE_SURROGATE.test(v)) return { shown: JSON.stringify(v), problem: 'the id holds a lone UTF-16 surrogate (a broken \\u escape), which is not text and could merge with another id: fix the export' };
+    return { id: v };
+  }
   if (v === undefined || v === null) return { id: '' };
   if (typeof v === 'number') {
     const token = raw() ?? String(v);

@@ -128,6 +128,7 @@ describe('NDJSON ids', () => {
     ['1e400', /not written as a plain whole number/],
     ['{"a":1}', /An object is not an id/],
     ['[1,2]', /An array is not an id/],
+    ['"\\udbff"', /bad user id: '"\\udbff"'\. The id holds a lone UTF-16 surrogate/],
   ])('%s is refused with the reason', async (id, why) => {
     const f = c.file('ids.ndjson', `${nd('"m1"')}\n${nd(id)}\n`);
     const line = expectRefusal(await flows('--events', f), 1);
@@ -162,9 +163,12 @@ describe('paths', () => {
     expect(expectRefusal(await flows('--events', f), 1)).toMatch(/permission denied/);
   });
 
-  it('an empty file, and a file with only a byte order mark', async () => {
+  it('an empty file, a file with only a byte order mark, a blank first line, a header alone', async () => {
     expect(expectRefusal(await flows('--events', c.file('empty.csv', '')), 1)).toMatch(/the file is empty/);
     expect(expectRefusal(await flows('--events', c.file('bom.csv', '\uFEFF')), 1)).toMatch(/the file is empty/);
+    expect(expectRefusal(await flows('--events', c.file('blank.csv', csv('', HEAD, row('m1', 0)))), 1)).toMatch(/blank\.csv:1: the first line is blank: it must be the header/);
+    expect(expectRefusal(await flows('--events', c.file('head.csv', csv(HEAD))), 1)).toMatch(/nothing to analyse: it holds no event rows/);
+    expect(expectRefusal(await flows('--events', c.file('empty.ndjson', '\n\n')), 1)).toMatch(/nothing to analyse: it holds no event rows/);
   });
 
   it('a FIFO is read once and works (mkfifo)', async () => {

@@ -48,6 +48,7 @@ describe('ids', () => {
     ['{"id":1}', /bad user id\. An object is not an id/],
     ['[1]', /bad user id\. An array is not an id/],
     ['true', /bad user id\. A boolean \(true\) is not an id/],
+    ['"\\ud800"', /lone UTF-16 surrogate/], // "\ud800" and "\udbff" would both be U+FFFD as UTF-8
   ])('%s is refused with the reason', async (id, why) => {
     const f = t.file('a.ndjson', `${line('"m1"')}\n${line(id)}\n`);
     const err = await expectTidemarkError(() => read(f), 'EVENTS_BAD_ROW');
