@@ -50,12 +50,8 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
       const v = f & NON_ASCII ? (r.buf as SliceBuffer).utf8Slice(s, e) : chunk.text.slice(s, e);
       return f & ESCAPED ? v.replaceAll('""', '"') : v;
     };
-    /** Offset of the first invalid UTF-8 byte of the record (file offset), or -1. */
-    const badUtf8 = (s: number, e: number): number => {
-      if (!chunk.dirty) return -1;
-      const at = firstInvalidUtf8(r.buf, s, e);
-      return at < 0 ? -1 : at;
-    };
+    /** Buffer offset of the first byte of `buf[s, e)` that is not UTF-8, or -1 (checked only in a refill that has one). */
+    const badUtf8 = (s: number, e: number): number => (chunk.dirty ? firstInvalidUtf8(r.buf, s, e) : -1);
 
     for (;;) {
       const st = scanner.scan(r.buf, pos, r.end, r.eof);
