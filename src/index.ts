@@ -18,7 +18,7 @@ export { rulesSchema, rulesJsonSchema, type Rules, type RulesInput, type Grain, 
 
 // Input and periods
 export { readEvents, type EventFormat, type ReadEventsOptions } from './ingest/read.js';
-export type { EventLog, RowAccount } from './ingest/eventLog.js';
+export type { EventLog, LineAccount, RejectReason, RowAccount } from './ingest/eventLog.js';
 export { periodKeyOfDay, periodLabel, periodStartDay, type PeriodScheme } from './periods/calendar.js';
 
 // Lifecycle

@@ -74,8 +74,8 @@ export function resolveRules(o: CommonOptions): Rules {
 export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter'>): EventSource {
   if (!o.events || o.events.length === 0) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
   const delimiter = o.delimiter === '\\t' || o.delimiter === 'tab' ? '\t' : o.delimiter;
-  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
-    throw new TidemarkError('USAGE', `must be one character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' }, "For example --delimiter ';' or --delimiter '\\t'");
+  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter.charCodeAt(0) > 127 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
+    throw new TidemarkError('USAGE', `must be one ASCII character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' }, "For example --delimiter ';' or --delimiter '\\t'");
   }
   return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter };
 }
@@ -188,7 +188,11 @@ export function addPartialOption(cmd: Command): Command {
   return cmd.option('--include-partial', 'keep an incomplete last period (left out by default: its users have not had the whole period to be active)');
 }
 
-/** One line of row accounting, e.g. "rows: 1,204 read, 1,190 used, 10 not key events, 4 rejected (bad timestamp 4)". */
+/**
+ * One line of row accounting, e.g. "rows: 1,204 read, 1,190 used, 10 not key events, 4 rejected (bad
+ * timestamp 4)", with the physical lines when they differ from the rows ("; lines: 1,212 read = 1 header
+ * + 2 blank + 1,200 in rows + 9 in rejected rows").
+ */
 export function rowLine(r: RowAccount): string {
   const f = (n: number) => n.toLocaleString('en-US');
   const rejected = Object.entries(r.rejected);
@@ -198,7 +202,12 @@ export function rowLine(r: RowAccount): string {
   if (r.afterRange) parts.push(`${f(r.afterRange)} after --to`);
   if (r.partial) parts.push(`${f(r.partial)} in the incomplete last period`);
   if (nRej) parts.push(`${f(nRej)} rejected (${rejected.map(([k, n]) => `${k} ${f(n ?? 0)}`).join(', ')})`);
-  return `rows: ${parts.join(', ')}`;
+  const l = r.lines;
+  // lines are shown when they tell more than the rows: blank lines, records over several lines, stray quotes
+  const lines = l && l.read !== l.header + r.read
+    ? `; lines: ${f(l.read)} read = ${[l.header && `${f(l.header)} header`, l.blank && `${f(l.blank)} blank`, `${f(l.records)} in rows`, l.rejected && `${f(l.rejected)} in rejected rows`].filter(Boolean).join(' + ')}`
+    : '';
+  return `rows: ${parts.join(', ')}${lines}`;
 }
 
 export function note(io: Io, o: { quiet?: boolean }, text: string): void {

@@ -10,17 +10,37 @@ import { periodKeyOfDay, type PeriodScheme } from '../periods/calendar.js';
 import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
 import { parseTimestamp } from './timestamp.js';
-import { Dictionary, GrowableFloat64, GrowableInt32 } from './growable.js';
+import { Dictionary, GrowableFloat64, GrowableInt32, ownCopy } from './growable.js';
+import { IdDictionary } from './idDictionary.js';
 import { Extremes } from './extremes.js';
 
 /** Why a row was rejected. */
 export type RejectReason =
   | 'missing user id'
+  | 'bad user id'
   | 'bad timestamp'
   | 'missing event name'
   | 'wrong number of fields'
   | 'not valid JSON'
-  | 'unclosed quote';
+  | 'unclosed quote'
+  | 'stray quote'
+  | 'invalid UTF-8';
+
+/**
+ * Where every physical line of the input went (a line ends with LF or CRLF; a last line without one
+ * counts). read = header + blank + records + rejected, always: a record with a quoted line break
+ * spans several lines, and the lines a stray quote swallowed are counted where they went.
+ */
+export interface LineAccount {
+  read: number;
+  /** Header lines (CSV: one a file, more when a header name holds a line break). */
+  header: number;
+  blank: number;
+  /** Lines of records that were read as rows and not rejected (used, not key events, after --to…). */
+  records: number;
+  /** Lines of rejected records. */
+  rejected: number;
+}
 
 /** Where every input row went. read = used + notKeyEvent + afterRange + partial + Σ rejected. */
 export interface RowAccount {
@@ -31,8 +51,7 @@ export interface RowAccount {
   /** Rows of an incomplete last period that the engine left out (RangeOptions.partial 'drop'). */
   partial: number;
   rejected: Partial<Record<RejectReason, number>>;
-  /** Blank lines, not counted as rows. */
-  blankLines: number;
+  lines: LineAccount;
 }
 
 export interface AttributeColumn {
@@ -64,8 +83,8 @@ export interface EventLog {
 }
 
 /**
- * Where a row came from: a number that the current file's line resolver turns into a 1-based line
- * (the line itself for NDJSON; a character offset for CSV, resolved only when a message needs it).
+ * Where a row came from: a number that the current file's line resolver turns into a 1-based line.
+ * Both readers pass the physical line the record starts on, so the resolver is the identity.
  */
 export type LineRef = number;
 
@@ -79,11 +98,11 @@ export interface BuilderOptions {
 
 /** Accumulates rows into an {@link EventLog}. */
 export class EventLogBuilder {
-  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, blankLines: 0 };
+  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, lines: { read: 0, header: 0, blank: 0, records: 0, rejected: 0 } };
   private readonly user = new GrowableInt32();
   private readonly period = new GrowableInt32();
   private readonly wall = new GrowableFloat64();
-  private readonly users = new Dictionary();
+  private readonly users = new IdDictionary();
   private attrNames: string[] = [];
   private attrCodes: GrowableInt32[] = [];
   private attrDicts: Dictionary[] = [];
@@ -91,7 +110,7 @@ export class EventLogBuilder {
   private readonly keyEvents: Set<string> | undefined;
   private readonly scheme: PeriodScheme;
   private readonly files: string[] = [];
-  private readonly eventNames = new Map<string, number>();
+  private readonly eventNames = new Map<string, { n: number }>();
   private readonly extremes = new Extremes();
 
   constructor(private readonly opts: BuilderOptions) {
@@ -125,9 +144,10 @@ export class EventLogBuilder {
     this.slots = this.attrNames.map((n) => names.indexOf(n));
   }
 
-  /** Record a bad row: throw by default, count when skipping. */
-  reject(reason: RejectReason, file: string, line: LineRef, column: string | undefined, value: string | undefined, hint?: string): void {
+  /** Record a bad row spanning `lines` physical lines: throw by default, count when skipping. */
+  reject(reason: RejectReason, file: string, line: LineRef, column: string | undefined, value: string | undefined, hint?: string, lines = 1): void {
     this.rows.read++;
+    this.rows.lines.rejected += lines;
     if (!this.opts.skipBadRows) {
       const shown = value === undefined ? '' : `: '${showValue(value)}'`;
       throw new TidemarkError('EVENTS_BAD_ROW', `${reason}${shown}`, { file, line: this.lineOf(line), column },
@@ -136,32 +156,50 @@ export class EventLogBuilder {
     this.rows.rejected[reason] = (this.rows.rejected[reason] ?? 0) + 1;
   }
 
-  /** Add one row; `attrs` holds the values of the attribute columns named in {@link startFile}, in that order. */
-  add(file: string, line: LineRef, userId: string, ts: string, event: string | undefined, attrs: readonly string[]): void {
+  /**
+   * The code of a user id already seen, found from its UTF-8 bytes `b[s, e)` with no string made, or
+   * -1. A reader passes the code to {@link add} in place of the id.
+   */
+  knownUser(b: Uint8Array, s: number, e: number): number {
+    return this.users.find(b, s, e);
+  }
+
+  /**
+   * Add one row spanning `lines` physical lines. `userId` is the id, or the code {@link knownUser}
+   * gave for it; `attrs` holds the values of the attribute columns named in {@link startFile}, in that
+   * order (the array may be reused by the caller).
+   */
+  add(file: string, line: LineRef, userId: string | number, ts: string, event: string | undefined, attrs: readonly string[], lines = 1): void {
     const cols = this.opts.rules.columns;
-    if (userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId);
+    if (typeof userId === 'string' && userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId, undefined, lines);
     const wall = parseTimestamp(ts, this.clock);
     if (wall === undefined) {
-      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows');
+      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows', lines);
     }
-    if (event !== undefined) this.eventNames.set(event, (this.eventNames.get(event) ?? 0) + 1);
+    if (event !== undefined) {
+      const seen = this.eventNames.get(event);
+      if (seen) seen.n++;
+      else this.eventNames.set(ownCopy(event), { n: 1 });
+    }
     if (this.keyEvents) {
-      if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '');
+      if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '', undefined, lines);
       if (!this.keyEvents.has(event)) {
         this.rows.read++;
+        this.rows.lines.records += lines;
         this.rows.notKeyEvent++;
         return;
       }
     }
     const key = periodKeyOfDay(Math.floor(wall / 86_400_000), this.scheme);
     this.rows.read++;
+    this.rows.lines.records += lines;
     if (this.opts.toKey !== undefined && key > this.opts.toKey) {
       this.rows.afterRange++;
       return;
     }
     this.rows.used++;
     this.extremes.add(wall, ts, file, line, this.lineOf);
-    this.user.push(this.users.code(userId));
+    this.user.push(typeof userId === 'number' ? userId : this.users.code(userId));
     this.period.push(key);
     this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {
@@ -170,8 +208,19 @@ export class EventLogBuilder {
     }
   }
 
+  /** A blank line (not a row). */
   blank(): void {
-    this.rows.blankLines++;
+    this.rows.lines.blank++;
+  }
+
+  /** The current file's header took `lines` physical lines. */
+  header(lines: number): void {
+    this.rows.lines.header += lines;
+  }
+
+  /** The current file ended after `lines` physical lines. */
+  endFile(lines: number): void {
+    this.rows.lines.read += lines;
   }
 
   build(): EventLog {
@@ -185,7 +234,7 @@ export class EventLogBuilder {
       rows: this.rows,
       scheme: this.scheme,
       files: this.files,
-      eventNames: this.eventNames,
+      eventNames: new Map([...this.eventNames].map(([name, c]) => [name, c.n])),
       extremes: this.extremes,
     };
   }

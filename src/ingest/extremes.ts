@@ -6,6 +6,7 @@
  * the data ({@link rangeOutliers}), and which rows to name when a range is too large to classify.
  */
 import type { LineRef } from './eventLog.js';
+import { ownCopy } from './growable.js';
 
 /** Rows kept at each end: one more than the largest handful, so that the bulk's edge is known. */
 export const EXTREMES_KEPT = 6;
@@ -34,7 +35,8 @@ export class Extremes {
     const isLow = low.length < EXTREMES_KEPT || wallMs < low[low.length - 1].wallMs;
     const isHigh = high.length < EXTREMES_KEPT || wallMs > high[high.length - 1].wallMs;
     if (!isLow && !isHigh) return;
-    const row: ExtremeRow = { wallMs, text, file, ref, lineOf };
+    // a copy: the reader's field text may be a view that keeps its whole read buffer alive
+    const row: ExtremeRow = { wallMs, text: ownCopy(text), file, ref, lineOf };
     if (isLow) insert(low, row, (a, b) => a.wallMs < b.wallMs);
     if (isHigh) insert(high, row, (a, b) => a.wallMs > b.wallMs);
   }

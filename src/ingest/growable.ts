@@ -33,6 +33,17 @@ export class GrowableFloat64 extends Growable<Float64Array> {
   }
 }
 
+/**
+ * A copy of a string that holds no reference to a larger one. The readers slice fields out of a
+ * whole decoded chunk; V8 keeps a slice of 13 or more characters as a view on its parent, so a
+ * dictionary keeping such a slice would keep the whole chunk (megabytes) alive. Concatenation
+ * followed by a slice makes V8 flatten into a fresh string; measured: 60 kept 20-character slices of
+ * 4 MiB chunks held 257 MB without it, 6 MB with it.
+ */
+export function ownCopy(s: string): string {
+  return s.length < 13 ? s : `${s} `.slice(0, -1);
+}
+
 /** A string dictionary: each distinct string gets the next integer code. */
 export class Dictionary {
   readonly values: string[] = [];
@@ -40,9 +51,10 @@ export class Dictionary {
   code(s: string): number {
     let c = this.codes.get(s);
     if (c === undefined) {
+      const own = ownCopy(s);
       c = this.values.length;
-      this.values.push(s);
-      this.codes.set(s, c);
+      this.values.push(own);
+      this.codes.set(own, c);
     }
     return c;
   }

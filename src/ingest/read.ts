@@ -1,12 +1,13 @@
 /**
  * Read event files into an {@link EventLog}. The format follows the extension (.csv, .ndjson/.jsonl)
- * unless given.
+ * unless given. Each file is read once, front to back (FIFOs and /dev/stdin work).
  */
 import { extname } from 'node:path';
 import { TidemarkError } from '../errors.js';
 import type { Rules } from '../rules/schema.js';
 import { readCsv } from './csv.js';
 import { EventLogBuilder, type EventLog } from './eventLog.js';
+import { DEFAULT_LIMITS, type ScanLimits } from './limits.js';
 import { readNdjson } from './ndjson.js';
 
 export type EventFormat = 'csv' | 'ndjson';
@@ -19,6 +20,8 @@ export interface ReadEventsOptions {
   toKey?: number;
   /** CSV field delimiter (default ','). */
   delimiter?: string;
+  /** The readers' bounds (default: limits.ts); lowered by tests to reach them with small inputs. */
+  limits?: Partial<ScanLimits>;
 }
 
 export function formatOf(file: string, format?: EventFormat): EventFormat {
@@ -33,10 +36,11 @@ export function formatOf(file: string, format?: EventFormat): EventFormat {
 export async function readEvents(files: string[], opts: ReadEventsOptions): Promise<EventLog> {
   const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey });
   const needEvent = opts.rules.activity.keyEvents !== undefined;
+  const limits: ScanLimits = { ...DEFAULT_LIMITS, ...opts.limits };
   for (const file of files) {
     const fmt = formatOf(file, opts.format);
-    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',');
-    else await readNdjson(file, builder, opts.rules.columns);
+    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits);
+    else await readNdjson(file, builder, opts.rules.columns, limits);
   }
   const log = builder.build();
   if (log.size === 0) {

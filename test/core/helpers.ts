@@ -15,7 +15,7 @@ import { TidemarkError, type ErrorCode } from '../../src/errors.js';
 import type { RefEvent, RefRules } from './reference.js';
 
 /** A fresh temp folder; `done()` removes it. */
-export function tempDir(): { dir: string; file(name: string, text: string): string; done(): void } {
+export function tempDir(): { dir: string; file(name: string, text: string | Uint8Array): string; done(): void } {
   const dir = mkdtempSync(join(tmpdir(), 'tidemark-'));
   return {
     dir,

@@ -1,0 +1,109 @@
+/**
+ * Reading an event file once, in chunks, into one reusable buffer. Works for regular files, FIFOs and
+ * /dev/stdin alike (no seeking, no second pass). Open and read failures become one clear
+ * TidemarkError naming the file.
+ */
+import { read } from 'node:fs';
+import { open, type FileHandle } from 'node:fs/promises';
+import { TidemarkError } from '../errors.js';
+
+/** Paths of the standard input. When it is a socket (as a parent Node process makes it), opening them fails with ENXIO and file descriptor 0 is read instead. */
+const STDIN_PATHS = new Set(['/dev/stdin', '/dev/fd/0', '/proc/self/fd/0']);
+
+interface Source {
+  read(buf: Buffer, offset: number, length: number): Promise<number>;
+  close(): Promise<void>;
+}
+
+function fileSource(fh: FileHandle): Source {
+  return { read: async (buf, offset, length) => (await fh.read(buf, offset, length, null)).bytesRead, close: () => fh.close() };
+}
+
+const stdinSource: Source = {
+  read: (buf, offset, length) => new Promise((resolve, reject) => read(0, buf, offset, length, null, (err, n) => (err ? reject(err) : resolve(n)))),
+  close: async () => undefined,
+};
+
+/** The error for a failed open or read of an events file: missing, a directory, unreadable. */
+export function fileError(err: unknown, file: string): TidemarkError {
+  if (err instanceof TidemarkError) return err;
+  const code = (err as { code?: string })?.code;
+  switch (code) {
+    case 'ENOENT':
+      return new TidemarkError('FILE_NOT_FOUND', 'no such file', { file }, 'Check the path given to --events');
+    case 'ENOTDIR':
+      return new TidemarkError('FILE_NOT_FOUND', 'no such file (a part of the path is not a folder)', { file }, 'Check the path given to --events');
+    case 'EISDIR':
+      return new TidemarkError('FILE_UNREADABLE', 'this is a folder, not an events file', { file }, 'Give the path of a CSV or NDJSON file inside it');
+    case 'EACCES':
+    case 'EPERM':
+      return new TidemarkError('FILE_UNREADABLE', 'permission denied: the file cannot be read', { file }, 'Check the file\'s permissions');
+    default:
+      return new TidemarkError('FILE_UNREADABLE', `the file cannot be read (${code ?? 'unknown error'})`, { file }, 'Check the path given to --events');
+  }
+}
+
+/**
+ * A file read front to back into `buf`. `buf[0, end)` holds unread-by-the-caller bytes; `base` is the
+ * file offset of `buf[0]`. {@link refill} keeps the bytes from a position on and reads more after them.
+ */
+export class ChunkReader {
+  buf: Buffer;
+  end = 0;
+  base = 0;
+  eof = false;
+
+  private constructor(private readonly src: Source, readonly file: string, size: number) {
+    this.buf = Buffer.allocUnsafe(Math.max(16, size));
+  }
+
+  static async open(file: string, size: number): Promise<ChunkReader> {
+    let fh: FileHandle;
+    try {
+      fh = await open(file, 'r');
+    } catch (err) {
+      if ((err as { code?: string })?.code === 'ENXIO' && STDIN_PATHS.has(file)) return new ChunkReader(stdinSource, file, size);
+      throw fileError(err, file);
+    }
+    try {
+      if ((await fh.stat()).isDirectory()) throw fileError({ code: 'EISDIR' }, file);
+    } catch (err) {
+      await fh.close();
+      throw fileError(err, file);
+    }
+    return new ChunkReader(fileSource(fh), file, size);
+  }
+
+  /**
+   * Move `buf[from, end)` to the front and read until the buffer is full or the input ends. The buffer
+   * doubles when the kept bytes fill more than half of it, so every refill reads at least as many new
+   * bytes as it keeps, and a caller that scans the kept bytes again does linear work in all (a pipe
+   * returns little at a time, hence the filling). Callers bound what they keep. Returns the bytes kept.
+   */
+  async refill(from: number): Promise<number> {
+    const kept = this.end - from;
+    if (kept > 0 && from > 0) this.buf.copyWithin(0, from, this.end);
+    this.base += from;
+    this.end = kept;
+    if (kept > this.buf.length / 2) {
+      const bigger = Buffer.allocUnsafe(this.buf.length * 2);
+      this.buf.copy(bigger, 0, 0, kept);
+      this.buf = bigger;
+    }
+    while (!this.eof && this.end < this.buf.length) {
+      let n: number;
+      try {
+        n = await this.src.read(this.buf, this.end, this.buf.length - this.end);
+      } catch (err) {
+        throw fileError(err, this.file);
+      }
+      if (n === 0) this.eof = true;
+      this.end += n;
+    }
+    return kept;
+  }
+
+  async close(): Promise<void> {
+    await this.src.close();
+  }
+}
