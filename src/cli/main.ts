@@ -16,6 +16,7 @@ import { reportCommand } from './commands/report.js';
 import { retentionCommand } from './commands/retention.js';
 import { rulesCommand } from './commands/rules.js';
 import { survivalCommand } from './commands/survival.js';
+import { waistCommand } from './commands/waist.js';
 
 export function buildProgram(io: Io): Command {
   const program = new Command('tidemark')
@@ -34,6 +35,7 @@ export function buildProgram(io: Io): Command {
   survivalCommand(program, io);
   curveCommand(program, io);
   reportCommand(program, io);
+  waistCommand(program, io);
   demoCommand(program, io);
   rulesCommand(program, io);
   for (const c of program.commands) applyOverrides(c, io);

@@ -2,14 +2,13 @@
  * The Monday report's content: every analysis run on one set of waist tables, turned into findings,
  * charts and data tables. Pure: no I/O (see write.ts for the files).
  */
-import type { EngineResult } from '../engines/types.js';
 import { showValue } from '../errors.js';
 import { cohortReport, type CohortsOutput } from '../explain/cohortReport.js';
 import { explainRetention, type ExplainOutput } from '../explain/run.js';
 import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
 import { computeProjection, type ProjectOutput } from '../markov/run.js';
 import { GRAIN_NOUN } from '../periods/calendar.js';
-import type { Rules } from '../rules/schema.js';
+import type { Waist } from '../waist/types.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../survival/run.js';
 import { cohortTriangleChart } from './charts/cohortTriangle.js';
 import { decompositionChart } from './charts/decomposition.js';
@@ -49,7 +48,7 @@ export interface ReportModel {
   rules: { name?: string; version?: string; grain: string; timezone: string; lapseLimit: number; minEvents: number; keyEvents: string[] | null };
   periods: { first: string; last: string; count: number };
   users: number;
-  rows: EngineResult['rows'];
+  rows: Waist['manifest']['rows'];
   findings: Finding[];
   warnings: string[];
   cautions: string[];
@@ -79,8 +78,11 @@ export const CAUTIONS = [
 ];
 
 /** Build the report from one engine run. */
-export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions = {}): ReportModel {
-  const w = result.waist;
+export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
+  const w = waist.tables;
+  const m = waist.manifest;
+  const rules = m.rules;
+  const result = { rows: m.rows, lastPeriod: m.lastPeriod, warnings: m.warnings, events: m.events, users: m.users };
   const grainWord = GRAIN_NOUN[rules.grain];
   const oneGrain = `one-${grainWord}`;
   const flows: FlowsSummary = summariseFlows(w);
@@ -207,7 +209,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
     title: `Lifecycle report, ${w.periods[0]} to ${w.periods[w.periods.length - 1]}`,
     subtitle: `${n0(result.users)} users, ${w.periods.length} ${grainWord}s, rules ${rules.name ?? 'unnamed'}${rules.version ? ` v${rules.version}` : ''} (${rules.timezone}, lapse limit ${rules.lapseLimit})`,
     grainWord,
-    rules: { name: rules.name, version: rules.version, grain: rules.grain, timezone: rules.timezone, lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents, keyEvents: rules.activity.keyEvents ?? null },
+    rules: { name: rules.name ?? undefined, version: rules.version ?? undefined, grain: rules.grain, timezone: rules.timezone, lapseLimit: rules.lapseLimit, minEvents: rules.minEvents, keyEvents: rules.keyEvents },
     periods: { first: w.periods[0], last: w.periods[w.periods.length - 1], count: w.periods.length },
     users: result.users,
     rows: result.rows,

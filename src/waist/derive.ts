@@ -25,7 +25,8 @@ export const MIN_PERIODS_TO_DROP = 3;
  */
 export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): { waist: Waist; dropped?: DroppedPeriod } {
   const m = w.manifest;
-  const drop = !m.lastPeriod.complete && !o.includePartial && m.periods.length >= MIN_PERIODS_TO_DROP;
+  // kept anyway when leaving it out would leave fewer than two periods, or none past the warm-up
+  const drop = !m.lastPeriod.complete && !o.includePartial && m.periods.length >= MIN_PERIODS_TO_DROP && m.periods.length - 1 > m.rules.warmup;
   if (!drop) return { waist: { manifest: m, tables: analysisForm(w.tables) } };
   const t = w.tables;
   const L = t.periods.length - 1;
@@ -62,7 +63,7 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
   };
   if (t.segmentCells) tables.segmentCells = { ...t.segmentCells, cells: t.segmentCells.cells.filter((c) => c.to !== last) };
   if (t.segmentDurations) tables.segmentDurations = { ...t.segmentDurations, rows: shorten(t.segmentDurations.rows) };
-  const rows = { ...m.rows, used: m.rows.used - m.rowsInLastPeriod, partialPeriod: m.rowsInLastPeriod };
+  const rows = { ...m.rows, used: m.rows.used - m.rowsInLastPeriod, partial: m.rowsInLastPeriod };
   const manifest = {
     ...m,
     periods: tables.periods,
@@ -100,4 +101,19 @@ function mergeCohorts(rows: readonly DurationRow[]): DurationRow[] {
   }
   const cmp = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
   return [...m.values()].sort((a, b) => cmp(a.group, b.group) || a.duration - b.duration || a.observed - b.observed);
+}
+
+/**
+ * One sentence on an incomplete last period: left out (with its rows), or kept and why.
+ * `leaveOut`: the analysis leaves it out by default; `asked`: the user asked to keep it.
+ */
+export function partialPeriodSentence(waist: Waist, dropped: DroppedPeriod | undefined, o: { leaveOut: boolean; asked: boolean }): string | undefined {
+  const f = (n: number) => n.toLocaleString('en-US');
+  const looks = (label: string, coverage: number) => `The last period, ${label}, looks incomplete (the data stop ${(coverage * 100).toFixed(0)}% of the way through it)`;
+  if (dropped) return `${looks(dropped.label, dropped.coverage)}, so it is left out of every rate (${f(dropped.rows)} rows); pass --include-partial to keep it.`;
+  const lp = waist.manifest.lastPeriod;
+  if (lp.complete) return undefined;
+  if (!o.leaveOut && !o.asked) return `${looks(lp.label, lp.coverage)}: its states may still change as more events arrive.`;
+  const why = o.leaveOut && !o.asked ? 'as too few periods would remain without it' : 'as asked';
+  return `${looks(lp.label, lp.coverage)}; it is kept, ${why}, so its rates miss users who may still be active later in it.`;
 }

@@ -22,13 +22,14 @@ export const stateInfoSchema = z.strictObject({
 });
 
 export const rowAccountSchema = z
-  .looseObject({
+  .strictObject({
     read: count,
     used: count,
     notKeyEvent: count,
     afterRange: count,
+    partial: count.describe('Rows of an incomplete last period left out (0 in a waist; set when an analysis leaves it out).'),
     rejected: z.record(z.string(), count),
-    blankLines: count,
+    lines: z.strictObject({ read: count, header: count, blank: count, records: count, rejected: count }).optional(),
   })
   .describe('Where every input row went (see README, "Row accounting").');
 
@@ -60,6 +61,7 @@ export const waistManifestSchema = z.strictObject({
   attributes: z.array(z.strictObject({ name: z.string(), values: count })),
   by: z.string().nullable().describe('The attribute of the attribute splits, or null.'),
   byPerPerson: z.boolean().describe('Whether that attribute holds nearly one value per user: sentences then never name its values.'),
+  warnings: z.array(z.string()).describe('Warnings about the data, one sentence each (rows that stretch the range far beyond the bulk).'),
 });
 
 export type WaistManifest = z.output<typeof waistManifestSchema>;

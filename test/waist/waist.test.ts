@@ -7,9 +7,9 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { afterAll, describe, expect, it } from 'vitest';
-import { MemoryEngine } from '../../src/engines/memory.js';
+import { createEngine } from '../../src/engines/index.js';
+import { filesSource } from '../../src/engines/types.js';
 import { analysisWaist } from '../../src/waist/derive.js';
-import { waistFromResult } from '../../src/waist/build.js';
 import { readWaist } from '../../src/waist/read.js';
 import { writeWaist } from '../../src/waist/write.js';
 import { WAIST_VERSION } from '../../src/waist/manifest.js';
@@ -48,8 +48,7 @@ function write(log: Log): string {
 
 async function waistOf(file: string, log: Log, to?: string) {
   const rules = rulesOf(log.rules);
-  const result = await new MemoryEngine().run({ files: [file] }, rules, { by: log.by ? 'plan' : undefined, to });
-  return waistFromResult(result, rules, 'memory');
+  return (await createEngine('memory').run(filesSource([file]), rules, { by: log.by ? 'plan' : undefined, to })).waist;
 }
 
 describe('writeWaist → readWaist', () => {

@@ -6,10 +6,11 @@
  * the tables are indexed from `outStart` (the first output period).
  */
 import * as aq from 'arquero';
-import type { Classified } from '../lifecycle/classify.js';
-import { cohortRowFromUsers } from '../explain/cohortExt.js';
-import { canonicalDurations } from '../waist/canonical.js';
-import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from './types.js';
+import type { Classified } from '../../lifecycle/classify.js';
+import { cohortRowFromUsers } from './cohortExt.js';
+import { canonicalDurations } from '../../waist/canonical.js';
+import { bandLabels } from '../../flows/tenure.js';
+import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from '../../flows/types.js';
 
 export interface AggregateOptions {
   states: readonly string[];
@@ -22,15 +23,6 @@ export interface AggregateOptions {
   warmup: number;
   /** Lower edges of tenure bands, starting at 0. */
   tenureBands: number[];
-}
-
-/** Label of a tenure band: [0, 1, 4, 12] → '0', '1-3', '4-11', '12+'. */
-export function bandLabels(edges: number[]): string[] {
-  return edges.map((lo, i) => {
-    const hi = i + 1 < edges.length ? edges[i + 1] - 1 : undefined;
-    if (hi === undefined) return `${lo}+`;
-    return hi === lo ? `${lo}` : `${lo}-${hi}`;
-  });
 }
 
 function groupCount(table: aq.ColumnTable, key: string): Map<number, number> {
