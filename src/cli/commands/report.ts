@@ -76,6 +76,7 @@ export function reportCommand(program: Command, io: Io): void {
     .option('--by <column>', 'also split retention by this attribute column (refused when its values are nearly unique per user)')
     .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')
+    .option('--generated-at <text>', 'the time written on the report (default: now), for reproducible output')
     .addOption(new Option('--format <format>', 'format of the headline findings on standard output').choices(['table', 'csv', 'json']).default('table'));
   addPerPersonOption(cmd);
   addPartialOption(addEventOptions(addWaistOption(cmd))).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
