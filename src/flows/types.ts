@@ -72,8 +72,12 @@ export interface DurationRow {
 
 export interface WaistTables {
   states: string[];
-  /** The states that mean "active in this period" (default: fresh, engaged, returned). */
+  /** The states that mean "active in this period" (they come first in `states`). */
   activeStates: string[];
+  /** The state new users arrive in (their first active period). */
+  arrivalState: string;
+  /** The state of users gone quiet for longer than the lapse limit. */
+  exitState: string;
   /** All analysis periods in order. */
   periods: string[];
   /** Number of leading periods that are warm-up: classified, but left out of flows and retention. */

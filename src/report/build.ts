@@ -9,6 +9,7 @@ import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
 import { computeProjection, type ProjectOutput } from '../markov/run.js';
 import { GRAIN_NOUN } from '../periods/calendar.js';
 import type { Waist } from '../waist/types.js';
+import { stateLabelsOf, type StateInfo } from '../waist/manifest.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../survival/run.js';
 import { cohortTriangleChart } from './charts/cohortTriangle.js';
 import { decompositionChart } from './charts/decomposition.js';
@@ -19,6 +20,7 @@ import { retentionBands } from './charts/retentionBands.js';
 import { stateMix } from './charts/stateMix.js';
 import { survivalChart } from './charts/survival.js';
 import type { Chart, DataTable } from './charts/types.js';
+import { stateColours } from './palette.js';
 
 export interface ReportOptions {
   /** Chosen comparison for the decomposition: periods retained into. Default: latest against `lookback` earlier. */
@@ -42,6 +44,8 @@ export interface Finding {
 }
 
 export interface ReportModel {
+  /** The states of the rules, with roles, labels, colours and definitions (the waist's manifest). */
+  states: StateInfo[];
   title: string;
   subtitle: string;
   grainWord: string;
@@ -84,6 +88,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
   const rules = m.rules;
   const result = { rows: m.rows, lastPeriod: m.lastPeriod, warnings: m.warnings, events: m.events, users: m.users };
   const grainWord = GRAIN_NOUN[rules.grain];
+  const stateLabels = stateLabelsOf(m.states);
   const oneGrain = `one-${grainWord}`;
   const flows: FlowsSummary = summariseFlows(w);
   const charts: Chart[] = [];
@@ -100,7 +105,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
 
   // flows
   if (last) {
-    charts.push(flowRibbons({ states: w.states, from: last.from, to: last.to, counts: last.counts, fresh: last.fresh }));
+    charts.push(flowRibbons({ states: w.states, from: last.from, to: last.to, counts: last.counts, fresh: last.fresh, arrival: w.arrivalState, colours: stateColours(w.states, m.states) }));
     const moves: { from: string; to: string; n: number; share: number }[] = [];
     w.states.forEach((a, i) => w.states.forEach((b, j) => {
       const n = last.counts[i][j];
@@ -116,12 +121,12 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
     const small = w.states.filter((_, i) => last.counts[i].reduce((a, b) => a + b, 0) > 0 && last.counts[i].reduce((a, b) => a + b, 0) < rules.minCell);
     if (small.length) warnings.push(`Small cells: in the latest transition, ${small.join(', ')} had fewer than ${rules.minCell} users; their rates are shown faded and should not be read alone.`);
   }
-  charts.push(stateMix(w.states, w.periods, w.stateCounts, grainWord));
-  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell));
+  charts.push(stateMix(w.states, w.periods, w.stateCounts, grainWord, w.activeStates, stateColours(w.states, m.states)));
+  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell, stateColours(w.activeStates, m.states)));
 
   // explanation: latest change, and the chosen comparison
   if (flows.transitions.length >= 2) {
-    const latest: ExplainOutput = explainRetention(w, { grainWord: oneGrain, minCell: rules.minCell });
+    const latest: ExplainOutput = explainRetention(w, { grainWord: oneGrain, minCell: rules.minCell, stateLabels });
     documents.push({ name: 'explain-latest', value: latest });
     const sig = latest.changes.filter((c) => c.significant && c.change !== null);
     findings.push({
@@ -135,7 +140,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
     const compare = o.compare ?? into[into.length - 1];
     const base = o.base ?? into[Math.max(0, into.indexOf(compare) - 4)];
     if (base !== latest.base || compare !== latest.compare) {
-      const chosen = explainRetention(w, { base, compare, grainWord: oneGrain, minCell: rules.minCell });
+      const chosen = explainRetention(w, { base, compare, grainWord: oneGrain, minCell: rules.minCell, stateLabels });
       documents.push({ name: 'explain-chosen', value: chosen });
       charts.push(decompositionChart(chosen, 'decomposition-chosen', `${chosen.base} to ${chosen.compare}`));
       findings.push({ kind: 'decomposition', text: `${chosen.sentence.replace(/\.$/, '')} (retention into ${chosen.compare} against ${chosen.base}).` });
@@ -169,7 +174,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
     const fit = o.fit ?? String(Math.min(8, flows.transitions.length));
     const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4, backtestOrigins: REPORT_BACKTEST_ORIGINS });
     documents.push({ name: 'projection', value: proj });
-    charts.push(projectionChart(proj, grainWord));
+    charts.push(projectionChart(proj, grainWord, w.activeStates, stateColours(proj.states, m.states)));
     const end = proj.projection[horizon];
     const mix = proj.states.map((s) => `${s} ${p1(end.shares[s])}${end.bands ? ` (${p1(end.bands.shares[s][0])}–${p1(end.bands.shares[s][1])})` : ''}`).join(', ');
     findings.push({ kind: 'projection', text: `If the flows of the last ${proj.source.kind === 'events' ? proj.source.fit.transitions : ''} ${grainWord}s hold, in ${horizon} ${grainWord}s the mix is ${mix}; 10th–90th percentile bands.` });
@@ -206,6 +211,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
   });
 
   return {
+    states: m.states,
     title: `Lifecycle report, ${w.periods[0]} to ${w.periods[w.periods.length - 1]}`,
     subtitle: `${n0(result.users)} users, ${w.periods.length} ${grainWord}s, rules ${rules.name ?? 'unnamed'}${rules.version ? ` v${rules.version}` : ''} (${rules.timezone}, lapse limit ${rules.lapseLimit})`,
     grainWord,

@@ -1,7 +1,7 @@
 /** Assemble a waist's manifest from what an engine counted and the rules it ran. */
 import { bandLabels } from '../flows/tenure.js';
 import type { RowAccount } from '../ingest/eventLog.js';
-import { stateTable } from '../lifecycle/states.js';
+import { lifecycleStates } from '../lifecycle/states.js';
 import { GRAIN_NOUN } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
 import { WAIST_FORMAT, WAIST_VERSION, type WaistManifest } from './manifest.js';
@@ -45,8 +45,9 @@ export function makeManifest(i: ManifestInput): WaistManifest {
       tenureLabels: bandLabels(r.tenureBands),
       warmup: i.warmup,
       minCell: r.minCell,
+      splits: r.splits.map((x) => ({ ...x, names: [...x.names] as [string, string], ...(x.labels ? { labels: [...x.labels] as [string, string] } : {}) })),
     },
-    states: stateTable({ lapseLimit: r.lapseLimit, minEvents: r.activity.minEvents }, GRAIN_NOUN[r.grain]),
+    states: lifecycleStates(r, GRAIN_NOUN[r.grain]),
     engine: { name: i.engine, version: TIDEMARK_VERSION },
     periods: [...i.periods],
     rows: { ...i.rows, lines: { ...i.rows.lines }, rejected: { ...i.rows.rejected } } as unknown as WaistManifest['rows'],

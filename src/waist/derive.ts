@@ -53,6 +53,8 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
   const tables: WaistTables = {
     states: t.states,
     activeStates: t.activeStates,
+    arrivalState: t.arrivalState,
+    exitState: t.exitState,
     periods: t.periods.slice(0, L),
     warmup: t.warmup,
     stateCounts: t.stateCounts.slice(0, L),

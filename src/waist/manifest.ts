@@ -49,6 +49,7 @@ export const waistManifestSchema = z.strictObject({
     tenureLabels: z.array(z.string()).min(1),
     warmup: count,
     minCell: count,
+    splits: z.array(z.strictObject({ state: z.string(), atLeast: count, names: z.tuple([z.string(), z.string()]), labels: z.tuple([z.string(), z.string()]).optional() })),
   }),
   states: z.array(stateInfoSchema).min(2),
   engine: z.strictObject({ name: z.string().min(1), version: z.string() }),
@@ -71,4 +72,16 @@ export type StateInfo = z.output<typeof stateInfoSchema>;
 export function waistManifestJsonSchema(): Record<string, unknown> {
   const schema = z.toJSONSchema(waistManifestSchema, { io: 'input', unrepresentable: 'any' }) as Record<string, unknown>;
   return { $id: 'https://tidemark.invalid/waist-manifest.schema.json', title: 'tidemark waist manifest', ...schema };
+}
+
+/** Plural nouns of the states for sentences, by state name. */
+export function stateLabelsOf(states: readonly StateInfo[]): Record<string, string> {
+  return Object.fromEntries(states.map((s) => [s.name, s.label]));
+}
+
+/** The state that has `role` (a waist has one arrival, one lapse and one exit state). */
+export function stateWithRole(states: readonly StateInfo[], role: StateInfo['role']): string {
+  const s = states.find((x) => x.role === role);
+  if (!s) throw new Error(`no state has the role ${role}`);
+  return s.name;
 }

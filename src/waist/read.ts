@@ -53,7 +53,11 @@ export function parseManifest(text: string, file: string): WaistManifest {
   const m = r.data;
   const names = m.states.map((s) => s.name);
   if (new Set(names).size !== names.length) throw new TidemarkError('INPUT_INVALID', 'a state is listed twice', { file, key: 'states' });
-  if (!m.states.some((s) => s.role === 'arrival' && s.active)) throw new TidemarkError('INPUT_INVALID', 'no active state has the role arrival', { file, key: 'states' });
+  for (const role of ['arrival', 'lapse', 'exit'] as const) {
+    const n = m.states.filter((s) => s.role === role).length;
+    if (n !== 1) throw new TidemarkError('INPUT_INVALID', `${n} states have the role ${role}; a waist has exactly one`, { file, key: 'states' });
+  }
+  if (!m.states.some((s) => s.role === 'arrival' && s.active)) throw new TidemarkError('INPUT_INVALID', 'the arrival state is not active', { file, key: 'states' });
   if (m.states.findIndex((s) => !s.active) < m.states.filter((s) => s.active).length) {
     throw new TidemarkError('INPUT_INVALID', 'active states must come first in the list of states', { file, key: 'states' });
   }
@@ -297,6 +301,8 @@ export function readWaist(dir: string): Waist {
   const tables: WaistTables = {
     states,
     activeStates: states.slice(0, activeCount),
+    arrivalState: m.states.find((s) => s.role === 'arrival')!.name,
+    exitState: m.states.find((s) => s.role === 'exit')!.name,
     periods: [...m.periods],
     warmup,
     stateCounts,

@@ -112,7 +112,7 @@ try {
   const c = classify(act, plan, log.users.length, 0);
   const tCls = performance.now() - s;
   s = performance.now();
-  aggregate(c, { states: plan.states, activeCount: 3, labels: Array.from({ length: span }, (_, i) => periodLabel(minKey + i, log.scheme)), outStart: 0, warmup: 0, tenureBands: rules.tenureBands });
+  aggregate(c, { states: plan.states, activeCount: 3, arrivalState: plan.states[0], exitState: plan.states[plan.states.length - 1], labels: Array.from({ length: span }, (_, i) => periodLabel(minKey + i, log.scheme)), outStart: 0, warmup: 0, tenureBands: rules.tenureBands });
   const tAgg = performance.now() - s;
   clearInterval(sampler);
   const secs = (a: number, b: number) => `${((b - a) / 1000).toFixed(2)} s`;

@@ -20,6 +20,7 @@ import { formatExplain } from './explain.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
 import { formatProjection } from './project.js';
 import { headline } from './report.js';
+import { stateLabelsOf, stateWithRole } from '../../waist/manifest.js';
 
 export interface DemoOptions {
   out: string;
@@ -48,8 +49,9 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 
-  const explained = explainRetention(waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
-  const projection = computeProjection({ tables: waist.tables }, { fit: '8', horizon: 12, whatIf: ['lapsing->dormant*0.8'], until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
+  const explained = explainRetention(waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell, stateLabels: stateLabelsOf(waist.manifest.states) });
+  const [lapse, exit] = [stateWithRole(waist.manifest.states, 'lapse'), stateWithRole(waist.manifest.states, 'exit')];
+  const projection = computeProjection({ tables: waist.tables }, { fit: '8', horizon: 12, whatIf: [`${lapse}->${exit}*0.8`], until: exit, samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
   const colour = Boolean(io.stdoutIsTTY);
   io.stdout([
     headline(model, colour),

@@ -9,6 +9,7 @@ import type { Io } from '../io.js';
 import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
 import { showValue } from '../../errors.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
+import { stateLabelsOf } from '../../waist/manifest.js';
 
 export interface ExplainCliOptions extends CommonOptions, PerPersonOption {
   base?: string;
@@ -61,7 +62,7 @@ export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const compare = dateOption(o.compare, '--compare');
   const input = await analysisInput(o, io, { partial: 'drop', by: o.by });
   const m = input.waist.manifest;
-  const e = asFlags(() => explainRetention(input.waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[m.rules.grain]}`, minCell: m.rules.minCell }), { base: '--base', compare: '--compare' }, periodFlagHint(input, { base, compare }));
+  const e = asFlags(() => explainRetention(input.waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[m.rules.grain]}`, minCell: m.rules.minCell, stateLabels: stateLabelsOf(m.states) }), { base: '--base', compare: '--compare' }, periodFlagHint(input, { base, compare }));
   emit(formatExplain({ ...e, ...partialJson(input) }, o.format), o.out, io);
 }
 

@@ -71,7 +71,7 @@ function flowsTable(f: FlowsOutput): string {
     t.growth.quickRatio === null ? '-' : t.growth.quickRatio.toFixed(2),
     ...f.activeStates.map((s) => pct(t.retention[s]?.rate)),
   ]);
-  out.push(textTable(['into', 'active', 'fresh', 'back', 'lost', 'quick', ...f.activeStates.map((s) => `r.${s}`)], rows).trimEnd());
+  out.push(textTable(['into', 'active', 'new', 'back', 'lost', 'quick', ...f.activeStates.map((s) => `r.${s}`)], rows).trimEnd());
   if (f.pooled) {
     out.push('', `Pooled ${f.pooled.transitions} transitions (${f.pooled.from} to ${f.pooled.to}): row shares`);
     const pr = f.states.map((s, i) => [s, ...f.states.map((_, j) => (f.pooled!.rates[i] ? pct(f.pooled!.rates[i]![j]) : '-')), f.pooled!.n[i]]);

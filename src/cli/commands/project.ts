@@ -7,7 +7,7 @@ import { Option, type Command } from 'commander';
 import { TidemarkError, inFile } from '../../errors.js';
 import { selectTransitions } from '../../flows/select.js';
 import { lifecycleMoves } from '../../lifecycle/moves.js';
-import { STATES } from '../../lifecycle/states.js';
+import { stateNames, type StateSplit } from '../../lifecycle/states.js';
 import { computeProjection, type ProjectionOptions, type ProjectOutput } from '../../markov/run.js';
 import { validateModel } from '../../markov/validate.js';
 import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, periodFlagHint, resolveRules, type CommonOptions } from '../common.js';
@@ -140,16 +140,19 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
     if (!o.events && !o.waist) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist or --matrix', { key: '--events' }, 'See tidemark project --help');
     // options that name states and moves are checked before any event is read: against the rules
     // file with --events, against the waist's manifest with --waist
-    const checkStates = (lapseLimit: number, states: readonly string[]) => {
-      const moves = lifecycleMoves({ lapseLimit });
+    const checkStates = (rules: { lapseLimit: number; splits?: StateSplit[] }, states: readonly string[]) => {
+      const moves = lifecycleMoves(rules);
       if (o.until !== undefined) stateOption(o.until, '--until', states);
       whatIfOption(o.whatIf, '--what-if', states, moves);
       return moves;
     };
-    const early = o.events ? checkStates(resolveRules(o as CommonOptions).lapseLimit, STATES) : undefined;
+    const early = o.events ? (() => {
+      const r = resolveRules(o as CommonOptions);
+      return checkStates(r, stateNames(r));
+    })() : undefined;
     const input = await analysisInput(o as CommonOptions, io, { partial: 'drop' });
     const t = input.waist.tables;
-    const moves = early ?? checkStates(input.waist.manifest.rules.lapseLimit, t.states);
+    const moves = early ?? checkStates(input.waist.manifest.rules, t.states);
     const hint = periodFlagHint(input, { range: common.fit });
     // --fit against the data: N at most the transitions there are, labels that are periods of the data
     if (t.transitions.length > 0) asFlags(() => selectTransitions(t, selectionOption(common.fit, '--fit')), { range: '--fit' }, hint);

@@ -5,7 +5,6 @@ import { reportOf } from '../../report/run.js';
 import { analysisWaist } from '../../waist/derive.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
-import { STATES } from '../../lifecycle/states.js';
 import { addEventOptions, addPartialOption, addWaistOption, note, noteRun, periodFlagHint, waistInput, type CommonOptions } from '../common.js';
 import { asFlags, dateOption, seedOption, wholeNumber } from '../options.js';
 import { MAX_HORIZON } from './project.js';
@@ -28,7 +27,7 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
 
 /** Headline findings for the terminal, with state names in their report colours on a colour terminal. */
 export function headline(m: ReportModel, colour: boolean): string {
-  const paint = (t: string) => (colour ? STATES.reduce((acc, s) => acc.replace(new RegExp(`\\b${s}\\b`, 'g'), ansiState(s, s, true)), t) : t);
+  const paint = (t: string) => (colour ? m.states.reduce((acc, s) => acc.replace(new RegExp(`\\b${s.name}\\b`, 'g'), ansiState(s.name, s.name, true, m.states)), t) : t);
   const lines = [m.title, m.subtitle, '', ...m.findings.map((f) => `* ${f.text}`)];
   if (m.warnings.length) lines.push('', ...m.warnings.map((w) => `! ${w}`));
   // escape and wrap first (data never drives the terminal), then colour the state names

@@ -16,6 +16,9 @@ export interface AggregateOptions {
   states: readonly string[];
   /** Number of leading states that are active (states are ordered active first). */
   activeCount: number;
+  /** The state new users arrive in, and the one of users gone quiet beyond the lapse limit. */
+  arrivalState: string;
+  exitState: string;
   /** Labels of all range periods, by offset. */
   labels: string[];
   /** First output period offset. */
@@ -62,7 +65,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   const flowRows = base.filter((d: any, $: any) => d.prev >= 0 && d.p - 1 >= $.firstFlow);
   const byPair = groupCount(flowRows.derive({ k: (d: any, $: any) => (d.p * $.S + d.prev) * $.S + d.s }), 'k');
   const transitions: TransitionCounts[] = [];
-  const freshCode = o.states.indexOf('fresh');
+  const freshCode = o.states.indexOf(o.arrivalState);
   const firstTo = Math.max(firstFlow + 1, o.outStart + 1); // offset of the first transition's later period
   for (let p = firstTo; p < span; p++) {
     const counts = Array.from({ length: S }, (_, i) => Array.from({ length: S }, (_, j) => byPair.get((p * S + i) * S + j) ?? 0));
@@ -100,6 +103,8 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   return {
     states: [...o.states],
     activeStates: o.states.slice(0, o.activeCount),
+    arrivalState: o.arrivalState,
+    exitState: o.exitState,
     periods: o.labels.slice(o.outStart),
     warmup: o.warmup,
     stateCounts,

@@ -8,7 +8,7 @@ import { readEvents } from '../../ingest/read.js';
 import { activePeriods, type ActivePeriods } from '../../lifecycle/activity.js';
 import { classifiedSize, classify, firstActivePeriods, type Classified } from '../../lifecycle/classify.js';
 import { compilePlan } from '../../lifecycle/plan.js';
-import { ACTIVE_STATES } from '../../lifecycle/states.js';
+import { lifecycleStates } from '../../lifecycle/states.js';
 import { aggregate, durationRows } from './aggregate.js';
 import { segmentCells } from './segments.js';
 import { activeAttribute, activeIndex } from './attributes.js';
@@ -69,9 +69,14 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   const labels: string[] = new Array<string>(r.span);
   for (let i = r.outStart; i < r.span; i++) labels[i] = periodLabel(r.startKey + i, scheme);
   const classified = classify(active, plan, log.users.length, r.outStart);
+  const table = lifecycleStates(rules);
+  const activeCount = table.filter((s) => s.active).length;
+  const roleName = (role: string) => (table.find((s) => s.role === role) as { name: string }).name;
   const waist = aggregate(classified, {
     states: plan.states,
-    activeCount: ACTIVE_STATES.length,
+    activeCount,
+    arrivalState: roleName('arrival'),
+    exitState: roleName('exit'),
     labels,
     outStart: r.outStart,
     warmup,
@@ -79,7 +84,7 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   });
   if (range.by) {
     const attr = activeAttribute(log, range.by, active);
-    const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount: ACTIVE_STATES.length, labels, firstFlow: r.outStart + warmup });
+    const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount, labels, firstFlow: r.outStart + warmup });
     waist.segmentCells = { by: range.by, cells, perPerson: split?.perPerson };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels), perPerson: split?.perPerson };
