@@ -67,6 +67,7 @@ export function rulesYaml(r: RefRules): string {
   if (r.keyEvents) activity.keyEvents = r.keyEvents;
   if (r.minEvents !== undefined) activity.minEvents = r.minEvents;
   if (Object.keys(activity).length) doc.activity = activity;
+  if (r.splits) doc.splits = r.splits;
   return stringify(doc);
 }
 
