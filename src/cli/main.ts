@@ -1,43 +1,58 @@
 /**
  * The tidemark command line. `main(argv, io)` returns the exit code, so tests run commands without
  * spawning a process: commander's exit is overridden and its output routed to `io`.
+ *
+ * Start-up: every command is listed from the light table in `catalog.ts`; only the module of the
+ * command that argv runs (or asks help for) is imported. `--help`, `--version` and a misspelt command
+ * load no command module at all.
  */
-import { Command, CommanderError } from 'commander';
+import { Command, CommanderError, Help } from 'commander';
+import { CATALOG, commandOf, type RegisterCommand } from './catalog.js';
 import { commanderMessage, reportError } from './errors.js';
 import type { Io } from './io.js';
-import { classifyCommand } from './commands/classify.js';
-import { demoCommand } from './commands/demo.js';
-import { cohortsCommand } from './commands/cohorts.js';
-import { curveCommand } from './commands/curve.js';
-import { explainCommand } from './commands/explain.js';
-import { flowsCommand } from './commands/flows.js';
-import { projectCommand } from './commands/project.js';
-import { reportCommand } from './commands/report.js';
-import { retentionCommand } from './commands/retention.js';
-import { rulesCommand } from './commands/rules.js';
-import { survivalCommand } from './commands/survival.js';
 
-export function buildProgram(io: Io): Command {
+/**
+ * The program with every command of the catalogue: the ones in `loaded` with their options and
+ * actions, the others as a name and a description (enough for the top-level help and "did you mean").
+ */
+export function buildProgram(io: Io, loaded: ReadonlyMap<string, RegisterCommand> = new Map()): Command {
+  const terms = new Map(CATALOG.map((c) => [c.name, c.term]));
   const program = new Command('tidemark')
     .description('User-lifecycle analytics: states per period, flows between them, retention explained, audience projected.')
     .version('0.1.0')
     .option('--debug', 'show stack traces for errors')
     .showSuggestionAfterError(true)
     .exitOverride()
-    .configureOutput(output(io));
-  classifyCommand(program, io);
-  flowsCommand(program, io);
-  retentionCommand(program, io);
-  explainCommand(program, io);
-  projectCommand(program, io);
-  cohortsCommand(program, io);
-  survivalCommand(program, io);
-  curveCommand(program, io);
-  reportCommand(program, io);
-  demoCommand(program, io);
-  rulesCommand(program, io);
+    .configureOutput(output(io))
+    // the table's term, so that the listing reads the same whether or not a command is loaded
+    .configureHelp({ subcommandTerm: (cmd) => terms.get(cmd.name()) ?? new Help().subcommandTerm(cmd) });
+  for (const entry of CATALOG) {
+    const register = loaded.get(entry.name);
+    if (register) register(program, io);
+    else program.addCommand(unloaded(entry.name, entry.description));
+  }
   for (const c of program.commands) applyOverrides(c, io);
   return program;
+}
+
+/** The program with the command argv names loaded (none for `--help`, `--version`, a misspelling). */
+export async function programFor(argv: readonly string[], io: Io): Promise<Command> {
+  const name = commandOf(argv);
+  const entry = CATALOG.find((c) => c.name === name);
+  return buildProgram(io, new Map(entry ? [[entry.name, await entry.load()]] : []));
+}
+
+/** The program with every command loaded (for checks that walk all commands and options). */
+export async function fullProgram(io: Io): Promise<Command> {
+  const all = await Promise.all(CATALOG.map(async (c) => [c.name, await c.load()] as const));
+  return buildProgram(io, new Map(all));
+}
+
+/** A command listed but not loaded; `programFor` loads the one argv runs, so its action never runs. */
+function unloaded(name: string, description: string): Command {
+  return new Command(name).description(description).action(() => {
+    throw new Error(`the command '${name}' was run without being loaded`);
+  });
 }
 
 /** Help to stdout; commander's errors are not printed by commander but by main, as one escaped line. */
@@ -52,8 +67,8 @@ function applyOverrides(cmd: Command, io: Io): void {
 
 export async function main(argv: string[], io: Io): Promise<number> {
   const debug = argv.includes('--debug');
-  const program = buildProgram(io);
   try {
+    const program = await programFor(argv, io);
     await program.parseAsync(argv, { from: 'user' });
     return 0;
   } catch (err) {
