@@ -90,14 +90,13 @@ export const CATALOG: readonly CatalogEntry[] = [
 ];
 
 /**
- * The command that `argv` runs or asks help for: the first operand, or the one after `help`
- * (`tidemark help flows`). The program's own options (`--debug`, `--version`, `--help`) take no value,
- * so the first argument not starting with `-` is the command. Undefined when argv names no command of
- * the catalogue (no command, or a misspelt one: commander then lists or suggests from the table).
+ * The command that `argv` most likely runs or asks help for: the first argument, not an option, that
+ * names a command of the catalogue (`tidemark help flows` gives flows; an option's value before the
+ * command is skipped unless it is itself a command's name). Undefined when argv names none (no
+ * command, or a misspelt one: commander then lists or suggests from the table). A guess only: `main`
+ * loads the command commander actually dispatches to when the guess misses.
  * @example commandOf(['--debug', 'help', 'flows']) // 'flows'
  */
 export function commandOf(argv: readonly string[]): string | undefined {
-  const operands = argv.filter((a) => !a.startsWith('-'));
-  const name = operands[0] === 'help' ? operands[1] : operands[0];
-  return CATALOG.some((c) => c.name === name) ? name : undefined;
+  return argv.find((a) => !a.startsWith('-') && CATALOG.some((c) => c.name === a));
 }

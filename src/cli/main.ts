@@ -4,7 +4,9 @@
  *
  * Start-up: every command is listed from the light table in `catalog.ts`; only the module of the
  * command that argv runs (or asks help for) is imported. `--help`, `--version` and a misspelt command
- * load no command module at all.
+ * load no command module at all. Which command argv runs is guessed before parsing (`commandOf`); if
+ * commander dispatches to another one, a hook stops it before it parses anything, and `runArgv` loads
+ * that command and parses again.
  */
 import { Command, CommanderError, Help } from 'commander';
 import { CATALOG, commandOf, type RegisterCommand } from './catalog.js';
@@ -29,10 +31,34 @@ export function buildProgram(io: Io, loaded: ReadonlyMap<string, RegisterCommand
   for (const entry of CATALOG) {
     const register = loaded.get(entry.name);
     if (register) register(program, io);
-    else program.addCommand(unloaded(entry.name, entry.description));
+    else program.addCommand(new Command(entry.name).description(entry.description));
   }
+  program.hook('preSubcommand', (_, sub) => {
+    if (!loaded.has(sub.name())) throw new NotLoaded(sub.name());
+  });
   for (const c of program.commands) applyOverrides(c, io);
   return program;
+}
+
+/** Thrown before a command that is listed but not loaded parses its arguments. */
+export class NotLoaded extends Error {
+  constructor(readonly command: string) {
+    super(`the command '${command}' is not loaded`);
+  }
+}
+
+/**
+ * Parses argv with `program` and runs the command; when commander reaches a command the program lists
+ * without having loaded it (the guess of `commandOf` missed), loads that command and parses again.
+ */
+export async function runArgv(program: Command, argv: readonly string[], io: Io): Promise<void> {
+  try {
+    await program.parseAsync(argv, { from: 'user' });
+  } catch (err) {
+    if (!(err instanceof NotLoaded)) throw err;
+    const entry = CATALOG.find((c) => c.name === err.command)!;
+    await buildProgram(io, new Map([[entry.name, await entry.load()]])).parseAsync(argv, { from: 'user' });
+  }
 }
 
 /** The program with the command argv names loaded (none for `--help`, `--version`, a misspelling). */
@@ -48,13 +74,6 @@ export async function fullProgram(io: Io): Promise<Command> {
   return buildProgram(io, new Map(all));
 }
 
-/** A command listed but not loaded; `programFor` loads the one argv runs, so its action never runs. */
-function unloaded(name: string, description: string): Command {
-  return new Command(name).description(description).action(() => {
-    throw new Error(`the command '${name}' was run without being loaded`);
-  });
-}
-
 /** Help to stdout; commander's errors are not printed by commander but by main, as one escaped line. */
 function output(io: Io) {
   return { writeOut: (s: string) => io.stdout(s), writeErr: (s: string) => io.stderr(s), outputError: () => {} };
@@ -68,8 +87,7 @@ function applyOverrides(cmd: Command, io: Io): void {
 export async function main(argv: string[], io: Io): Promise<number> {
   const debug = argv.includes('--debug');
   try {
-    const program = await programFor(argv, io);
-    await program.parseAsync(argv, { from: 'user' });
+    await runArgv(await programFor(argv, io), argv, io);
     return 0;
   } catch (err) {
     if (err instanceof CommanderError) {

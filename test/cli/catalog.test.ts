@@ -9,7 +9,7 @@ import { Command, Help } from 'commander';
 import { describe, expect, it, vi } from 'vitest';
 import { CATALOG, commandOf } from '../../src/cli/catalog.js';
 import { bufferIo } from '../../src/cli/io.js';
-import { buildProgram, fullProgram, main } from '../../src/cli/main.js';
+import { buildProgram, fullProgram, main, NotLoaded, runArgv } from '../../src/cli/main.js';
 
 describe('CATALOG', () => {
   it.each(CATALOG.map((c) => [c.name, c] as const))('%s: the module registers one command with the table\'s name, term and description', async (_, entry) => {
@@ -45,6 +45,8 @@ describe('commandOf(argv)', () => {
     [['--debug', 'help', 'curve'], 'curve'],
     [['rules', 'check', 'a.yaml'], 'rules'],
     [['--', 'demo'], 'demo'],
+    [['--colour', 'auto', 'flows'], 'flows'], // a value of a program option that may come one day
+    [['flws', '--events', 'flows.csv'], undefined],
     [[], undefined],
     [['--help'], undefined],
     [['--version'], undefined],
@@ -96,5 +98,22 @@ describe('main loads only the command it runs', () => {
     const o = await run('flows', '--evnts', 'x.csv');
     expect([o.code, o.loaded]).toEqual([2, ['flows']]);
     expect(o.err).toMatch(/unknown option '--evnts' \(did you mean --events\?\)/);
+  });
+});
+
+describe('when the guess misses: a program with no command loaded', () => {
+  it('stops before the listed command parses anything (so its options are not "unknown")', async () => {
+    const parsing = buildProgram(bufferIo()).parseAsync(['curve', '--alive', '1000,631'], { from: 'user' });
+    await expect(parsing).rejects.toBeInstanceOf(NotLoaded);
+    await expect(parsing).rejects.toMatchObject({ command: 'curve' });
+  });
+
+  it('runArgv loads the command commander dispatched to and runs it', async () => {
+    const io = bufferIo();
+    // Fader & Hardie (2007), regular customers, years 0–7: α 0.704, β 1.182 (test/fixtures/published-values.md)
+    await runArgv(buildProgram(io), ['curve', '--alive', '1000,631,468,382,326,289,262,241', '--format', 'json'], io);
+    const fit = JSON.parse(io.out);
+    expect(fit.alpha).toBeCloseTo(0.704, 3);
+    expect(fit.beta).toBeCloseTo(1.182, 3);
   });
 });
