@@ -1,7 +1,7 @@
 /**
- * Benchmark of the in-memory engine: generates a synthetic event log (seeded; invented data), then
- * times each stage and reports peak memory. Run: `npm run bench` (1M events) or
- * `npm run bench -- --events 10000000`.
+ * Benchmark of the command's start-up (next to bare node) and of the in-memory engine: generates a
+ * synthetic event log (seeded; invented data), then times each stage and reports peak memory. Run:
+ * `npm run bench` (builds first; 1M events) or `npm run bench -- --events 10000000 --startup-runs 21`.
  */
 import { createWriteStream, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -21,6 +21,7 @@ import { formatBytes } from '../../src/engines/memory/budget.js';
 import { buildReport } from '../../src/report/build.js';
 import { writeReport } from '../../src/report/write.js';
 import { writeFileSync } from 'node:fs';
+import { startupTimes } from './startup.js';
 
 /**
  * Report time against the number of periods: 40 members over 20 weeks and one booking P weeks
@@ -53,6 +54,8 @@ const arg = (name: string, dflt: number) => {
 const N = arg('--events', 1_000_000);
 const USERS = arg('--users', Math.max(1000, Math.round(N / 20)));
 const WEEKS = arg('--weeks', 52);
+
+startupTimes(arg('--startup-runs', 11));
 
 let peak = 0;
 const sampler = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss)), 50);
