@@ -143,3 +143,11 @@ describe('readWaist refuses', () => {
     await expectTidemarkError(() => readWaist(join(dir, 'nope')), 'FILE_NOT_FOUND');
   });
 });
+
+describe('the manifest JSON Schema', () => {
+  it('src/waist/manifest.schema.json is the schema the code exports (run `npm run schema` after changing it)', async () => {
+    const { waistManifestJsonSchema } = await import('../../src/waist/manifest.js');
+    const onDisk = JSON.parse(readFileSync(new URL('../../src/waist/manifest.schema.json', import.meta.url), 'utf8'));
+    expect(onDisk).toEqual(JSON.parse(JSON.stringify(waistManifestJsonSchema())));
+  });
+});
