@@ -3,10 +3,10 @@
  * re-exported are internal.
  *
  * @example
- * import { loadRulesFile, MemoryEngine, summariseFlows, explainRetention } from 'tidemark';
- * const rules = loadRulesFile('rules/weekly.yaml');
- * const { waist } = await new MemoryEngine().run({ files: ['events.csv'] }, rules);
- * summariseFlows(waist).transitions.at(-1)?.retention;
+ * import { resolveRules, createEngine, filesSource, analysisWaist, summariseFlows } from 'tidemark';
+ * const rules = resolveRules({ file: 'rules/weekly.yaml' });
+ * const { waist } = await createEngine('memory').run(filesSource(['events.csv']), rules);
+ * summariseFlows(analysisWaist(waist).waist.tables).transitions.at(-1)?.retention;
  */
 
 // Errors
@@ -29,8 +29,19 @@ export { columnUniqueness, perPersonColumns, checkSplitColumn, PER_PERSON_SHARE,
 export { lifecycleMoves, type LifecycleMoves, type Move } from './lifecycle/moves.js';
 
 // Engines and the waist tables
-export { MemoryEngine, runOnLog } from './engines/memory.js';
-export type { Engine, EngineResult, EventSource, RangeOptions, ClassifiedRow, LastPeriod } from './engines/types.js';
+export { MemoryEngine, runOnLog, streamClassified } from './engines/memory/index.js';
+export { createEngine, ENGINE_NAMES, type EngineName } from './engines/index.js';
+export { filesSource, type Engine, type EngineRun, type EventSource, type RangeOptions, type ClassifiedSink, type LastPeriod } from './engines/types.js';
+
+// The waist: the published contract between engines and analyses
+export { WAIST_FORMAT, WAIST_VERSION, waistManifestSchema, waistManifestJsonSchema, type WaistManifest, type StateInfo } from './waist/manifest.js';
+export type { Waist } from './waist/types.js';
+export { readWaist, parseManifest } from './waist/read.js';
+export { writeWaist, waistFiles } from './waist/write.js';
+export { analysisWaist, partialPeriodSentence, type DroppedPeriod } from './waist/derive.js';
+export { WAIST_TABLES, type TableSpec } from './waist/tables.js';
+export { makeManifest, type ManifestInput } from './waist/build.js';
+export { resolveRules, DEFAULT_RULES, type RulesChoice } from './rules/resolve.js';
 export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow } from './flows/types.js';
 
 // Flows
@@ -67,6 +78,8 @@ export { cohortSurvivors } from './curve/survivors.js';
 
 // Report
 export { buildReport, type ReportModel, type ReportOptions } from './report/build.js';
+export { reportOf, type ReportJobOptions } from './report/run.js';
+export { fitCurves, cohortCurves, CURVE_MODEL, type CurveOutput } from './curve/run.js';
 export { writeReport } from './report/write.js';
 export { STATE_COLOURS } from './report/palette.js';
 

@@ -1,19 +1,21 @@
-/** Options shared by the commands that read events. */
-import { fileURLToPath } from 'node:url';
+/** Options shared by the commands that read events or a waist. */
 import { Command, Option } from 'commander';
 import { TidemarkError, escapeControls, showValue } from '../errors.js';
-import { MemoryEngine } from '../engines/memory.js';
-import type { ClassifiedRow, EngineResult, EventSource, LastPeriod, RangeOptions } from '../engines/types.js';
+import { createEngine, ENGINE_NAMES } from '../engines/index.js';
+import { filesSource, type ClassifiedSink, type EngineRun, type EventSource, type RangeOptions } from '../engines/types.js';
 import type { RowAccount } from '../ingest/eventLog.js';
 import { periodKeyOfDate } from '../periods/calendar.js';
-import { loadRulesFile } from '../rules/load.js';
+import { DEFAULT_RULES, resolveRules as resolveRulesFile } from '../rules/resolve.js';
 import type { Rules } from '../rules/schema.js';
+import { analysisWaist, partialPeriodSentence, type DroppedPeriod } from '../waist/derive.js';
+import { readWaist } from '../waist/read.js';
+import type { Waist } from '../waist/types.js';
 import { FORMATS, terminalText, type Format } from './format.js';
 import type { Io } from './io.js';
 import { dateOption, flagError, wholeNumber } from './options.js';
 
-/** The packaged weekly rules, used when --rules is not given. */
-export const DEFAULT_RULES = fileURLToPath(new URL('../../rules/weekly.yaml', import.meta.url));
+export { DEFAULT_RULES };
+
 
 export interface CommonOptions {
   events: string[];
@@ -32,6 +34,10 @@ export interface CommonOptions {
   quiet?: boolean;
   /** Keep an incomplete last period (commands with --include-partial). */
   includePartial?: boolean;
+  /** A waist folder to read instead of events (analysis commands). */
+  waist?: string;
+  /** The engine that reads the events. */
+  engine?: string;
 }
 
 export function addFormatOptions(cmd: Command, dflt: Format): Command {
@@ -40,11 +46,17 @@ export function addFormatOptions(cmd: Command, dflt: Format): Command {
     .option('--out <file>', 'write the result to a file instead of standard output');
 }
 
+/** Add --waist: an analysis reads a waist folder instead of events. */
+export function addWaistOption(cmd: Command): Command {
+  return cmd.option('--waist <dir>', 'read a waist folder (tidemark waist, or the SQL of tidemark sql) instead of --events');
+}
+
 /** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
 export function addEventOptions(cmd: Command, withEvents = true): Command {
   // checked in sourceOf rather than as a required option, so that a misspelt option is reported as such
-  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV or NDJSON (by extension); required');
+  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV or NDJSON (by extension)');
   return cmd
+    .addOption(new Option('--engine <name>', 'the engine that reads the events').choices(ENGINE_NAMES as unknown as string[]))
     .option('--rules <file>', 'rules file (YAML); default: the packaged rules/weekly.yaml')
     .option('--from <date>', 'first period to output (YYYY-MM-DD inside it); earlier events still shape states')
     .option('--to <date>', 'last period to analyse (YYYY-MM-DD inside it); later events are ignored')
@@ -60,15 +72,7 @@ export function addEventOptions(cmd: Command, withEvents = true): Command {
 
 /** Rules from --rules (or the default), with column overrides from the command line applied. */
 export function resolveRules(o: CommonOptions): Rules {
-  const rules = loadRulesFile(o.rules ?? DEFAULT_RULES);
-  return {
-    ...rules,
-    columns: {
-      user: o.userColumn ?? rules.columns.user,
-      timestamp: o.timestampColumn ?? rules.columns.timestamp,
-      event: o.eventColumn ?? rules.columns.event,
-    },
-  };
+  return resolveRulesFile({ file: o.rules, columns: { user: o.userColumn, timestamp: o.timestampColumn, event: o.eventColumn } });
 }
 
 export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter'>): EventSource {
@@ -77,14 +81,14 @@ export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skip
   if (delimiter !== undefined && (delimiter.length !== 1 || delimiter.charCodeAt(0) > 127 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
     throw new TidemarkError('USAGE', `must be one ASCII character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' }, "For example --delimiter ';' or --delimiter '\\t'");
   }
-  return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter };
+  return filesSource(o.events, { format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter });
 }
 
 /**
  * The range options, checked before reading: --from and --to are dates, in order, --warmup a whole
  * number. Commands with --include-partial leave an incomplete last period out unless it is given.
  */
-export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup' | 'includePartial'>, rules?: Pick<Rules, 'grain' | 'weekStart'>, leaveOutPartial = false): RangeOptions {
+export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup'>, rules?: Pick<Rules, 'grain' | 'weekStart'>): RangeOptions {
   const from = dateOption(o.from, '--from');
   const to = dateOption(o.to, '--to');
   if (from !== undefined && to !== undefined && rules) {
@@ -94,7 +98,7 @@ export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup' | 'inclu
     }
   }
   const warmup = o.warmup === undefined ? undefined : wholeNumber(o.warmup, '--warmup', 0);
-  return { from, to, warmup, partial: leaveOutPartial && !o.includePartial ? 'drop' : 'keep' };
+  return { from, to, warmup };
 }
 
 export function intOption(text: string, name: string, min: number, max?: number): number {
@@ -114,72 +118,105 @@ export interface EventRun {
   flags: Record<string, string | undefined>;
 }
 
+/** Check every shared event option before any event is read. */
+export function eventRun(o: CommonOptions, rules: Rules, by?: string): EventRun {
+  const range = { ...rangeOf(o, rules), by, allowPerPersonColumn: (o as { publishPerPersonValues?: boolean }).publishPerPersonValues };
+  return { source: sourceOf(o), range, flags: rangeFlags(o, { by: by === undefined ? undefined : '--by', engine: '--engine' }) };
+}
+
+/** Run the chosen engine on checked options; a range error that needs the data names its flag. */
+export async function runEngine(o: Pick<CommonOptions, 'engine'>, run: EventRun, rules: Rules): Promise<EngineRun> {
+  try {
+    return await createEngine(o.engine).run(run.source, rules, run.range);
+  } catch (e) {
+    throw flagError(e, run.flags);
+  }
+}
+
+/** As {@link runEngine}, streaming the classification to `sink`. */
+export async function runClassifyEngine(o: Pick<CommonOptions, 'engine'>, run: EventRun, rules: Rules, sink: ClassifiedSink): Promise<EngineRun> {
+  try {
+    return await createEngine(o.engine).classify(run.source, rules, run.range, sink);
+  } catch (e) {
+    throw flagError(e, run.flags);
+  }
+}
+
+/** The event options that make no sense with --waist (the waist was made with them already). */
+const EVENT_ONLY: [keyof CommonOptions, string][] = [
+  ['events', '--events'], ['rules', '--rules'], ['from', '--from'], ['to', '--to'], ['warmup', '--warmup'],
+  ['skipBadRows', '--skip-bad-rows'], ['inputFormat', '--input-format'], ['delimiter', '--delimiter'],
+  ['userColumn', '--user-column'], ['timestampColumn', '--timestamp-column'], ['eventColumn', '--event-column'], ['engine', '--engine'],
+];
+
+/** What an analysis command reads: the waist it analyses (the incomplete last period left out or kept), and what was done. */
+export interface AnalysisInput {
+  waist: Waist;
+  /** The incomplete last period that was left out. */
+  dropped?: DroppedPeriod;
+  /** Library keys of the options, and their flags, for errors found after reading. */
+  flags: Record<string, string | undefined>;
+}
+
 /**
- * Check every shared event option before any event is read. `leaveOutPartial`: the command leaves an
- * incomplete last period out unless --include-partial is given.
+ * The waist an analysis reads, all options checked before anything is read: from --waist DIR, or
+ * made by the engine from --events. `partial`: 'drop' leaves an incomplete last period out unless
+ * --include-partial; 'keep' keeps it (flows, classify). `by`: the attribute split the command needs.
+ * Prints the row accounting, data warnings and the partial-period note on standard error.
  */
-export function eventRun(o: CommonOptions, rules: Rules, leaveOutPartial: boolean, by?: string): EventRun {
-  const range = { ...rangeOf(o, rules, leaveOutPartial), by, allowPerPersonColumn: (o as { publishPerPersonValues?: boolean }).publishPerPersonValues };
-  return { source: sourceOf(o), range, flags: rangeFlags(o, { by: by === undefined ? undefined : '--by' }) };
+export async function analysisInput(o: CommonOptions, io: Io, spec: { partial: 'drop' | 'keep'; by?: string }): Promise<AnalysisInput> {
+  const { waist: full, flags } = await waistInput(o, spec);
+  const { waist, dropped } = analysisWaist(full, { includePartial: spec.partial === 'keep' || o.includePartial });
+  noteRun(io, o, waist.manifest);
+  const s = partialPeriodSentence(waist, dropped, { leaveOut: spec.partial === 'drop', asked: Boolean(o.includePartial) });
+  if (s) note(io, o, `note: ${s.charAt(0).toLowerCase()}${s.slice(1)}`);
+  return { waist, dropped, flags };
 }
 
-/** Run the in-memory engine on checked options; a range error that needs the data names its flag. */
-export async function runEngine(run: EventRun, rules: Rules): Promise<EngineResult> {
-  try {
-    return await new MemoryEngine().run(run.source, rules, run.range);
-  } catch (e) {
-    throw flagError(e, run.flags);
+/**
+ * The waist in full form, all options checked before anything is read: from --waist DIR, or made by
+ * the chosen engine from --events. `by`: the attribute split the command needs.
+ */
+export async function waistInput(o: CommonOptions, spec: { by?: string } = {}): Promise<{ waist: Waist; flags: Record<string, string | undefined> }> {
+  if (o.waist !== undefined) {
+    const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
+    if (given.length) throw new TidemarkError('USAGE', `give either --waist or ${given.join(', ')}: a waist was made from its events and rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --waist');
+    const waist = readWaist(o.waist);
+    const m = waist.manifest;
+    if (spec.by !== undefined && m.by !== spec.by) {
+      throw new TidemarkError('USAGE', m.by === null ? `the waist holds no split by an attribute, so --by ${showValue(spec.by, 40)} needs events` : `the waist is split by '${showValue(m.by, 40)}', not '${showValue(spec.by, 40)}': another split needs events`,
+        { key: '--by' }, `Rebuild it with tidemark waist --by ${showValue(spec.by, 40)}, or give --events`);
+    }
+    return { waist, flags: {} };
   }
-}
-
-/** As {@link runEngine}, with the classified rows. */
-export async function runClassifyEngine(run: EventRun, rules: Rules): Promise<{ rows: ClassifiedRow[]; result: EngineResult }> {
-  try {
-    return await new MemoryEngine().classify(run.source, rules, run.range);
-  } catch (e) {
-    throw flagError(e, run.flags);
-  }
+  if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log or waist given', { key: '--events' }, 'For example --events events.csv, or --waist DIR');
+  const rules = resolveRules(o);
+  const run = eventRun(o, rules, spec.by);
+  return { waist: (await runEngine(o, run, rules)).waist, flags: run.flags };
 }
 
 /** The incomplete last period, as the JSON outputs report it (absent when the last period is complete). */
-export function partialJson(result: Pick<EngineResult, 'lastPeriod' | 'rows'>): { lastPeriod?: LastPeriod & { rowsLeftOut: number } } {
-  const lp = result.lastPeriod;
-  return lp.complete ? {} : { lastPeriod: { ...lp, rowsLeftOut: result.rows.partial } };
-}
-
-/**
- * One sentence on an incomplete last period: left out (with its rows), or kept and why, and how to
- * change that. `range` is what the command asked the engine for.
- */
-export function partialSentence(result: Pick<EngineResult, 'lastPeriod' | 'rows'>, range: Pick<RangeOptions, 'partial'>): string | undefined {
-  const lp = result.lastPeriod;
-  if (lp.complete) return undefined;
-  const f = (n: number) => n.toLocaleString('en-US');
-  const looks = `The last period, ${lp.label}, looks incomplete (the data stop ${(lp.coverage * 100).toFixed(0)}% of the way through it)`;
-  if (lp.leftOut) return `${looks}, so it is left out of every rate (${f(result.rows.partial)} rows); pass --include-partial to keep it.`;
-  const why = range.partial === 'drop' ? 'as too few periods would remain without it' : 'as asked';
-  return `${looks}; it is kept, ${why}, so its rates miss users who may still be active later in it.`;
-}
-
-/** The note on stderr about an incomplete last period. */
-export function notePartial(io: Io, o: { quiet?: boolean }, result: Pick<EngineResult, 'lastPeriod' | 'rows'>, range: Pick<RangeOptions, 'partial'>): void {
-  const s = partialSentence(result, range);
-  if (s) note(io, o, `note: ${s.charAt(0).toLowerCase()}${s.slice(1)}`);
+export function partialJson(input: Pick<AnalysisInput, 'waist' | 'dropped'>): { lastPeriod?: { label: string; coverage: number; complete: false; leftOut: boolean; rowsLeftOut: number } } {
+  const d = input.dropped;
+  if (d) return { lastPeriod: { label: d.label, coverage: d.coverage, complete: false, leftOut: true, rowsLeftOut: d.rows } };
+  const lp = input.waist.manifest.lastPeriod;
+  return lp.complete ? {} : { lastPeriod: { label: lp.label, coverage: lp.coverage, complete: false, leftOut: false, rowsLeftOut: 0 } };
 }
 
 /**
  * A hint for a period flag naming the incomplete last period that was left out: say so, and how to
  * keep it. `values`: library key → the flag's value.
  */
-export function periodFlagHint(result: Pick<EngineResult, 'lastPeriod'>, rules: Pick<Rules, 'grain' | 'weekStart'>, values: Record<string, string | undefined>): (e: TidemarkError) => string | undefined {
-  const lp = result.lastPeriod;
-  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
-  const lastKey = periodKeyOfDate(lp.label, scheme);
+export function periodFlagHint(input: Pick<AnalysisInput, 'waist' | 'dropped'>, values: Record<string, string | undefined>): (e: TidemarkError) => string | undefined {
+  const d = input.dropped;
+  const r = input.waist.manifest.rules;
+  const scheme = { grain: r.grain, weekStart: r.weekStart as Rules['weekStart'] };
   return (e) => {
     const v = e.where.key === undefined ? undefined : values[e.where.key.split(/[.[]/)[0]];
-    if (!lp.leftOut || v === undefined) return undefined;
-    const inLast = v.split('..').some((d) => d !== '' && periodKeyOfDate(d, scheme) === lastKey);
-    return inLast ? `${lp.label} is the incomplete last period, left out; pass --include-partial to keep it` : undefined;
+    if (!d || v === undefined) return undefined;
+    const lastKey = periodKeyOfDate(d.label, scheme);
+    const inLast = v.split('..').some((x) => x !== '' && periodKeyOfDate(x, scheme) === lastKey);
+    return inLast ? `${d.label} is the incomplete last period, left out; pass --include-partial to keep it` : undefined;
   };
 }
 
@@ -193,7 +230,7 @@ export function addPartialOption(cmd: Command): Command {
  * timestamp 4)", with the physical lines when they differ from the rows ("; lines: 1,212 read = 1 header
  * + 2 blank + 1,200 in rows + 9 in rejected rows").
  */
-export function rowLine(r: RowAccount): string {
+export function rowLine(r: Omit<RowAccount, 'lines'> & { lines?: RowAccount['lines'] }): string {
   const f = (n: number) => n.toLocaleString('en-US');
   const rejected = Object.entries(r.rejected);
   const nRej = rejected.reduce((a, [, n]) => a + (n ?? 0), 0);
@@ -215,7 +252,7 @@ export function note(io: Io, o: { quiet?: boolean }, text: string): void {
 }
 
 /** After an engine run: the row accounting (unless --quiet), then each data warning (always), on standard error. */
-export function noteRun(io: Io, o: { quiet?: boolean }, r: Pick<EngineResult, 'rows' | 'warnings'>): void {
+export function noteRun(io: Io, o: { quiet?: boolean }, r: { rows: Parameters<typeof rowLine>[0]; warnings: readonly string[] }): void {
   note(io, o, rowLine(r.rows));
   for (const w of r.warnings) io.stderr(`warning: ${escapeControls(w)}\n`);
 }

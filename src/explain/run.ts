@@ -20,6 +20,8 @@ export interface ExplainOptions {
   minCell: number;
   /** False discovery rate for the significance flags; default 0.05. */
   q?: number;
+  /** Plural nouns for the states in sentences (the waist's state labels); default the base states' own. */
+  stateLabels?: Readonly<Record<string, string>>;
 }
 
 export interface GroupRow {
@@ -116,13 +118,13 @@ export function explainRetention(w: WaistTables, o: ExplainOptions): ExplainOutp
   const byStateCells = collapseCells(w.tenureCells, 'state');
   const opts = { base, compare };
   const main = decomposeRetention(byStateCells, { ...opts, by: 'state' });
-  const sentence = decompositionSentence(main, { grain: o.grainWord });
+  const sentence = decompositionSentence(main, { grain: o.grainWord, labels: o.stateLabels });
   const tenure = decomposeRetention(w.tenureCells, { ...opts, by: 'segment' });
   const labelsTenure = Object.fromEntries(tenure.groups.map((g) => [g.key, `tenure ${g.key} members`]));
   const out: ExplainOutput = {
     base,
     compare,
-    definition: 'Retention into P is the share of users in an active state (fresh, engaged, returned) in the period before P who are active in P.',
+    definition: `Retention into P is the share of users in an active state (${w.activeStates.join(', ')}) in the period before P who are active in P.`,
     overall: { base: main.base, compare: main.compare, change: main.change },
     rateEffect: main.rateEffect,
     mixEffect: main.mixEffect,

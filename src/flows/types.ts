@@ -47,6 +47,11 @@ export interface CohortRow {
    * Filled for cohorts observed over at most {@link WINDOW_MAX_AGE} ages; absent beyond.
    */
   windowActive?: number[][];
+  /**
+   * lastActiveAgeBeforeFinal[k]: members whose last active age up to A − 1 is k (length A). Only in a
+   * waist's full form, so that leaving out an incomplete last period stays exact (src/waist/derive.ts).
+   */
+  lastActiveAgeBeforeFinal?: number[];
 }
 
 /** Oldest age for which engines fill CohortRow.windowActive (it grows with the square of the ages). */
@@ -56,6 +61,8 @@ export const WINDOW_MAX_AGE = 60;
 export interface DurationRow {
   /** Group label ('' when ungrouped; the cohort label when grouped by cohort). */
   group: string;
+  /** The users' first active period; only in a waist's full form (src/waist/derive.ts merges it away). */
+  cohort?: string;
   /** Periods from first active to first dormant (observed) or to the end of the data (censored). */
   duration: number;
   /** 1 when the user reached dormant, 0 when right-censored. */
@@ -65,8 +72,12 @@ export interface DurationRow {
 
 export interface WaistTables {
   states: string[];
-  /** The states that mean "active in this period" (default: fresh, engaged, returned). */
+  /** The states that mean "active in this period" (they come first in `states`). */
   activeStates: string[];
+  /** The state new users arrive in (their first active period). */
+  arrivalState: string;
+  /** The state of users gone quiet for longer than the lapse limit. */
+  exitState: string;
   /** All analysis periods in order. */
   periods: string[];
   /** Number of leading periods that are warm-up: classified, but left out of flows and retention. */

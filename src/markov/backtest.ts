@@ -35,7 +35,7 @@ export interface BacktestOptions extends Pick<BandOptions, 'prior' | 'allowed'> 
   maxOrigins?: number;
   /** Band percentiles [lo, hi] (default [10, 90]). */
   band?: [number, number];
-  /** The state new users arrive in (default 'fresh'). */
+  /** The state new users arrive in (default: the tables' arrival state). */
   freshState?: string;
 }
 
@@ -74,7 +74,7 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
     throw new TidemarkError('INPUT_INVALID', `band must be [lo, hi] with 0 ≤ lo < hi ≤ 100 (got [${band.join(', ')}])`, { key: 'band' });
   }
   const { transitions, periods, stateCounts, states } = tables;
-  const fi = freshIndex(states, options.freshState);
+  const fi = freshIndex(states, options.freshState ?? tables.arrivalState);
   const S = states.length;
   // prefix sums over the transitions (each checked once): the counts pooled over lo..k are
   // cum[k + 1] − cum[lo], so each origin's fit costs states², not the number of transitions before it

@@ -13,6 +13,7 @@ import { project } from './project.js';
 import { stationary, type Stationary } from './stationary.js';
 import { validateModel } from './validate.js';
 import { whatIf, type MoveRules, type WhatIf } from './whatif.js';
+import { baseState } from '../lifecycle/states.js';
 
 type Counts = Record<string, number>;
 
@@ -104,9 +105,9 @@ export function computeProjection(input: { tables: WaistTables } | { doc: unknow
     source = { kind: 'matrix', file: input.file };
   }
   if (o.inflow !== undefined) {
-    const fi = states.indexOf('fresh');
+    const fi = states.indexOf('tables' in input ? input.tables.arrivalState : baseState('arrival'));
     const into = fi >= 0 ? fi : inflow.findIndex((v) => v > 0);
-    if (into < 0) throw new TidemarkError('INPUT_INVALID', 'a new-user inflow needs a state that new users arrive in: the model has no fresh state and no inflow', { key: 'inflow' });
+    if (into < 0) throw new TidemarkError('INPUT_INVALID', 'a new-user inflow needs a state that new users arrive in: the model has no arrival state and no inflow', { key: 'inflow' });
     inflow = states.map((_, i) => (i === into ? o.inflow! : 0));
   }
   const chain = { states, matrix };

@@ -2,14 +2,14 @@
  * The Monday report's content: every analysis run on one set of waist tables, turned into findings,
  * charts and data tables. Pure: no I/O (see write.ts for the files).
  */
-import type { EngineResult } from '../engines/types.js';
 import { showValue } from '../errors.js';
 import { cohortReport, type CohortsOutput } from '../explain/cohortReport.js';
 import { explainRetention, type ExplainOutput } from '../explain/run.js';
 import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
 import { computeProjection, type ProjectOutput } from '../markov/run.js';
 import { GRAIN_NOUN } from '../periods/calendar.js';
-import type { Rules } from '../rules/schema.js';
+import type { Waist } from '../waist/types.js';
+import { stateLabelsOf, type StateInfo } from '../waist/manifest.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../survival/run.js';
 import { cohortTriangleChart } from './charts/cohortTriangle.js';
 import { decompositionChart } from './charts/decomposition.js';
@@ -20,6 +20,7 @@ import { retentionBands } from './charts/retentionBands.js';
 import { stateMix } from './charts/stateMix.js';
 import { survivalChart } from './charts/survival.js';
 import type { Chart, DataTable } from './charts/types.js';
+import { stateColours } from './palette.js';
 
 export interface ReportOptions {
   /** Chosen comparison for the decomposition: periods retained into. Default: latest against `lookback` earlier. */
@@ -43,13 +44,15 @@ export interface Finding {
 }
 
 export interface ReportModel {
+  /** The states of the rules, with roles, labels, colours and definitions (the waist's manifest). */
+  states: StateInfo[];
   title: string;
   subtitle: string;
   grainWord: string;
   rules: { name?: string; version?: string; grain: string; timezone: string; lapseLimit: number; minEvents: number; keyEvents: string[] | null };
   periods: { first: string; last: string; count: number };
   users: number;
-  rows: EngineResult['rows'];
+  rows: Waist['manifest']['rows'];
   findings: Finding[];
   warnings: string[];
   cautions: string[];
@@ -79,9 +82,13 @@ export const CAUTIONS = [
 ];
 
 /** Build the report from one engine run. */
-export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions = {}): ReportModel {
-  const w = result.waist;
+export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
+  const w = waist.tables;
+  const m = waist.manifest;
+  const rules = m.rules;
+  const result = { rows: m.rows, lastPeriod: m.lastPeriod, warnings: m.warnings, events: m.events, users: m.users };
   const grainWord = GRAIN_NOUN[rules.grain];
+  const stateLabels = stateLabelsOf(m.states);
   const oneGrain = `one-${grainWord}`;
   const flows: FlowsSummary = summariseFlows(w);
   const charts: Chart[] = [];
@@ -98,7 +105,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
 
   // flows
   if (last) {
-    charts.push(flowRibbons({ states: w.states, from: last.from, to: last.to, counts: last.counts, fresh: last.fresh }));
+    charts.push(flowRibbons({ states: w.states, from: last.from, to: last.to, counts: last.counts, fresh: last.fresh, arrival: w.arrivalState, colours: stateColours(w.states, m.states) }));
     const moves: { from: string; to: string; n: number; share: number }[] = [];
     w.states.forEach((a, i) => w.states.forEach((b, j) => {
       const n = last.counts[i][j];
@@ -114,12 +121,12 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
     const small = w.states.filter((_, i) => last.counts[i].reduce((a, b) => a + b, 0) > 0 && last.counts[i].reduce((a, b) => a + b, 0) < rules.minCell);
     if (small.length) warnings.push(`Small cells: in the latest transition, ${small.join(', ')} had fewer than ${rules.minCell} users; their rates are shown faded and should not be read alone.`);
   }
-  charts.push(stateMix(w.states, w.periods, w.stateCounts, grainWord));
-  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell));
+  charts.push(stateMix(w.states, w.periods, w.stateCounts, grainWord, w.activeStates, stateColours(w.states, m.states)));
+  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell, stateColours(w.activeStates, m.states)));
 
   // explanation: latest change, and the chosen comparison
   if (flows.transitions.length >= 2) {
-    const latest: ExplainOutput = explainRetention(w, { grainWord: oneGrain, minCell: rules.minCell });
+    const latest: ExplainOutput = explainRetention(w, { grainWord: oneGrain, minCell: rules.minCell, stateLabels });
     documents.push({ name: 'explain-latest', value: latest });
     const sig = latest.changes.filter((c) => c.significant && c.change !== null);
     findings.push({
@@ -133,7 +140,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
     const compare = o.compare ?? into[into.length - 1];
     const base = o.base ?? into[Math.max(0, into.indexOf(compare) - 4)];
     if (base !== latest.base || compare !== latest.compare) {
-      const chosen = explainRetention(w, { base, compare, grainWord: oneGrain, minCell: rules.minCell });
+      const chosen = explainRetention(w, { base, compare, grainWord: oneGrain, minCell: rules.minCell, stateLabels });
       documents.push({ name: 'explain-chosen', value: chosen });
       charts.push(decompositionChart(chosen, 'decomposition-chosen', `${chosen.base} to ${chosen.compare}`));
       findings.push({ kind: 'decomposition', text: `${chosen.sentence.replace(/\.$/, '')} (retention into ${chosen.compare} against ${chosen.base}).` });
@@ -167,7 +174,7 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
     const fit = o.fit ?? String(Math.min(8, flows.transitions.length));
     const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4, backtestOrigins: REPORT_BACKTEST_ORIGINS });
     documents.push({ name: 'projection', value: proj });
-    charts.push(projectionChart(proj, grainWord));
+    charts.push(projectionChart(proj, grainWord, w.activeStates, stateColours(proj.states, m.states)));
     const end = proj.projection[horizon];
     const mix = proj.states.map((s) => `${s} ${p1(end.shares[s])}${end.bands ? ` (${p1(end.bands.shares[s][0])}–${p1(end.bands.shares[s][1])})` : ''}`).join(', ');
     findings.push({ kind: 'projection', text: `If the flows of the last ${proj.source.kind === 'events' ? proj.source.fit.transitions : ''} ${grainWord}s hold, in ${horizon} ${grainWord}s the mix is ${mix}; 10th–90th percentile bands.` });
@@ -204,10 +211,11 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   });
 
   return {
+    states: m.states,
     title: `Lifecycle report, ${w.periods[0]} to ${w.periods[w.periods.length - 1]}`,
     subtitle: `${n0(result.users)} users, ${w.periods.length} ${grainWord}s, rules ${rules.name ?? 'unnamed'}${rules.version ? ` v${rules.version}` : ''} (${rules.timezone}, lapse limit ${rules.lapseLimit})`,
     grainWord,
-    rules: { name: rules.name, version: rules.version, grain: rules.grain, timezone: rules.timezone, lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents, keyEvents: rules.activity.keyEvents ?? null },
+    rules: { name: rules.name ?? undefined, version: rules.version ?? undefined, grain: rules.grain, timezone: rules.timezone, lapseLimit: rules.lapseLimit, minEvents: rules.minEvents, keyEvents: rules.keyEvents },
     periods: { first: w.periods[0], last: w.periods[w.periods.length - 1], count: w.periods.length },
     users: result.users,
     rows: result.rows,

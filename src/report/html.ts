@@ -6,7 +6,6 @@
 import type { ReportModel } from './build.js';
 import { displayCell, type DataTable } from './charts/types.js';
 import { escapeHtml as e, escapeShort } from './escape.js';
-import { STATE_COLOURS } from './palette.js';
 
 const CSS = `
 :root { --ink: #1b2733; --muted: #5b6875; --line: #dde3ea; --paper: #ffffff; --wash: #f4f7fb; --warn: #8a4b12; --warnbg: #fff4e5; }
@@ -64,9 +63,16 @@ function svgWidth(svg: string): number {
   return m ? Math.round(Number(m[1])) : 600;
 }
 
+/** "lapsing for up to 2 inactive weeks, then dormant", from the states' roles. */
+function exitAfter(m: ReportModel): string {
+  const lapse = m.states.find((s) => s.role === 'lapse')!.name;
+  const exit = m.states.find((s) => s.role === 'exit')!.name;
+  return `${lapse} for up to ${m.rules.lapseLimit} inactive ${m.grainWord}s, then ${exit}`;
+}
+
 /** The page; `svgs[i]` is the rendered SVG of `model.charts[i]`. */
 export function reportHtml(m: ReportModel, svgs: string[], generatedAt: string): string {
-  const legend = Object.entries(STATE_COLOURS).map(([s, c]) => `<li style="--c:${c}">${e(s)}</li>`).join('');
+  const legend = m.states.map((s) => `<li style="--c:${s.colour}">${e(s.name)}</li>`).join('');
   const charts = m.charts.map((c, i) => `
 <figure class="chart" id="${e(c.id)}">
 <div class="plot" role="img" aria-label="${e(c.title)}" style="--w:${svgWidth(svgs[i])}">${svgs[i]}</div>
@@ -107,10 +113,10 @@ ${tables}
 <section id="about">
 <h2>About these numbers</h2>
 <dl class="meta">
-<dt>rules</dt><dd>${e(m.rules.name ?? 'unnamed')}${m.rules.version ? ` v${e(m.rules.version)}` : ''}: ${e(m.rules.grain)} periods in ${e(m.rules.timezone)}; active = at least ${m.rules.minEvents} ${m.rules.keyEvents ? `of ${m.rules.keyEvents.map((k) => escapeShort(k, 40)).join(', ')}` : 'event(s) of any kind'}; lapsing for up to ${m.rules.lapseLimit} inactive ${e(m.grainWord)}s, then dormant</dd>
+<dt>rules</dt><dd>${e(m.rules.name ?? 'unnamed')}${m.rules.version ? ` v${e(m.rules.version)}` : ''}: ${e(m.rules.grain)} periods in ${e(m.rules.timezone)}; active = at least ${m.rules.minEvents} ${m.rules.keyEvents ? `of ${m.rules.keyEvents.map((k) => escapeShort(k, 40)).join(', ')}` : 'event(s) of any kind'}; ${e(exitAfter(m))}</dd>
 <dt>periods</dt><dd>${e(m.periods.first)} to ${e(m.periods.last)} (${m.periods.count}), labelled by start date</dd>
 <dt>rows</dt><dd>${r.read.toLocaleString('en-US')} read, ${r.used.toLocaleString('en-US')} used, ${r.notKeyEvent.toLocaleString('en-US')} not key events, ${r.afterRange.toLocaleString('en-US')} after the range${r.partial ? `, ${r.partial.toLocaleString('en-US')} in the incomplete last period (left out)` : ''}; rejected: ${rejected}</dd>
-<dt>states</dt><dd>fresh: first active ${e(m.grainWord)}; engaged: active this and the last ${e(m.grainWord)}; returned: active again after a quiet spell; lapsing: quiet for up to ${m.rules.lapseLimit} ${e(m.grainWord)}s; dormant: quiet for longer</dd>
+<dt>states</dt><dd>${m.states.map((s) => `${e(s.name)}: ${e(s.definition)}`).join('; ')}</dd>
 </dl>
 </section>
 </main>

@@ -1,7 +1,7 @@
 /**
- * Benchmark of the in-memory engine: generates a synthetic event log (seeded; invented data), then
- * times each stage and reports peak memory. Run: `npm run bench` (1M events) or
- * `npm run bench -- --events 10000000`.
+ * Benchmark of the command's start-up (next to bare node) and of the in-memory engine: generates a
+ * synthetic event log (seeded; invented data), then times each stage and reports peak memory. Run:
+ * `npm run bench` (builds first; 1M events) or `npm run bench -- --events 10000000 --startup-runs 21`.
  */
 import { createWriteStream, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -11,16 +11,17 @@ import { readEvents } from '../../src/ingest/read.js';
 import { activePeriods } from '../../src/lifecycle/activity.js';
 import { classify } from '../../src/lifecycle/classify.js';
 import { compilePlan } from '../../src/lifecycle/plan.js';
-import { aggregate } from '../../src/flows/aggregate.js';
-import { runOnLog } from '../../src/engines/memory.js';
+import { aggregate } from '../../src/engines/memory/aggregate.js';
+import { runOnLog } from '../../src/engines/memory/index.js';
 import { summariseFlows } from '../../src/flows/summary.js';
 import { mulberry32 } from '../../src/markov/random.js';
 import { parseRules } from '../../src/rules/load.js';
 import { periodLabel } from '../../src/periods/calendar.js';
-import { formatBytes } from '../../src/engines/budget.js';
+import { formatBytes } from '../../src/engines/memory/budget.js';
 import { buildReport } from '../../src/report/build.js';
 import { writeReport } from '../../src/report/write.js';
 import { writeFileSync } from 'node:fs';
+import { startupTimes } from './startup.js';
 
 /**
  * Report time against the number of periods: 40 members over 20 weeks and one booking P weeks
@@ -38,7 +39,7 @@ async function reportScaling(dir: string): Promise<void> {
     writeFileSync(file, ['user_id,timestamp,event', ...bulk, `m3,${new Date(end - P * 604_800_000).toISOString()},booking_made`].join('\n'));
     const log = await readEvents([file], { rules });
     const t = performance.now();
-    const model = buildReport(runOnLog(log, rules).result, rules);
+    const model = buildReport(runOnLog(log, rules).waist);
     await writeReport(model, join(dir, `report-${P}`), 'bench');
     const took = (performance.now() - t) / 1000;
     console.log(`report over ${P.toLocaleString('en-US').padStart(5)} weeks  ${took.toFixed(2)} s${before ? `  (×${(took / before).toFixed(1)} for ×2 periods)` : ''}`);
@@ -53,6 +54,8 @@ const arg = (name: string, dflt: number) => {
 const N = arg('--events', 1_000_000);
 const USERS = arg('--users', Math.max(1000, Math.round(N / 20)));
 const WEEKS = arg('--weeks', 52);
+
+startupTimes(arg('--startup-runs', 11));
 
 let peak = 0;
 const sampler = setInterval(() => (peak = Math.max(peak, process.memoryUsage().rss)), 50);
@@ -95,7 +98,8 @@ try {
   const log = await readEvents([file], { rules });
   const cpuRead = process.cpuUsage(cpu0);
   const t1 = performance.now();
-  const { result, classified, footprint } = runOnLog(log, rules);
+  const { waist, classified, footprint } = runOnLog(log, rules);
+  const result = { waist: waist.tables };
   const t2 = performance.now();
   summariseFlows(result.waist);
   const t3 = performance.now();
@@ -111,7 +115,7 @@ try {
   const c = classify(act, plan, log.users.length, 0);
   const tCls = performance.now() - s;
   s = performance.now();
-  aggregate(c, { states: plan.states, activeCount: 3, labels: Array.from({ length: span }, (_, i) => periodLabel(minKey + i, log.scheme)), outStart: 0, warmup: 0, tenureBands: rules.tenureBands });
+  aggregate(c, { states: plan.states, activeCount: 3, arrivalState: plan.states[0], exitState: plan.states[plan.states.length - 1], labels: Array.from({ length: span }, (_, i) => periodLabel(minKey + i, log.scheme)), outStart: 0, warmup: 0, tenureBands: rules.tenureBands });
   const tAgg = performance.now() - s;
   clearInterval(sampler);
   const secs = (a: number, b: number) => `${((b - a) / 1000).toFixed(2)} s`;

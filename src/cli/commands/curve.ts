@@ -1,10 +1,10 @@
 /** `tidemark curve`: shifted-beta-geometric fit of a cohort's survivors, and its projection. */
 import type { Command } from 'commander';
-import { checkSurvivors, fitSbg, MIN_FIT_AGES, type SbgFit } from '../../curve/sbg.js';
+import { checkSurvivors, MIN_FIT_AGES, type SbgFit } from '../../curve/sbg.js';
+import { cohortCurves, fitCurves, type CurveOutput } from '../../curve/run.js';
 import { TidemarkError, showValue } from '../../errors.js';
-import { cohortSurvivors } from '../../curve/survivors.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
-import { wholeNumber } from '../options.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, type CommonOptions } from '../common.js';
+import { asFlags, wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -15,11 +15,7 @@ export interface CurveCliOptions extends Omit<CommonOptions, 'events'> {
   minSize: string;
 }
 
-export interface CurveOutput {
-  model: string;
-  fits: ({ cohort: string; survivors: number[] } & Omit<SbgFit, 'projection'> & { projection: { t: number; survival: number }[] })[];
-  skipped: { cohort: string; reason: string }[];
-}
+export type { CurveOutput };
 
 /** Longest projection of a curve, in periods. */
 export const MAX_CURVE_HORIZON = 1000;
@@ -69,41 +65,17 @@ export function aliveOption(text: string): number[] {
 export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {
   const horizon = wholeNumber(o.horizon, '--horizon', 0, MAX_CURVE_HORIZON);
   const minSize = wholeNumber(o.minSize, '--min-size', 1);
-  const model = 'shifted-beta-geometric (Fader & Hardie 2007)';
-  let inputs: { cohort: string; survivors: number[] }[];
+  let out: CurveOutput;
   let extra: object = {};
   if (o.alive !== undefined) {
-    if (o.events) throw new TidemarkError('USAGE', 'give either --alive or --events, not both', { key: '--alive' });
-    inputs = [{ cohort: 'given', survivors: aliveOption(o.alive) }];
+    if (o.events || o.waist) throw new TidemarkError('USAGE', `give either --alive or ${o.events ? '--events' : '--waist'}, not both`, { key: '--alive' });
+    out = fitCurves([{ cohort: 'given', survivors: aliveOption(o.alive) }], { horizon, minSize, given: true });
   } else {
-    if (!o.events) throw new TidemarkError('USAGE', 'give --alive n0,n1,… or --events', { key: '--alive' }, 'See tidemark curve --help');
-    const rules = resolveRules(o as CommonOptions);
-    const run = eventRun(o as CommonOptions, rules, true);
-    const r = await runEngine(run, rules);
-    noteRun(io, o, r);
-    notePartial(io, o, r, run.range);
-    extra = partialJson(r);
-    inputs = cohortSurvivors(r.waist, rules.lapseLimit);
+    if (!o.events && !o.waist) throw new TidemarkError('USAGE', 'give --alive n0,n1,…, --events or --waist', { key: '--alive' }, 'See tidemark curve --help');
+    const input = await analysisInput(o as CommonOptions, io, { partial: 'drop' });
+    extra = partialJson(input);
+    out = asFlags(() => cohortCurves(input.waist.tables, input.waist.manifest.rules.lapseLimit, { horizon, minSize }), {});
   }
-  const out: CurveOutput = { model, fits: [], skipped: [] };
-  for (const { cohort, survivors } of inputs) {
-    if (!o.alive && survivors.length < MIN_FIT_AGES) {
-      out.skipped.push({ cohort, reason: `observed over ${survivors.length} ages, too few to fit` });
-      continue;
-    }
-    if (!o.alive && survivors[0] < minSize) {
-      out.skipped.push({ cohort, reason: `${survivors[0]} members, fewer than --min-size ${minSize}` });
-      continue;
-    }
-    try {
-      const fit = fitSbg(survivors, { horizon: Math.max(horizon, survivors.length - 1) });
-      out.fits.push({ cohort, survivors, ...fit });
-    } catch (e) {
-      if (o.alive || !(e instanceof TidemarkError) || e.code !== 'NOT_ENOUGH_DATA') throw e;
-      out.skipped.push({ cohort, reason: e.message });
-    }
-  }
-  if (out.fits.length === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'no cohort could be fitted', {}, out.skipped[0]?.reason);
   emit(formatCurve(out, o.format, extra), o.out, io);
 }
 
@@ -115,6 +87,6 @@ export function curveCommand(program: Command, io: Io): void {
     .option('--events <files...>', 'fit every acquisition cohort from events instead')
     .option('--horizon <n>', `last age to project to (0 to ${MAX_CURVE_HORIZON})`, '12')
     .option('--min-size <n>', 'with --events: skip cohorts smaller than this', '30');
-  addPartialOption(addEventOptions(cmd, false));
+  addPartialOption(addEventOptions(addWaistOption(cmd), false));
   addFormatOptions(cmd, 'table').action((opts: CurveCliOptions) => runCurve(opts, io));
 }

@@ -7,17 +7,20 @@ import type { Command } from 'commander';
 import { CHANGE_WEEK, DEMO_START, PROMO_WEEK, simulateMakerspace } from '../../demo/makerspace.js';
 import { explainRetention } from '../../explain/run.js';
 import { computeProjection } from '../../markov/run.js';
-import { buildReport } from '../../report/build.js';
+import { reportOf } from '../../report/run.js';
 import { writeReport } from '../../report/write.js';
-import { loadRulesFile } from '../../rules/load.js';
-import { DEFAULT_RULES, intOption, rowLine } from '../common.js';
+import { createEngine } from '../../engines/index.js';
+import { filesSource } from '../../engines/types.js';
+import { resolveRules } from '../../rules/resolve.js';
+import { intOption, rowLine } from '../common.js';
 import { csvField, terminalText } from '../format.js';
 import { writeFileAtomic } from '../../output/atomic.js';
 import type { Io } from '../io.js';
 import { formatExplain } from './explain.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
 import { formatProjection } from './project.js';
-import { headline, reportRun } from './report.js';
+import { headline } from './report.js';
+import { stateLabelsOf, stateWithRole } from '../../waist/manifest.js';
 
 export interface DemoOptions {
   out: string;
@@ -37,17 +40,18 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   writeFileAtomic(eventsFile, `${lines.join('\n')}\n`);
   io.stderr(terminalText(`demo: ${members.toLocaleString('en-US')} members, ${events.toLocaleString('en-US')} events of a fictional makerspace → ${eventsFile}\n`));
 
-  const rules = loadRulesFile(DEFAULT_RULES);
+  const rules = resolveRules();
   const base = weekLabel(CHANGE_WEEK - 1); // retention into the week before the change
   const compare = weekLabel(PROMO_WEEK + 1); // retention into the week after the promotion
-  const { result, dropped } = await reportRun({ events: [eventsFile], by: 'channel' }, rules);
-  io.stderr(`${rowLine(result.rows)}\n`);
-  const model = buildReport(result, rules, { base, compare, droppedPartial: dropped });
+  const { waist: full } = await createEngine('memory').run(filesSource([eventsFile]), rules, { by: 'channel' });
+  const { model, waist } = reportOf(full, { base, compare });
+  io.stderr(`${rowLine(waist.manifest.rows)}\n`);
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 
-  const explained = explainRetention(result.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
-  const projection = computeProjection({ tables: result.waist }, { fit: '8', horizon: 12, whatIf: ['lapsing->dormant*0.8'], until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
+  const explained = explainRetention(waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell, stateLabels: stateLabelsOf(waist.manifest.states) });
+  const [lapse, exit] = [stateWithRole(waist.manifest.states, 'lapse'), stateWithRole(waist.manifest.states, 'exit')];
+  const projection = computeProjection({ tables: waist.tables }, { fit: '8', horizon: 12, whatIf: [`${lapse}->${exit}*0.8`], until: exit, samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
   const colour = Boolean(io.stdoutIsTTY);
   io.stdout([
     headline(model, colour),

@@ -7,10 +7,10 @@ import { Option, type Command } from 'commander';
 import { TidemarkError, inFile } from '../../errors.js';
 import { selectTransitions } from '../../flows/select.js';
 import { lifecycleMoves } from '../../lifecycle/moves.js';
-import { STATES } from '../../lifecycle/states.js';
+import { stateNames, type StateSplit } from '../../lifecycle/states.js';
 import { computeProjection, type ProjectionOptions, type ProjectOutput } from '../../markov/run.js';
 import { validateModel } from '../../markov/validate.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, periodFlagHint, resolveRules, type CommonOptions } from '../common.js';
 import { asFlags, countNumber, parseBand, seedOption, selectionOption, stateOption, whatIfOption, wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -137,19 +137,26 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
       throw e instanceof TidemarkError && e.code === 'USAGE' ? e : inFile(e, o.matrix);
     }
   } else {
-    if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --matrix', { key: '--events' }, 'See tidemark project --help');
-    const rules = resolveRules(o as CommonOptions);
-    const moves = lifecycleMoves(rules);
-    if (o.until !== undefined) stateOption(o.until, '--until', STATES);
-    whatIfOption(o.whatIf, '--what-if', STATES, moves);
-    const run = eventRun(o as CommonOptions, rules, true);
-    const r = await runEngine(run, rules);
-    noteRun(io, o, r);
-    notePartial(io, o, r, run.range);
-    const hint = periodFlagHint(r, rules, { range: common.fit });
+    if (!o.events && !o.waist) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist or --matrix', { key: '--events' }, 'See tidemark project --help');
+    // options that name states and moves are checked before any event is read: against the rules
+    // file with --events, against the waist's manifest with --waist
+    const checkStates = (rules: { lapseLimit: number; splits?: StateSplit[] }, states: readonly string[]) => {
+      const moves = lifecycleMoves(rules);
+      if (o.until !== undefined) stateOption(o.until, '--until', states);
+      whatIfOption(o.whatIf, '--what-if', states, moves);
+      return moves;
+    };
+    const early = o.events ? (() => {
+      const r = resolveRules(o as CommonOptions);
+      return checkStates(r, stateNames(r));
+    })() : undefined;
+    const input = await analysisInput(o as CommonOptions, io, { partial: 'drop' });
+    const t = input.waist.tables;
+    const moves = early ?? checkStates(input.waist.manifest.rules, t.states);
+    const hint = periodFlagHint(input, { range: common.fit });
     // --fit against the data: N at most the transitions there are, labels that are periods of the data
-    if (r.waist.transitions.length > 0) asFlags(() => selectTransitions(r.waist, selectionOption(common.fit, '--fit')), { range: '--fit' }, hint);
-    result = { ...asFlags(() => computeProjection({ tables: r.waist }, { ...common, moves }), PROJECTION_FLAGS, hint), ...partialJson(r) };
+    if (t.transitions.length > 0) asFlags(() => selectTransitions(t, selectionOption(common.fit, '--fit')), { range: '--fit' }, hint);
+    result = { ...asFlags(() => computeProjection({ tables: t }, { ...common, moves }), PROJECTION_FLAGS, hint), ...partialJson(input) };
   }
   emit(formatProjection(result, o.format), o.out, io);
 }
@@ -170,6 +177,6 @@ export function projectCommand(program: Command, io: Io): void {
     .addOption(new Option('--no-backtest', 'skip the backtest'))
     .option('--backtest-horizon <n>', 'periods ahead scored in the backtest', '4');
   cmd.option('--events <files...>', 'event log(s): CSV or NDJSON');
-  addPartialOption(addEventOptions(cmd, false));
+  addPartialOption(addEventOptions(addWaistOption(cmd), false));
   addFormatOptions(cmd, 'table').action((opts: ProjectOptions) => runProject(opts, io));
 }

@@ -1,12 +1,11 @@
 /** `tidemark report`: the Monday report — one self-contained HTML page, Markdown, and data files. */
 import type { Command } from 'commander';
-import type { EngineResult } from '../../engines/types.js';
-import { buildReport, type ReportModel } from '../../report/build.js';
+import type { ReportModel } from '../../report/build.js';
+import { reportOf } from '../../report/run.js';
+import { analysisWaist } from '../../waist/derive.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
-import { STATES } from '../../lifecycle/states.js';
-import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addPartialOption, eventRun, note, noteRun, partialSentence, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addPartialOption, addWaistOption, note, noteRun, periodFlagHint, waistInput, type CommonOptions } from '../common.js';
 import { asFlags, dateOption, seedOption, wholeNumber } from '../options.js';
 import { MAX_HORIZON } from './project.js';
 import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
@@ -26,23 +25,9 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
   generatedAt?: string;
 }
 
-/** What a report run reads: the event source and range options, an attribute to split by, and whether to keep a partial last period. */
-export type ReportRunOptions = Pick<CommonOptions, 'events' | 'from' | 'to' | 'warmup' | 'skipBadRows' | 'inputFormat' | 'delimiter' | 'userColumn' | 'timestampColumn' | 'eventColumn'> & PerPersonOption & { by?: string; includePartial?: boolean };
-
-/**
- * The engine run the report reads, reading the input once: an incomplete last period is left out by
- * the engine (unless --include-partial), and `dropped` says so (or why it was kept).
- */
-export async function reportRun(o: ReportRunOptions, rules: Rules, onStage?: (label: string) => void): Promise<{ result: EngineResult; dropped?: string }> {
-  const run = eventRun({ format: 'table', ...o } as CommonOptions, rules, true, o.by);
-  onStage?.('reading and classifying');
-  const result = await runEngine(run, rules);
-  return { result, dropped: partialSentence(result, run.range) };
-}
-
 /** Headline findings for the terminal, with state names in their report colours on a colour terminal. */
 export function headline(m: ReportModel, colour: boolean): string {
-  const paint = (t: string) => (colour ? STATES.reduce((acc, s) => acc.replace(new RegExp(`\\b${s}\\b`, 'g'), ansiState(s, s, true)), t) : t);
+  const paint = (t: string) => (colour ? m.states.reduce((acc, s) => acc.replace(new RegExp(`\\b${s.name}\\b`, 'g'), ansiState(s.name, s.name, true, m.states)), t) : t);
   const lines = [m.title, m.subtitle, '', ...m.findings.map((f) => `* ${f.text}`)];
   if (m.warnings.length) lines.push('', ...m.warnings.map((w) => `! ${w}`));
   // escape and wrap first (data never drives the terminal), then colour the state names
@@ -56,21 +41,21 @@ export function formatHeadline(m: ReportModel, format: Format, colour: boolean, 
 }
 
 export async function runReport(o: ReportCliOptions & { format: Format }, io: Io & { stdoutIsTTY?: boolean }): Promise<void> {
-  const rules = resolveRules(o as CommonOptions);
   const base = dateOption(o.base, '--base');
   const compare = dateOption(o.compare, '--compare');
   const horizon = wholeNumber(o.horizon, '--horizon', 1, MAX_HORIZON);
   const seed = seedOption(o.seed);
   const bar = progress(io, o.format !== 'json', 4);
-  let stage = 0;
   try {
-    const { result, dropped } = await reportRun(o, rules, (label) => bar.step(label, stage++));
+    bar.step('reading and classifying', 0);
+    const { waist: full, flags } = await waistInput(o as CommonOptions, { by: o.by });
     bar.step('analysing', 2);
-    const model = asFlags(() => buildReport(result, rules, { base, compare, horizon, seed, droppedPartial: dropped }), { base: '--base', compare: '--compare' }, periodFlagHint(result, rules, { base, compare }));
+    const hint = periodFlagHint(analysisWaist(full, { includePartial: o.includePartial }), { base, compare });
+    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial }), { ...flags, base: '--base', compare: '--compare' }, hint);
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
-    noteRun(io, o, result);
+    noteRun(io, o, waist.manifest);
     note(io, o, `report: ${files.length} files in ${o.out} (open ${o.out}/index.html)`);
     const text = formatHeadline(model, o.format, Boolean(io.stdoutIsTTY) && o.format === 'table', files, o.out);
     // table text is escaped before it is coloured; CSV and JSON are escaped only on a terminal
@@ -90,7 +75,8 @@ export function reportCommand(program: Command, io: Io): void {
     .option('--by <column>', 'also split retention by this attribute column (refused when its values are nearly unique per user)')
     .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')
+    .option('--generated-at <text>', 'the time written on the report (default: now), for reproducible output')
     .addOption(new Option('--format <format>', 'format of the headline findings on standard output').choices(['table', 'csv', 'json']).default('table'));
   addPerPersonOption(cmd);
-  addPartialOption(addEventOptions(cmd)).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
+  addPartialOption(addEventOptions(addWaistOption(cmd))).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
 }

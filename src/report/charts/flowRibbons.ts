@@ -5,7 +5,6 @@
  * two curves.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { stateColours } from '../palette.js';
 import { type Chart, WIDTH } from './types.js';
 
 const STEPS = 24;
@@ -16,13 +15,17 @@ export interface FlowInput {
   from: string;
   to: string;
   counts: number[][];
+  /** Users who arrived in `to`, and the state they arrive in. */
   fresh: number;
+  arrival: string;
+  /** A colour per state. */
+  colours: string[];
 }
 
 export function flowRibbons(f: FlowInput): Chart {
   const S = f.states.length;
   const left = f.counts.map((row) => row.reduce((a, b) => a + b, 0));
-  const right = f.states.map((_, j) => f.counts.reduce((a, row) => a + row[j], 0) + (f.states[j] === 'fresh' ? f.fresh : 0));
+  const right = f.states.map((_, j) => f.counts.reduce((a, row) => a + row[j], 0) + (f.states[j] === f.arrival ? f.fresh : 0));
   const total = Math.max(left.reduce((a, b) => a + b, 0) + f.fresh, right.reduce((a, b) => a + b, 0));
   const gap = GAP * total;
   // stack positions; a virtual "arriving" block on the left carries the fresh inflow
@@ -55,13 +58,13 @@ export function flowRibbons(f: FlowInput): Chart {
     table.rows.push([f.from, f.to, fromLabel, f.states[j], n]);
   };
   for (let i = 0; i < S; i++) for (let j = 0; j < S; j++) addLink(i, j, f.counts[i][j], f.states[i]);
-  addLink(S, f.states.indexOf('fresh'), f.fresh, 'arriving');
+  addLink(S, f.states.indexOf(f.arrival), f.fresh, 'arriving');
   const blocks = [
     ...L.filter((b) => b.n > 0).map((b) => ({ side: 0, state: b.state, y: b.y0, y2: b.y1, label: `${b.state} ${b.n.toLocaleString('en-US')}` })),
     ...R.filter((b) => b.n > 0).map((b) => ({ side: 1, state: b.state, y: b.y0, y2: b.y1, label: `${b.state} ${b.n.toLocaleString('en-US')}` })),
   ];
   const colourStates = [...f.states, 'arriving'];
-  const colours = [...stateColours(f.states), '#B9C3CE'];
+  const colours = [...f.colours, '#B9C3CE'];
   const maxY = Math.max(...blocks.map((b) => b.y2), 1);
   const yScale = { domain: [maxY, 0], nice: false } as const;
   const spec: TopLevelSpec = {

@@ -2,10 +2,10 @@
 import type { TopLevelSpec } from 'vega-lite';
 import type { Backtest } from '../../markov/index.js';
 import type { ProjectOutput } from '../../markov/run.js';
-import { GAIN, LOSS, stateColours } from '../palette.js';
+import { GAIN, LOSS } from '../palette.js';
 import { type Chart, WIDTH } from './types.js';
 
-export function projectionChart(p: ProjectOutput, grainWord: string): Chart {
+export function projectionChart(p: ProjectOutput, grainWord: string, activeStates: readonly string[], colours: string[]): Chart {
   const rows = p.projection.flatMap((s) => p.states.map((st) => ({
     step: s.step, state: st, share: s.shares[st], lower: s.bands?.shares[st][0] ?? s.shares[st], upper: s.bands?.shares[st][1] ?? s.shares[st], count: s.counts[st],
   })));
@@ -18,7 +18,7 @@ export function projectionChart(p: ProjectOutput, grainWord: string): Chart {
     data: { values: rows },
     encoding: {
       x: { field: 'step', type: 'quantitative', title: `${grainWord}s ahead`, axis: { tickMinStep: 1 } },
-      color: { field: 'state', type: 'nominal', sort: p.states, scale: { domain: p.states, range: stateColours(p.states) }, title: 'state', legend: { symbolOpacity: 1 } },
+      color: { field: 'state', type: 'nominal', sort: p.states, scale: { domain: p.states, range: colours }, title: 'state', legend: { symbolOpacity: 1 } },
     },
     layer: [
       { mark: { type: 'area', opacity: 0.25 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'share of users', axis: { format: '.0%' } }, y2: { field: 'upper' } } },
@@ -27,7 +27,7 @@ export function projectionChart(p: ProjectOutput, grainWord: string): Chart {
   } as unknown as TopLevelSpec;
   const end = p.projection[p.horizon];
   const now = p.projection[0];
-  const active = p.states.filter((s) => ['fresh', 'engaged', 'returned'].includes(s));
+  const active = p.states.filter((s) => activeStates.includes(s));
   const share = (x: typeof end) => active.reduce((a, s) => a + x.shares[s], 0);
   const lo = end.bands ? active.reduce((a, s) => a + end.bands!.shares[s][0], 0) : share(end);
   const hi = end.bands ? active.reduce((a, s) => a + end.bands!.shares[s][1], 0) : share(end);

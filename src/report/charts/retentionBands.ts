@@ -1,7 +1,6 @@
 /** Status-split retention over time: one line per prior state, with its Wilson 95% interval as a band. */
 import type { TopLevelSpec } from 'vega-lite';
 import { wilsonInterval } from '../../stats/wilson.js';
-import { stateColours } from '../palette.js';
 import { type Chart, WIDTH } from './types.js';
 
 export interface RetentionPoint {
@@ -11,12 +10,11 @@ export interface RetentionPoint {
   retained: number;
 }
 
-export function retentionBands(points: RetentionPoint[], activeStates: string[], grainWord: string, minCell: number): Chart {
+export function retentionBands(points: RetentionPoint[], activeStates: string[], grainWord: string, minCell: number, colours: string[]): Chart {
   const rows = points.filter((p) => p.n > 0).map((p) => {
     const w = wilsonInterval(p.retained, p.n);
     return { ...p, rate: w.estimate, lower: w.lower, upper: w.upper, small: p.n < minCell };
   });
-  const colours = stateColours(activeStates);
   const spec: TopLevelSpec = {
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
     width: WIDTH,

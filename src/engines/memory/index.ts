@@ -2,24 +2,26 @@
  * The in-memory engine: columnar event log → active periods (typed-array sort) → classification
  * (tabulated xstate machine) → waist tables (arquero pipeline).
  */
-import { TidemarkError } from '../errors.js';
-import type { EventLog } from '../ingest/eventLog.js';
-import { readEvents } from '../ingest/read.js';
-import { activePeriods, type ActivePeriods } from '../lifecycle/activity.js';
-import { classifiedSize, classify, firstActivePeriods, type Classified } from '../lifecycle/classify.js';
-import { compilePlan } from '../lifecycle/plan.js';
-import { ACTIVE_STATES } from '../lifecycle/states.js';
-import { aggregate, durationRows } from '../flows/aggregate.js';
-import { segmentCells } from '../flows/segments.js';
-import { activeAttribute, activeIndex } from '../lifecycle/attributes.js';
-import { checkSplitColumn } from '../lifecycle/perPerson.js';
-import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
-import { optionKey, resolveRange, type ResolvedRange } from '../periods/range.js';
-import { WINDOW_MAX_AGE } from '../flows/types.js';
+import { TidemarkError } from '../../errors.js';
+import type { EventLog } from '../../ingest/eventLog.js';
+import { readEvents } from '../../ingest/read.js';
+import { activePeriods, type ActivePeriods } from '../../lifecycle/activity.js';
+import { classifiedSize, classify, firstActivePeriods, type Classified } from '../../lifecycle/classify.js';
+import { compilePlan } from '../../lifecycle/plan.js';
+import { lifecycleStates } from '../../lifecycle/states.js';
+import { aggregate, durationRows } from './aggregate.js';
+import { segmentCells } from './segments.js';
+import { activeAttribute, activeIndex } from './attributes.js';
+import { checkSplitColumn } from '../../lifecycle/perPerson.js';
+import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../../periods/calendar.js';
+import { optionKey, resolveRange, type ResolvedRange } from '../../periods/range.js';
+import { WINDOW_MAX_AGE } from '../../flows/types.js';
 import { engineFootprint, memoryBudget, type Footprint, type FootprintInput } from './budget.js';
 import { checkFootprint, outlierWarning, outputOutliers } from './rangeCheck.js';
-import type { Rules } from '../rules/schema.js';
-import type { ClassifiedRow, Engine, EngineResult, EventSource, LastPeriod, RangeOptions } from './types.js';
+import type { Rules } from '../../rules/schema.js';
+import type { ClassifiedSink, Engine, EngineRun, EventSource, LastPeriod, RangeOptions } from '../types.js';
+import { makeManifest } from '../../waist/build.js';
+import type { Waist } from '../../waist/types.js';
 
 const DAY = 86_400_000;
 
@@ -29,18 +31,17 @@ export interface RunLimits {
   rowObjects?: boolean;
 }
 
-interface Prepared {
-  log: EventLog;
+/** One run of the heavy stage on a log in memory: the waist, and what `classify` streams from. */
+export interface LogRun extends EngineRun {
   range: ResolvedRange;
   labels: string[];
   classified: Classified;
-  result: EngineResult;
   /** The bytes the run was estimated to need (budget.ts). */
   footprint: Footprint;
 }
 
 /** Run the heavy stage on an event log already in memory. */
-export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, limits: RunLimits = {}): Omit<Prepared, 'log'> {
+export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, limits: RunLimits = {}): LogRun {
   const scheme: PeriodScheme = log.scheme;
   const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
   let minKey = Infinity, maxKey = -Infinity;
@@ -51,15 +52,10 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   }
   const fromKey = optionKey(range.from, scheme, 'from');
   const toKey = optionKey(range.to, scheme, 'to');
-  let r = resolveRange(minKey, maxKey, fromKey, toKey, (k) => periodLabel(k, scheme));
+  const r = resolveRange(minKey, maxKey, fromKey, toKey, (k) => periodLabel(k, scheme));
   const warmup = range.warmup ?? rules.warmup;
   const last = lastPeriodOf(log, r.startKey + r.span - 1, scheme);
-  const outPeriods = r.span - r.outStart;
-  // an incomplete last period is left out when asked, if two periods remain and one of them is past the warm-up
-  const leaveOut = range.partial === 'drop' && !last.complete && outPeriods >= 3 && outPeriods - 1 > warmup;
-  if (leaveOut) r = { ...r, span: r.span - 1 };
-  const rowAccount = { ...log.rows, used: log.rows.used - (leaveOut ? last.rows : 0), partial: leaveOut ? last.rows : 0 };
-  const lastPeriod: LastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete, leftOut: leaveOut };
+  const lastPeriod: LastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete };
   if (warmup >= r.span - r.outStart) {
     throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${r.span - r.outStart})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
   }
@@ -73,9 +69,14 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   const labels: string[] = new Array<string>(r.span);
   for (let i = r.outStart; i < r.span; i++) labels[i] = periodLabel(r.startKey + i, scheme);
   const classified = classify(active, plan, log.users.length, r.outStart);
+  const table = lifecycleStates(rules);
+  const activeCount = table.filter((s) => s.active).length;
+  const roleName = (role: string) => (table.find((s) => s.role === role) as { name: string }).name;
   const waist = aggregate(classified, {
     states: plan.states,
-    activeCount: ACTIVE_STATES.length,
+    activeCount,
+    arrivalState: roleName('arrival'),
+    exitState: roleName('exit'),
     labels,
     outStart: r.outStart,
     warmup,
@@ -83,17 +84,30 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
   });
   if (range.by) {
     const attr = activeAttribute(log, range.by, active);
-    const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount: ACTIVE_STATES.length, labels, firstFlow: r.outStart + warmup });
+    const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount, labels, firstFlow: r.outStart + warmup });
     waist.segmentCells = { by: range.by, cells, perPerson: split?.perPerson };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
-    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf), perPerson: split?.perPerson };
+    waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels), perPerson: split?.perPerson };
   }
-  const users = countUsers(classified.firstActive);
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
   const events = [...log.eventNames].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));
-  const attributes = log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 }));
-  const warnings = outliers ? [outlierWarning(outliers, r, scheme)] : [];
-  return { range: r, labels, classified, footprint: need, result: { waist, rows: rowAccount, lastPeriod, users, events, attributes, warnings } };
+  const manifest = makeManifest({
+    rules,
+    warmup,
+    periods: labels.slice(r.outStart),
+    engine: 'memory',
+    rows: log.rows,
+    rowsInLastPeriod: last.rows,
+    lastPeriod,
+    users: countUsers(classified.firstActive),
+    events,
+    attributes: log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 })),
+    by: range.by ?? null,
+    byPerPerson: split?.perPerson ?? false,
+    warnings: outliers ? [outlierWarning(outliers, r, scheme)] : [],
+  });
+  const full: Waist = { manifest, tables: waist };
+  return { waist: full, range: r, labels, classified, footprint: need };
 }
 
 function countUsers(firstActive: Int32Array): number {
@@ -152,29 +166,38 @@ function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { l
 export class MemoryEngine implements Engine {
   readonly name = 'memory';
 
-  private async prepare(source: EventSource, rules: Rules, range: RangeOptions, rowObjects = false): Promise<Prepared> {
+  private async prepare(source: EventSource, rules: Rules, range: RangeOptions): Promise<{ log: EventLog; run: LogRun }> {
+    if (source.kind !== 'files') {
+      throw new TidemarkError('INPUT_INVALID', `the memory engine reads event files, not a database ${source.kind}`, { key: 'engine' }, 'Use an engine that reads databases');
+    }
     const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
     const toKey = optionKey(range.to, scheme, 'to');
     const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter });
-    return { log, ...runOnLog(log, rules, range, { rowObjects }) };
+    return { log, run: runOnLog(log, rules, range) };
   }
 
-  async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineResult> {
-    return (await this.prepare(source, rules, range)).result;
+  async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineRun> {
+    return { waist: (await this.prepare(source, rules, range)).run.waist };
   }
 
-  async classify(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<{ rows: ClassifiedRow[]; result: EngineResult }> {
-    const p = await this.prepare(source, rules, range, true);
-    return { rows: classifiedRows(p.classified, p.log.users, p.labels, p.result.waist.states), result: p.result };
+  async classify(source: EventSource, rules: Rules, range: RangeOptions, sink: ClassifiedSink): Promise<EngineRun> {
+    const { log, run } = await this.prepare(source, rules, range);
+    streamClassified(run.classified, log.users, run.labels, run.waist.tables.states, sink);
+    return { waist: run.waist };
   }
 }
 
-/** Classified rows sorted by user id (code-unit order), then period. */
-export function classifiedRows(c: Classified, users: string[], labels: string[], states: readonly string[]): ClassifiedRow[] {
-  const order = Array.from({ length: c.size }, (_, i) => i);
-  order.sort((a, b) => {
-    const ua = users[c.user[a]], ub = users[c.user[b]];
-    return ua < ub ? -1 : ua > ub ? 1 : c.period[a] - c.period[b];
-  });
-  return order.map((i) => ({ user: users[c.user[i]], period: labels[c.period[i]], state: states[c.state[i]] }));
+/**
+ * Stream classified rows sorted by user id (code-unit order), then period. Each user's rows are one
+ * block in period order (classify.ts), so only the users are sorted.
+ */
+export function streamClassified(c: Classified, users: readonly string[], labels: readonly string[], states: readonly string[], sink: ClassifiedSink): void {
+  const start = new Int32Array(users.length).fill(-1);
+  for (let r = c.size - 1; r >= 0; r--) start[c.user[r]] = r;
+  const order: number[] = [];
+  for (let u = 0; u < users.length; u++) if (start[u] >= 0) order.push(u);
+  order.sort((a, b) => (users[a] < users[b] ? -1 : users[a] > users[b] ? 1 : 0));
+  for (const u of order) {
+    for (let r = start[u]; r < c.size && c.user[r] === u; r++) sink.row(users[u], labels[c.period[r]], states[c.state[r]]);
+  }
 }

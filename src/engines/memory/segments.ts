@@ -3,11 +3,11 @@
  * like the other waist tables).
  */
 import * as aq from 'arquero';
-import type { ActiveAttribute } from '../lifecycle/attributes.js';
-import { activeIndex } from '../lifecycle/attributes.js';
-import type { ActivePeriods } from '../lifecycle/activity.js';
-import type { Classified } from '../lifecycle/classify.js';
-import type { RetentionCell } from './types.js';
+import type { ActiveAttribute } from './attributes.js';
+import { activeIndex } from './attributes.js';
+import type { ActivePeriods } from '../../lifecycle/activity.js';
+import type { Classified } from '../../lifecycle/classify.js';
+import type { RetentionCell } from '../../flows/types.js';
 
 export function segmentCells(c: Classified, active: ActivePeriods, attr: ActiveAttribute, o: { states: readonly string[]; activeCount: number; labels: string[]; firstFlow: number }): RetentionCell[] {
   const V = attr.values.length;

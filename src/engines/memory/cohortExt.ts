@@ -7,8 +7,8 @@
  * gives windowActive; lastActiveAge is the histogram of each member's largest active age.
  * Cost: O(A) per member plus O(A²) per cohort.
  */
-import { TidemarkError } from '../errors.js';
-import type { CohortRowExt } from './cohorts.js';
+import { TidemarkError } from '../../errors.js';
+import type { CohortRowExt } from '../../explain/cohorts.js';
 
 /**
  * The cohort row with `active`, `lastActiveAge` and `windowActive` for ages 0 … lastAge.

@@ -6,14 +6,19 @@
  * the tables are indexed from `outStart` (the first output period).
  */
 import * as aq from 'arquero';
-import type { Classified } from '../lifecycle/classify.js';
-import { cohortRowFromUsers } from '../explain/cohortExt.js';
-import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from './types.js';
+import type { Classified } from '../../lifecycle/classify.js';
+import { cohortRowFromUsers } from './cohortExt.js';
+import { canonicalDurations } from '../../waist/canonical.js';
+import { bandLabels } from '../../flows/tenure.js';
+import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from '../../flows/types.js';
 
 export interface AggregateOptions {
   states: readonly string[];
   /** Number of leading states that are active (states are ordered active first). */
   activeCount: number;
+  /** The state new users arrive in, and the one of users gone quiet beyond the lapse limit. */
+  arrivalState: string;
+  exitState: string;
   /** Labels of all range periods, by offset. */
   labels: string[];
   /** First output period offset. */
@@ -21,15 +26,6 @@ export interface AggregateOptions {
   warmup: number;
   /** Lower edges of tenure bands, starting at 0. */
   tenureBands: number[];
-}
-
-/** Label of a tenure band: [0, 1, 4, 12] → '0', '1-3', '4-11', '12+'. */
-export function bandLabels(edges: number[]): string[] {
-  return edges.map((lo, i) => {
-    const hi = i + 1 < edges.length ? edges[i + 1] - 1 : undefined;
-    if (hi === undefined) return `${lo}+`;
-    return hi === lo ? `${lo}` : `${lo}-${hi}`;
-  });
 }
 
 function groupCount(table: aq.ColumnTable, key: string): Map<number, number> {
@@ -69,7 +65,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   const flowRows = base.filter((d: any, $: any) => d.prev >= 0 && d.p - 1 >= $.firstFlow);
   const byPair = groupCount(flowRows.derive({ k: (d: any, $: any) => (d.p * $.S + d.prev) * $.S + d.s }), 'k');
   const transitions: TransitionCounts[] = [];
-  const freshCode = o.states.indexOf('fresh');
+  const freshCode = o.states.indexOf(o.arrivalState);
   const firstTo = Math.max(firstFlow + 1, o.outStart + 1); // offset of the first transition's later period
   for (let p = firstTo; p < span; p++) {
     const counts = Array.from({ length: S }, (_, i) => Array.from({ length: S }, (_, j) => byPair.get((p * S + i) * S + j) ?? 0));
@@ -107,13 +103,15 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
   return {
     states: [...o.states],
     activeStates: o.states.slice(0, o.activeCount),
+    arrivalState: o.arrivalState,
+    exitState: o.exitState,
     periods: o.labels.slice(o.outStart),
     warmup: o.warmup,
     stateCounts,
     transitions,
     tenureCells,
     cohorts,
-    durations: durationRows(c, firstFlow, span, (_u, first) => o.labels[first]),
+    durations: durationRows(c, firstFlow, span, (_u, first) => o.labels[first], o.labels),
   };
 }
 
@@ -121,7 +119,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
  * Periods from first active to first dormant per user, censored at the range end, for users first
  * active from `firstFlow` on, grouped by `groupOf(user, firstActiveOffset)`.
  */
-export function durationRows(c: Classified, firstFlow: number, span: number, groupOf: (user: number, first: number) => string): DurationRow[] {
+export function durationRows(c: Classified, firstFlow: number, span: number, groupOf: (user: number, first: number) => string, labels: readonly string[]): DurationRow[] {
   const m = new Map<string, DurationRow>();
   for (let u = 0; u < c.firstActive.length; u++) {
     const first = c.firstActive[u];
@@ -130,12 +128,12 @@ export function durationRows(c: Classified, firstFlow: number, span: number, gro
     const observed: 0 | 1 = d >= 0 ? 1 : 0;
     const duration = observed ? d - first : span - 1 - first;
     const group = groupOf(u, first);
-    const key = `${group}|${duration}|${observed}`;
+    const key = `${group}\u0000${first}|${duration}|${observed}`;
     const row = m.get(key);
     if (row) row.users++;
-    else m.set(key, { group, duration, observed, users: 1 });
+    else m.set(key, { group, cohort: labels[first], duration, observed, users: 1 });
   }
-  return [...m.values()].sort((a, b) => (a.group < b.group ? -1 : a.group > b.group ? 1 : a.duration - b.duration || a.observed - b.observed));
+  return canonicalDurations([...m.values()]);
 }
 
 /**
@@ -166,7 +164,8 @@ function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions,
         yield ages;
       }
     }
-    if (A <= WINDOW_MAX_AGE) {
+    // windows one age further than the analyses use, so that leaving out the last period stays exact
+    if (A <= WINDOW_MAX_AGE + 1) {
       const ext = cohortRowFromUsers(row.cohort, A, members());
       row.lastActiveAge = ext.lastActiveAge;
       row.windowActive = ext.windowActive;
@@ -175,5 +174,8 @@ function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions,
       for (const ages of members()) last[ages[ages.length - 1]]++;
       row.lastActiveAge = last;
     }
+    const before = new Array<number>(A).fill(0);
+    if (A > 0) for (const ages of members()) before[ages[ages.length - 1] < A ? ages[ages.length - 1] : ages[ages.length - 2]]++;
+    row.lastActiveAgeBeforeFinal = before;
   }
 }

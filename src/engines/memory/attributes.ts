@@ -3,9 +3,9 @@
  * period (by wall-clock time; on ties, the later row). Used to split retention by plan, region,
  * channel and the like, taking the user's value in the period retained from.
  */
-import { TidemarkError, showValue, suggestion } from '../errors.js';
-import type { EventLog } from '../ingest/eventLog.js';
-import type { ActivePeriods } from './activity.js';
+import { TidemarkError, showValue, suggestion } from '../../errors.js';
+import type { EventLog } from '../../ingest/eventLog.js';
+import type { ActivePeriods } from '../../lifecycle/activity.js';
 
 export interface ActiveAttribute {
   name: string;

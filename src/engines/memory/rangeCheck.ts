@@ -4,11 +4,11 @@
  * would not fit in the memory budget. Both name the outlying rows (file, line, timestamp as written)
  * and suggest the --from/--to that analyse the bulk.
  */
-import { TidemarkError, showValue } from '../errors.js';
-import type { EventLog } from '../ingest/eventLog.js';
-import { describeRow, rangeOutliers, type ExtremeRow, type RangeOutliers } from '../ingest/extremes.js';
-import { GRAIN_NOUN, periodKeyOfDay, periodLabel, type PeriodScheme } from '../periods/calendar.js';
-import type { ResolvedRange } from '../periods/range.js';
+import { TidemarkError, showValue } from '../../errors.js';
+import type { EventLog } from '../../ingest/eventLog.js';
+import { describeRow, rangeOutliers, type ExtremeRow, type RangeOutliers } from '../../ingest/extremes.js';
+import { GRAIN_NOUN, periodKeyOfDay, periodLabel, type PeriodScheme } from '../../periods/calendar.js';
+import type { ResolvedRange } from '../../periods/range.js';
 import { formatBytes, type Footprint } from './budget.js';
 
 const DAY = 86_400_000;

@@ -1,0 +1,108 @@
+/**
+ * The light table of commands. `main` reads it to list every command (top-level help, "did you
+ * mean") without importing any of them, and imports only the module of the command it runs: a command
+ * module pulls in the engine, arquero, Vega and the rest, which cost about a second to load.
+ *
+ * `term` and `description` repeat what the command's own file declares (the term as commander's help
+ * prints it: the name, `[options]` when it has options, its arguments); test/cli/catalog.test.ts fails
+ * when they drift apart. The order is the order of the top-level help.
+ */
+import type { Command } from 'commander';
+import type { Io } from './io.js';
+
+/** Registers one command, with its options and action, on the program. */
+export type RegisterCommand = (program: Command, io: Io) => void;
+
+export interface CatalogEntry {
+  name: string;
+  term: string;
+  description: string;
+  load(): Promise<RegisterCommand>;
+}
+
+export const CATALOG: readonly CatalogEntry[] = [
+  {
+    name: 'classify',
+    term: 'classify [options]',
+    description: 'the lifecycle state of every user in every period (CSV: user_id,period,state)',
+    load: async () => (await import('./commands/classify.js')).classifyCommand,
+  },
+  {
+    name: 'flows',
+    term: 'flows [options]',
+    description: 'transition counts and rates between lifecycle states, period by period, with retention and growth accounting',
+    load: async () => (await import('./commands/flows.js')).flowsCommand,
+  },
+  {
+    name: 'retention',
+    term: 'retention [options]',
+    description: 'retention per period by prior state (and tenure band), with Wilson 95% intervals and small-cell flags',
+    load: async () => (await import('./commands/retention.js')).retentionCommand,
+  },
+  {
+    name: 'explain',
+    term: 'explain [options]',
+    description: 'why overall retention moved between two periods: rate versus mix effects by prior state, tenure and attribute',
+    load: async () => (await import('./commands/explain.js')).explainCommand,
+  },
+  {
+    name: 'project',
+    term: 'project [options]',
+    description: 'project the state mix with a Markov chain fitted from the flows (or your own matrix): long run, bands, what-ifs, backtest',
+    load: async () => (await import('./commands/project.js')).projectCommand,
+  },
+  {
+    name: 'cohorts',
+    term: 'cohorts [options]',
+    description: 'acquisition cohorts: the retention triangle, N-period, on-or-after and window retention, grouped curves and shape readings',
+    load: async () => (await import('./commands/cohorts.js')).cohortsCommand,
+  },
+  {
+    name: 'survival',
+    term: 'survival [options]',
+    description: 'Kaplan-Meier curves of the time from first active to first dormant, with the log-rank test across groups',
+    load: async () => (await import('./commands/survival.js')).survivalCommand,
+  },
+  {
+    name: 'curve',
+    term: 'curve [options]',
+    description: 'fit the shifted-beta-geometric model to cohort survivors (not yet dormant) and project the curve',
+    load: async () => (await import('./commands/curve.js')).curveCommand,
+  },
+  {
+    name: 'report',
+    term: 'report [options]',
+    description: 'write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart',
+    load: async () => (await import('./commands/report.js')).reportCommand,
+  },
+  {
+    name: 'waist',
+    term: 'waist [options]',
+    description: 'write the waist: the count tables every analysis reads (manifest.json and CSV tables), for --waist DIR',
+    load: async () => (await import('./commands/waist.js')).waistCommand,
+  },
+  {
+    name: 'demo',
+    term: 'demo [options]',
+    description: 'simulate a fictional makerspace booking log (about 20,000 members, 30 weeks) and run the main job on it',
+    load: async () => (await import('./commands/demo.js')).demoCommand,
+  },
+  {
+    name: 'rules',
+    term: 'rules',
+    description: 'check rules files, or print their JSON Schema',
+    load: async () => (await import('./commands/rules.js')).rulesCommand,
+  },
+];
+
+/**
+ * The command that `argv` most likely runs or asks help for: the first argument, not an option, that
+ * names a command of the catalogue (`tidemark help flows` gives flows; an option's value before the
+ * command is skipped unless it is itself a command's name). Undefined when argv names none (no
+ * command, or a misspelt one: commander then lists or suggests from the table). A guess only: `main`
+ * loads the command commander actually dispatches to when the guess misses.
+ * @example commandOf(['--debug', 'help', 'flows']) // 'flows'
+ */
+export function commandOf(argv: readonly string[]): string | undefined {
+  return argv.find((a) => !a.startsWith('-') && CATALOG.some((c) => c.name === a));
+}

@@ -1,0 +1,26 @@
+/** Write a waist folder: manifest.json and one CSV a table (see ./tables.ts). */
+import { replaceFolder, WAIST_FOLDER } from '../output/atomic.js';
+import { waistCsv } from './csv.js';
+import { WAIST_TABLES, tablesToRows, type TableName } from './tables.js';
+import type { Waist } from './types.js';
+
+/** The files of a waist folder, name → text, in the order written. */
+export function waistFiles(w: Waist): Map<string, string> {
+  const arrival = w.manifest.states.filter((s) => s.role === 'arrival').map((s) => s.name);
+  const rows = tablesToRows(w.tables, arrival);
+  const files = new Map<string, string>();
+  files.set('manifest.json', `${JSON.stringify(w.manifest, null, 2)}\n`);
+  for (const name of Object.keys(WAIST_TABLES) as TableName[]) {
+    const spec = WAIST_TABLES[name];
+    files.set(spec.file, waistCsv(spec.columns, rows[name]));
+  }
+  return files;
+}
+
+/**
+ * Write the waist into folder `dir`, replacing it atomically (a crash leaves the previous waist
+ * whole; see output/atomic.ts). Returns the file names written.
+ */
+export function writeWaist(w: Waist, dir: string): string[] {
+  return replaceFolder(dir, waistFiles(w), {}, WAIST_FOLDER);
+}
