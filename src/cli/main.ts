@@ -11,6 +11,7 @@ import { cohortsCommand } from './commands/cohorts.js';
 import { curveCommand } from './commands/curve.js';
 import { explainCommand } from './commands/explain.js';
 import { flowsCommand } from './commands/flows.js';
+import { grainCommand } from './commands/grain.js';
 import { projectCommand } from './commands/project.js';
 import { reportCommand } from './commands/report.js';
 import { retentionCommand } from './commands/retention.js';
@@ -33,6 +34,8 @@ export function buildProgram(io: Io): Command {
   cohortsCommand(program, io);
   survivalCommand(program, io);
   curveCommand(program, io);
+  // the behaviour commands: they read events with detail, not the waist
+  grainCommand(program, io);
   reportCommand(program, io);
   demoCommand(program, io);
   rulesCommand(program, io);

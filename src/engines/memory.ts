@@ -134,7 +134,7 @@ function sizesOf(log: EventLog, active: ActivePeriods, firstActive: Int32Array, 
  * length. Complete when that event lies in the period's last seventh, or when later events exist (in the
  * log, or dropped at reading as after --to): then the data did not stop there. `rows` counts its events.
  */
-function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { label: string; coverage: number; complete: boolean; rows: number } {
+export function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { label: string; coverage: number; complete: boolean; rows: number } {
   let maxWall = -Infinity, rows = 0, later = log.rows.afterRange > 0;
   for (let i = 0; i < log.size; i++) {
     const k = log.period[i];
