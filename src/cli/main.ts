@@ -12,6 +12,8 @@ import { curveCommand } from './commands/curve.js';
 import { explainCommand } from './commands/explain.js';
 import { flowsCommand } from './commands/flows.js';
 import { grainCommand } from './commands/grain.js';
+import { earlyCommand } from './commands/early.js';
+import { habitsCommand } from './commands/habits.js';
 import { projectCommand } from './commands/project.js';
 import { reportCommand } from './commands/report.js';
 import { retentionCommand } from './commands/retention.js';
@@ -35,6 +37,8 @@ export function buildProgram(io: Io): Command {
   survivalCommand(program, io);
   curveCommand(program, io);
   // the behaviour commands: they read events with detail, not the waist
+  earlyCommand(program, io);
+  habitsCommand(program, io);
   grainCommand(program, io);
   reportCommand(program, io);
   demoCommand(program, io);
