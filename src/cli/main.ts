@@ -14,6 +14,7 @@ import { flowsCommand } from './commands/flows.js';
 import { grainCommand } from './commands/grain.js';
 import { earlyCommand } from './commands/early.js';
 import { habitsCommand } from './commands/habits.js';
+import { rfmCommand } from './commands/rfm.js';
 import { projectCommand } from './commands/project.js';
 import { reportCommand } from './commands/report.js';
 import { retentionCommand } from './commands/retention.js';
@@ -39,6 +40,7 @@ export function buildProgram(io: Io): Command {
   // the behaviour commands: they read events with detail, not the waist
   earlyCommand(program, io);
   habitsCommand(program, io);
+  rfmCommand(program, io);
   grainCommand(program, io);
   reportCommand(program, io);
   demoCommand(program, io);
