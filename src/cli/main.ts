@@ -15,6 +15,7 @@ import { grainCommand } from './commands/grain.js';
 import { earlyCommand } from './commands/early.js';
 import { habitsCommand } from './commands/habits.js';
 import { rfmCommand } from './commands/rfm.js';
+import { inspectCommand } from './commands/inspect.js';
 import { projectCommand } from './commands/project.js';
 import { reportCommand } from './commands/report.js';
 import { retentionCommand } from './commands/retention.js';
@@ -38,6 +39,7 @@ export function buildProgram(io: Io): Command {
   survivalCommand(program, io);
   curveCommand(program, io);
   // the behaviour commands: they read events with detail, not the waist
+  inspectCommand(program, io);
   earlyCommand(program, io);
   habitsCommand(program, io);
   rfmCommand(program, io);

@@ -40,9 +40,9 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const rules = loadRulesFile(DEFAULT_RULES);
   const base = weekLabel(CHANGE_WEEK - 1); // retention into the week before the change
   const compare = weekLabel(PROMO_WEEK + 1); // retention into the week after the promotion
-  const { result, dropped } = await reportRun({ events: [eventsFile], by: 'channel' }, rules);
+  const { result, dropped, sections } = await reportRun({ events: [eventsFile], by: 'channel' }, rules);
   io.stderr(`${rowLine(result.rows)}\n`);
-  const model = buildReport(result, rules, { base, compare, droppedPartial: dropped });
+  const model = buildReport(result, rules, { base, compare, droppedPartial: dropped, sections });
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 

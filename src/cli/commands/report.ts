@@ -14,6 +14,14 @@ import { Option } from 'commander';
 import type { Io } from '../io.js';
 import { progress } from '../progress.js';
 import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
+import { runOnLog } from '../../engines/memory.js';
+import { keyEventsOnly } from '../../ingest/eventLog.js';
+import { readEvents } from '../../ingest/read.js';
+import { observedRange, userTimelines } from '../../lifecycle/timelines.js';
+import { optionKey } from '../../periods/range.js';
+import { behaviourSections } from '../../report/sections/behaviour.js';
+import type { ReportSection } from '../../report/sections/types.js';
+import { flagError } from '../options.js';
 
 export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonOption {
   out: string;
@@ -30,14 +38,24 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
 export type ReportRunOptions = Pick<CommonOptions, 'events' | 'from' | 'to' | 'warmup' | 'skipBadRows' | 'inputFormat' | 'delimiter' | 'userColumn' | 'timestampColumn' | 'eventColumn'> & PerPersonOption & { by?: string; includePartial?: boolean };
 
 /**
- * The engine run the report reads, reading the input once: an incomplete last period is left out by
- * the engine (unless --include-partial), and `dropped` says so (or why it was kept).
+ * The engine run the report reads, and the sections built from the events, reading the input once
+ * (with detail: event names, rows that are not key events): the in-memory engine classifies the key
+ * rows; an incomplete last period is left out by the engine (unless --include-partial), and `dropped`
+ * says so (or why it was kept).
  */
-export async function reportRun(o: ReportRunOptions, rules: Rules, onStage?: (label: string) => void): Promise<{ result: EngineResult; dropped?: string }> {
+export async function reportRun(o: ReportRunOptions, rules: Rules, onStage?: (label: string) => void): Promise<{ result: EngineResult; dropped?: string; sections: ReportSection[] }> {
   const run = eventRun({ format: 'table', ...o } as CommonOptions, rules, true, o.by);
   onStage?.('reading and classifying');
-  const result = await runEngine(run, rules);
-  return { result, dropped: partialSentence(result, run.range) };
+  try {
+    const toKey = optionKey(run.range.to, { grain: rules.grain, weekStart: rules.weekStart }, 'to');
+    const log = await readEvents(run.source.files, { rules, format: run.source.format, skipBadRows: run.source.skipBadRows, toKey, delimiter: run.source.delimiter, detail: true });
+    const result = runOnLog(keyEventsOnly(log), rules, run.range).result;
+    const t = userTimelines(log, rules.activity.minEvents);
+    const sections = behaviourSections(log, t, observedRange(log, run.range.from, Boolean(o.includePartial)), rules);
+    return { result, dropped: partialSentence(result, run.range), sections };
+  } catch (e) {
+    throw flagError(e, run.flags);
+  }
 }
 
 /** Headline findings for the terminal, with state names in their report colours on a colour terminal. */
@@ -64,9 +82,9 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const bar = progress(io, o.format !== 'json', 4);
   let stage = 0;
   try {
-    const { result, dropped } = await reportRun(o, rules, (label) => bar.step(label, stage++));
+    const { result, dropped, sections } = await reportRun(o, rules, (label) => bar.step(label, stage++));
     bar.step('analysing', 2);
-    const model = asFlags(() => buildReport(result, rules, { base, compare, horizon, seed, droppedPartial: dropped }), { base: '--base', compare: '--compare' }, periodFlagHint(result, rules, { base, compare }));
+    const model = asFlags(() => buildReport(result, rules, { base, compare, horizon, seed, droppedPartial: dropped, sections }), { base: '--base', compare: '--compare' }, periodFlagHint(result, rules, { base, compare }));
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
