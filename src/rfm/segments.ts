@@ -116,6 +116,9 @@ export interface RfmOutput {
 
 export const RFM_SCORING = 'Each period, members with an active period in the window are scored 1-5 on recency (periods since their last active one; 5 = most recent), frequency (key events in the window) and, with a value column, value (its sum over the window): 1 + floor(5 × (members below + half the members equal) / members scored), at most 5. The activity score is the frequency score, or with a value column the mean of the frequency and value scores, rounded up.';
 
+/** Periods scored in one run at most (each period sorts its scored members). */
+export const RFM_MAX_PERIODS = 20_000;
+
 const zeroCounts = (): Record<Segment, number> => Object.fromEntries(SEGMENTS.map((s) => [s, 0])) as Record<Segment, number>;
 
 /** Per event row, the number in the value column (0 when empty). */
@@ -211,9 +214,15 @@ export function rfmSegments(log: EventLog, t: Timelines, range: ObservedRange, o
     for (const u of activeAt[k]) activeCount[u] += sign;
   };
   const outStart = range.fromKey - first;
-  for (let k = 0; k < P; k++) {
+  // scores at --from need only the window before it: members first active earlier are already seen
+  const begin = Math.max(0, outStart - o.window);
+  if (P - begin > RFM_MAX_PERIODS) {
+    throw new TidemarkError('INPUT_INVALID', `scoring ${(P - begin).toLocaleString('en-US')} periods is more than the ${RFM_MAX_PERIODS.toLocaleString('en-US')} tidemark scores in one run`, { key: 'from' }, 'Pass a later --from, or use a coarser grain');
+  }
+  for (let u = 0; u < U; u++) if (firstKey[u] >= 0 && firstKey[u] - first < begin) seen.push(u);
+  for (let k = begin; k < P; k++) {
     add(k, 1);
-    if (k - o.window >= 0) add(k - o.window, -1);
+    if (k - o.window >= begin) add(k - o.window, -1);
     for (const u of activeAt[k]) {
       lastActive[u] = k;
       if (firstKey[u] === k + first) seen.push(u);
