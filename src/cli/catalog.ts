@@ -70,6 +70,36 @@ export const CATALOG: readonly CatalogEntry[] = [
     load: async () => (await import('./commands/curve.js')).curveCommand,
   },
   {
+    name: 'inspect',
+    term: 'inspect [options]',
+    description: 'check the data before any analysis: span and stray timestamps, missing days, duplicates, heavy users, per-person columns, time zones, event names, grain',
+    load: async () => (await import('./commands/inspect.js')).inspectCommand,
+  },
+  {
+    name: 'early',
+    term: 'early [options]',
+    description: 'early signals: events in a newcomer\'s first periods that go with being retained later (lift, Wilson and Newcombe intervals, Benjamini–Hochberg)',
+    load: async () => (await import('./commands/early.js')).earlyCommand,
+  },
+  {
+    name: 'habits',
+    term: 'habits [options]',
+    description: 'habit profiles: what long-tenured members keep doing, against members who went dormant early',
+    load: async () => (await import('./commands/habits.js')).habitsCommand,
+  },
+  {
+    name: 'rfm',
+    term: 'rfm [options]',
+    description: 'RFM segments: recency, frequency and value scored in quintiles each period, segments, and the flows between them as a Markov chain',
+    load: async () => (await import('./commands/rfm.js')).rfmCommand,
+  },
+  {
+    name: 'grain',
+    term: 'grain [options]',
+    description: 'grain advisor: the days between a user\'s active days, and the grain (day, week, month) and lapse limit they suggest',
+    load: async () => (await import('./commands/grain.js')).grainCommand,
+  },
+  {
     name: 'report',
     term: 'report [options]',
     description: 'write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart',

@@ -177,7 +177,7 @@ export async function analysisInput(o: CommonOptions, io: Io, spec: { partial: '
  * The waist in full form, all options checked before anything is read: from --waist DIR, or made by
  * the chosen engine from --events. `by`: the attribute split the command needs.
  */
-export async function waistInput(o: CommonOptions, spec: { by?: string } = {}): Promise<{ waist: Waist; flags: Record<string, string | undefined> }> {
+export async function waistInput(o: CommonOptions, spec: { by?: string; sections?: boolean } = {}): Promise<{ waist: Waist; flags: Record<string, string | undefined> }> {
   if (o.waist !== undefined) {
     const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
     if (given.length) throw new TidemarkError('USAGE', `give either --waist or ${given.join(', ')}: a waist was made from its events and rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --waist');
@@ -192,6 +192,15 @@ export async function waistInput(o: CommonOptions, spec: { by?: string } = {}): 
   if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log or waist given', { key: '--events' }, 'For example --events events.csv, or --waist DIR');
   const rules = resolveRules(o);
   const run = eventRun(o, rules, spec.by);
+  if (spec.sections && (o.engine ?? 'memory') === 'memory') {
+    // the report's behaviour sections need every event: read once, with detail
+    const { waistWithSections } = await import('../report/sections/fromEvents.js');
+    try {
+      return { waist: await waistWithSections(run.source, rules, run.range), flags: run.flags };
+    } catch (e) {
+      throw flagError(e, run.flags);
+    }
+  }
   return { waist: (await runEngine(o, run, rules)).waist, flags: run.flags };
 }
 

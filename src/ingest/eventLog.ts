@@ -13,6 +13,7 @@ import { parseTimestamp } from './timestamp.js';
 import { Dictionary, GrowableFloat64, GrowableInt32, ownCopy } from './growable.js';
 import { IdDictionary } from './idDictionary.js';
 import { Extremes } from './extremes.js';
+import { DetailColumns, type EventDetail } from './detail.js';
 
 /** Why a row was rejected. */
 export type RejectReason =
@@ -80,6 +81,12 @@ export interface EventLog {
   eventNames: Map<string, number>;
   /** The earliest and latest used rows, with their lines (see extremes.ts). */
   extremes: Extremes;
+  /**
+   * Per-row detail, only when read with `detail: true` (detail.ts). Such a log also holds the rows
+   * that are not key events (flagged in `detail.key`); pass it through {@link keyEventsOnly} before
+   * the engine.
+   */
+  detail?: EventDetail;
 }
 
 /**
@@ -94,6 +101,8 @@ export interface BuilderOptions {
   skipBadRows: boolean;
   /** Drop (and count) events in periods after this key. */
   toKey?: number;
+  /** Keep per-row detail and the rows that are not key events (detail.ts); off by default. */
+  detail?: boolean;
 }
 
 /** Accumulates rows into an {@link EventLog}. */
@@ -112,11 +121,13 @@ export class EventLogBuilder {
   private readonly files: string[] = [];
   private readonly eventNames = new Map<string, { n: number }>();
   private readonly extremes = new Extremes();
+  private readonly detail: DetailColumns | undefined;
 
   constructor(private readonly opts: BuilderOptions) {
     this.clock = new ZoneClock(opts.rules.timezone);
     this.keyEvents = opts.rules.activity.keyEvents ? new Set(opts.rules.activity.keyEvents) : undefined;
     this.scheme = { grain: opts.rules.grain, weekStart: opts.rules.weekStart };
+    this.detail = opts.detail ? new DetailColumns() : undefined;
   }
 
   /** For the current file: slots[a] is the position of the log's a-th attribute among the file's, or -1. */
@@ -129,6 +140,7 @@ export class EventLogBuilder {
    */
   startFile(file: string, names: string[], lineOf: (ref: LineRef) => number = (ref) => ref): void {
     this.files.push(file);
+    this.detail?.startFile(this.user.length);
     this.lineOf = lineOf;
     for (const n of names) {
       if (!this.attrNames.includes(n)) {
@@ -181,24 +193,32 @@ export class EventLogBuilder {
       if (seen) seen.n++;
       else this.eventNames.set(ownCopy(event), { n: 1 });
     }
+    let isKey = true;
     if (this.keyEvents) {
       if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '', undefined, lines);
       if (!this.keyEvents.has(event)) {
-        this.rows.read++;
-        this.rows.lines.records += lines;
-        this.rows.notKeyEvent++;
-        return;
+        if (!this.detail) {
+          this.rows.read++;
+          this.rows.lines.records += lines;
+          this.rows.notKeyEvent++;
+          return;
+        }
+        isKey = false; // detail: kept and flagged, counted as not a key event wherever it falls
       }
     }
     const key = periodKeyOfDay(Math.floor(wall / 86_400_000), this.scheme);
     this.rows.read++;
     this.rows.lines.records += lines;
+    if (!isKey) this.rows.notKeyEvent++;
     if (this.opts.toKey !== undefined && key > this.opts.toKey) {
-      this.rows.afterRange++;
+      if (isKey) this.rows.afterRange++;
       return;
     }
-    this.rows.used++;
-    this.extremes.add(wall, ts, file, line, this.lineOf);
+    if (isKey) {
+      this.rows.used++;
+      this.extremes.add(wall, ts, file, line, this.lineOf);
+    }
+    this.detail?.add(event, isKey, ts, this.lineOf(line));
     this.user.push(typeof userId === 'number' ? userId : this.users.code(userId));
     this.period.push(key);
     this.wall.push(wall);
@@ -236,6 +256,29 @@ export class EventLogBuilder {
       files: this.files,
       eventNames: new Map([...this.eventNames].map(([name, c]) => [name, c.n])),
       extremes: this.extremes,
+      ...(this.detail ? { detail: this.detail.build() } : {}),
     };
   }
+}
+
+/**
+ * The key-event rows of a log read with detail, as a log without detail, for the engine (which
+ * counts every row as activity). A log without detail, or whose rows are all key events, is returned
+ * as it is. One pass; copies the columns only when some row is not a key event.
+ */
+export function keyEventsOnly(log: EventLog): EventLog {
+  const d = log.detail;
+  if (!d || d.keyRows === log.size) return log;
+  const n = d.keyRows;
+  const user = new Int32Array(n), period = new Int32Array(n), wallMs = new Float64Array(n);
+  const attrs = log.attributes.map(() => new Int32Array(n));
+  for (let i = 0, j = 0; i < log.size; i++) {
+    if (!d.key[i]) continue;
+    user[j] = log.user[i];
+    period[j] = log.period[i];
+    wallMs[j] = log.wallMs[i];
+    for (let a = 0; a < attrs.length; a++) attrs[a][j] = log.attributes[a].codes[i];
+    j++;
+  }
+  return { ...log, size: n, user, period, wallMs, attributes: log.attributes.map((a, k) => ({ ...a, codes: attrs[k] })), detail: undefined };
 }

@@ -22,6 +22,8 @@ export interface ReadEventsOptions {
   delimiter?: string;
   /** The readers' bounds (default: limits.ts); lowered by tests to reach them with small inputs. */
   limits?: Partial<ScanLimits>;
+  /** Keep per-row detail and the rows that are not key events (detail.ts); off by default. */
+  detail?: boolean;
 }
 
 export function formatOf(file: string, format?: EventFormat): EventFormat {
@@ -34,7 +36,7 @@ export function formatOf(file: string, format?: EventFormat): EventFormat {
 
 /** Read one or more event files. Throws TidemarkError for unreadable files, bad headers, bad rows (unless skipping) and logs with no usable row. */
 export async function readEvents(files: string[], opts: ReadEventsOptions): Promise<EventLog> {
-  const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey });
+  const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey, detail: opts.detail });
   const needEvent = opts.rules.activity.keyEvents !== undefined;
   const limits: ScanLimits = { ...DEFAULT_LIMITS, ...opts.limits };
   for (const file of files) {
@@ -43,7 +45,7 @@ export async function readEvents(files: string[], opts: ReadEventsOptions): Prom
     else await readNdjson(file, builder, opts.rules.columns, limits);
   }
   const log = builder.build();
-  if (log.size === 0) {
+  if ((log.detail ? log.detail.keyRows : log.size) === 0) {
     const r = log.rows;
     const why = r.read === 0 ? 'it holds no event rows' : r.notKeyEvent === r.read ? 'no row is a key event' : 'no row could be used';
     throw new TidemarkError('EVENTS_EMPTY', `nothing to analyse: ${why}`, { file: files.join(', ') },

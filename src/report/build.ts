@@ -21,6 +21,7 @@ import { stateMix } from './charts/stateMix.js';
 import { survivalChart } from './charts/survival.js';
 import type { Chart, DataTable } from './charts/types.js';
 import { stateColours } from './palette.js';
+import type { ReportSection } from './sections/types.js';
 
 export interface ReportOptions {
   /** Chosen comparison for the decomposition: periods retained into. Default: latest against `lookback` earlier. */
@@ -36,6 +37,8 @@ export interface ReportOptions {
   fit?: string;
   /** A note when the last, incomplete period was left out. */
   droppedPartial?: string;
+  /** Sections built from the events by the caller (report/sections/behaviour.ts): the data check first. */
+  sections?: ReportSection[];
 }
 
 export interface Finding {
@@ -61,6 +64,8 @@ export interface ReportModel {
   tables: (DataTable & { title: string; note?: string })[];
   /** Full results as JSON files (flows.json, explain.json, …). */
   documents: { name: string; value: unknown }[];
+  /** Sections from analyses of the events (the data check, behaviour); see report/sections/. */
+  sections: ReportSection[];
 }
 
 
@@ -98,6 +103,11 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
   const last = flows.transitions[flows.transitions.length - 1];
 
   warnings.push(...result.warnings);
+  // ── hook: sections from the event analyses (report/sections/), built by the caller from the same read ──
+  const sections = o.sections ?? [];
+  const checkWarnings = sections.filter((s) => s.placement === 'first').reduce((n, s) => n + s.warnings.length, 0);
+  if (checkWarnings) warnings.unshift(`The data check found ${checkWarnings} problem${checkWarnings > 1 ? 's' : ''} with the data (see its section, first on the page): read every number below with them in mind.`);
+  // ── end of hook ──
   if (o.droppedPartial) warnings.push(o.droppedPartial);
   if (w.warmup > 0) warnings.push(`The first ${w.warmup} ${grainWord}${w.warmup > 1 ? 's' : ''} (${w.periods.slice(0, w.warmup).join(', ')}) are a warm-up: classified, but left out of flows and retention.`);
   const censoring = leftCensoringHint(flows, grainWord);
@@ -225,6 +235,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
     charts,
     tables,
     documents,
+    sections,
   };
 }
 

@@ -53,6 +53,13 @@ function cell(v: unknown, format: Parameters<typeof displayCell>[1]): string {
   return `<td>${e(displayCell(v, format))}</td>`;
 }
 
+/** A section from an analysis of the events (report/sections/): paragraphs, highlighted warnings, tables; all escaped. */
+function htmlSection(s: ReportModel['sections'][number]): string {
+  const warn = s.warnings.length ? `<div class="warnings" role="note">${s.warnings.map((w) => `<p>${e(w)}</p>`).join('')}</div>` : '';
+  const tables = s.tables.map((t) => `<h3>${e(t.title)}</h3>${t.note ? `<p class="table-note">${e(t.note)}</p>` : ''}${htmlTable(t)}`).join('\n');
+  return `<section id="${e(s.id)}">\n<h2>${e(s.title)}</h2>\n${warn}${s.paragraphs.map((p) => `<p>${e(p)}</p>`).join('')}\n${tables}\n</section>`;
+}
+
 export function htmlTable(t: DataTable): string {
   return `<div class="scroll"><table><thead><tr>${t.header.map((h) => `<th>${escapeShort(h, 48)}</th>`).join('')}</tr></thead><tbody>${t.rows.map((r) => `<tr>${r.map((v, i) => cell(v, t.formats?.[i])).join('')}</tr>`).join('')}</tbody></table></div>`;
 }
@@ -98,6 +105,7 @@ export function reportHtml(m: ReportModel, svgs: string[], generatedAt: string):
 <p class="stamp">Generated ${e(generatedAt)} by tidemark</p>
 <ul class="legend" aria-label="state colours">${legend}</ul>
 </header>
+${m.sections.filter((s) => s.placement === 'first').map(htmlSection).join('\n')}
 <section id="findings">
 <h2>Findings</h2>
 <ul class="findings">${m.findings.map((f) => `<li>${e(f.text)}</li>`).join('')}</ul>
@@ -110,6 +118,7 @@ ${charts}
 <section id="tables">
 ${tables}
 </section>
+${m.sections.filter((s) => s.placement === 'after-charts').map(htmlSection).join('\n')}
 <section id="about">
 <h2>About these numbers</h2>
 <dl class="meta">

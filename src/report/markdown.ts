@@ -27,8 +27,23 @@ export function mdTable(t: DataTable): string {
   return [head, rule, ...body].join('\n');
 }
 
+function mdSection(s: ReportModel['sections'][number]): string[] {
+  const out = [`## ${mdEscape(s.title, 200)}`, ''];
+  for (const w of s.warnings) out.push(`- **${mdEscape(w, 2000)}**`);
+  if (s.warnings.length) out.push('');
+  for (const p of s.paragraphs) out.push(mdEscape(p, 2000), '');
+  for (const t of s.tables) {
+    out.push(`### ${mdEscape(t.title, 200)}`, '');
+    if (t.note) out.push(mdEscape(t.note, 2000), '');
+    out.push(mdTable(t), '');
+  }
+  return out;
+}
+
 export function reportMarkdown(m: ReportModel, generatedAt: string): string {
-  const out: string[] = [`# ${mdEscape(m.title, 200)}`, '', mdEscape(m.subtitle, 300), '', `Generated ${mdEscape(generatedAt)} by tidemark.`, '', '## Findings', ''];
+  const out: string[] = [`# ${mdEscape(m.title, 200)}`, '', mdEscape(m.subtitle, 300), '', `Generated ${mdEscape(generatedAt)} by tidemark.`, ''];
+  for (const s of m.sections.filter((x) => x.placement === 'first')) out.push(...mdSection(s));
+  out.push('## Findings', '');
   for (const f of m.findings) out.push(`- ${mdEscape(f.text, 2000)}`);
   if (m.warnings.length) {
     out.push('', '**Read with care**', '');
@@ -47,5 +62,6 @@ export function reportMarkdown(m: ReportModel, generatedAt: string): string {
     if (t.note) out.push(mdEscape(t.note, 2000), '');
     out.push(mdTable(t), '');
   }
+  for (const s of m.sections.filter((x) => x.placement === 'after-charts')) out.push(...mdSection(s));
   return `${out.join('\n').trimEnd()}\n`;
 }

@@ -42,11 +42,11 @@ export async function reportFiles(m: ReportModel, generatedAt: string, onChart?:
   const files = new Map<string, string>();
   files.set('index.html', reportHtml(m, svgs, generatedAt));
   files.set('summary.md', reportMarkdown(m, generatedAt));
-  for (const t of [...m.charts.map((c) => c.table), ...m.tables]) {
+  for (const t of [...m.charts.map((c) => c.table), ...m.tables, ...m.sections.flatMap((s) => s.tables)]) {
     files.set(`${t.name}.csv`, tableCsv(t));
     files.set(`${t.name}.json`, tableJson(t));
   }
-  for (const d of m.documents) files.set(`${d.name}.json`, `${JSON.stringify(d.value, null, 2)}\n`);
+  for (const d of [...m.documents, ...m.sections.flatMap((s) => s.documents)]) files.set(`${d.name}.json`, `${JSON.stringify(d.value, null, 2)}\n`);
   return files;
 }
 

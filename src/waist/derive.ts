@@ -27,7 +27,7 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
   const m = w.manifest;
   // kept anyway when leaving it out would leave fewer than two periods, or none past the warm-up
   const drop = !m.lastPeriod.complete && !o.includePartial && m.periods.length >= MIN_PERIODS_TO_DROP && m.periods.length - 1 > m.rules.warmup;
-  if (!drop) return { waist: { manifest: m, tables: analysisForm(w.tables) } };
+  if (!drop) return { waist: { manifest: m, tables: analysisForm(w.tables), ...(w.sections ? { sections: w.sections } : {}) } };
   const t = w.tables;
   const L = t.periods.length - 1;
   const last = t.periods[L];
@@ -74,7 +74,7 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
     users: m.users - arrivalsLast,
     lastPeriod: { label: tables.periods[L - 1], coverage: 1, complete: true },
   };
-  return { waist: { manifest, tables: analysisForm(tables) }, dropped: { label: last, coverage: m.lastPeriod.coverage, rows: m.rowsInLastPeriod } };
+  return { waist: { manifest, tables: analysisForm(tables), ...(w.sections ? { sections: w.sections } : {}) }, dropped: { label: last, coverage: m.lastPeriod.coverage, rows: m.rowsInLastPeriod } };
 }
 
 /** Duration rows merged over cohorts, cohort rows without the extra counts, windows up to WINDOW_MAX_AGE. */

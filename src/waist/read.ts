@@ -5,7 +5,7 @@
  * obey (a period's users in a state all move somewhere in the next period; retention cells add up
  * to the state counts; a cohort's size is its arrivals).
  */
-import { readFileSync, statSync } from 'node:fs';
+import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { TidemarkError, showValue } from '../errors.js';
 import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from '../flows/types.js';
@@ -13,6 +13,7 @@ import { parseWaistCsv } from './csv.js';
 import { WAIST_FORMAT, WAIST_VERSION, waistManifestSchema, type WaistManifest } from './manifest.js';
 import { cohortRowsFrom, WAIST_TABLES, type TableName } from './tables.js';
 import type { Waist } from './types.js';
+import { SECTIONS_FILE } from './write.js';
 import { canonicalDurations, canonicalSegmentCells } from './canonical.js';
 
 function readText(dir: string, name: string): string {
@@ -315,5 +316,18 @@ export function readWaist(dir: string): Waist {
     tables.segmentCells = { by: m.by, cells: canonicalSegmentCells(segmentCells), perPerson: m.byPerPerson };
     tables.segmentDurations = { by: m.by, rows: canonicalDurations(segmentDurations), perPerson: m.byPerPerson };
   }
-  return { manifest: m, tables };
+  const sectionsFile = join(dir, SECTIONS_FILE);
+  let sections: Waist['sections'];
+  if (existsSync(sectionsFile)) {
+    let doc: unknown;
+    try {
+      doc = JSON.parse(readFileSync(sectionsFile, 'utf8'));
+    } catch (e) {
+      throw new TidemarkError('INPUT_INVALID', `not valid JSON: ${showValue((e as Error).message, 120)}`, { file: sectionsFile });
+    }
+    const d = doc as { leaveOut?: unknown; keep?: unknown };
+    if (!d || !Array.isArray(d.leaveOut) || !Array.isArray(d.keep)) throw new TidemarkError('INPUT_INVALID', 'sections.json must hold "leaveOut" and "keep" lists of report sections', { file: sectionsFile });
+    sections = doc as Waist['sections'];
+  }
+  return sections ? { manifest: m, tables, sections } : { manifest: m, tables };
 }

@@ -4,6 +4,9 @@ import { waistCsv } from './csv.js';
 import { WAIST_TABLES, tablesToRows, type TableName } from './tables.js';
 import type { Waist } from './types.js';
 
+/** The optional file of report sections computed from the events (see Waist.sections). */
+export const SECTIONS_FILE = 'sections.json';
+
 /** The files of a waist folder, name → text, in the order written. */
 export function waistFiles(w: Waist): Map<string, string> {
   const arrival = w.manifest.states.filter((s) => s.role === 'arrival').map((s) => s.name);
@@ -14,6 +17,7 @@ export function waistFiles(w: Waist): Map<string, string> {
     const spec = WAIST_TABLES[name];
     files.set(spec.file, waistCsv(spec.columns, rows[name]));
   }
+  if (w.sections) files.set(SECTIONS_FILE, `${JSON.stringify(w.sections, null, 2)}\n`);
   return files;
 }
 

@@ -9,7 +9,7 @@ import { explainRetention } from '../../explain/run.js';
 import { computeProjection } from '../../markov/run.js';
 import { reportOf } from '../../report/run.js';
 import { writeReport } from '../../report/write.js';
-import { createEngine } from '../../engines/index.js';
+import { waistWithSections } from '../../report/sections/fromEvents.js';
 import { filesSource } from '../../engines/types.js';
 import { resolveRules } from '../../rules/resolve.js';
 import { intOption, rowLine } from '../common.js';
@@ -43,7 +43,7 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const rules = resolveRules();
   const base = weekLabel(CHANGE_WEEK - 1); // retention into the week before the change
   const compare = weekLabel(PROMO_WEEK + 1); // retention into the week after the promotion
-  const { waist: full } = await createEngine('memory').run(filesSource([eventsFile]), rules, { by: 'channel' });
+  const full = await waistWithSections(filesSource([eventsFile]), rules, { by: 'channel' });
   const { model, waist } = reportOf(full, { base, compare });
   io.stderr(`${rowLine(waist.manifest.rows)}\n`);
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());

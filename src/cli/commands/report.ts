@@ -48,7 +48,7 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const bar = progress(io, o.format !== 'json', 4);
   try {
     bar.step('reading and classifying', 0);
-    const { waist: full, flags } = await waistInput(o as CommonOptions, { by: o.by });
+    const { waist: full, flags } = await waistInput(o as CommonOptions, { by: o.by, sections: true });
     bar.step('analysing', 2);
     const hint = periodFlagHint(analysisWaist(full, { includePartial: o.includePartial }), { base, compare });
     const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial }), { ...flags, base: '--base', compare: '--compare' }, hint);

@@ -13,7 +13,8 @@ import { aggregate, durationRows } from './aggregate.js';
 import { segmentCells } from './segments.js';
 import { activeAttribute, activeIndex } from './attributes.js';
 import { checkSplitColumn } from '../../lifecycle/perPerson.js';
-import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../../periods/calendar.js';
+import { lastPeriodOf } from '../../ingest/lastPeriod.js';
+import { periodLabel, type PeriodScheme } from '../../periods/calendar.js';
 import { optionKey, resolveRange, type ResolvedRange } from '../../periods/range.js';
 import { WINDOW_MAX_AGE } from '../../flows/types.js';
 import { engineFootprint, memoryBudget, type Footprint, type FootprintInput } from './budget.js';
@@ -23,7 +24,7 @@ import type { ClassifiedSink, Engine, EngineRun, EventSource, LastPeriod, RangeO
 import { makeManifest } from '../../waist/build.js';
 import type { Waist } from '../../waist/types.js';
 
-const DAY = 86_400_000;
+
 
 /** Limits of one run: the memory budget (default {@link memoryBudget}) and whether per-row output objects are built. */
 export interface RunLimits {
@@ -141,26 +142,6 @@ function sizesOf(log: EventLog, active: ActivePeriods, firstActive: Int32Array, 
     cohortCells,
     windowCells,
   };
-}
-
-/**
- * How complete the period `lastKey` is: the latest event in it, as a share of the period's wall-clock
- * length. Complete when that event lies in the period's last seventh, or when later events exist (in the
- * log, or dropped at reading as after --to): then the data did not stop there. `rows` counts its events.
- */
-function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { label: string; coverage: number; complete: boolean; rows: number } {
-  let maxWall = -Infinity, rows = 0, later = log.rows.afterRange > 0;
-  for (let i = 0; i < log.size; i++) {
-    const k = log.period[i];
-    if (k === lastKey) {
-      rows++;
-      if (log.wallMs[i] > maxWall) maxWall = log.wallMs[i];
-    } else if (k > lastKey) later = true;
-  }
-  const startMs = periodStartDay(lastKey, scheme) * DAY;
-  const endMs = periodEndDay(lastKey, scheme) * DAY;
-  const coverage = later ? 1 : Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));
-  return { label: periodLabel(lastKey, scheme), coverage, complete: later || maxWall >= endMs - (endMs - startMs) / 7, rows };
 }
 
 export class MemoryEngine implements Engine {
