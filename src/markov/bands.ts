@@ -9,8 +9,8 @@ import { TidemarkError } from '../errors.js';
 import { dirichletParameters, sampleFromParameters, type DirichletOptions } from './dirichlet.js';
 import { assertCounts, assertInteger, assertNonNegativeSquare } from './guards.js';
 import { projectUnchecked } from './project.js';
-import { quantileSorted } from './quantile.js';
-import { mulberry32 } from './random.js';
+import { quantileSorted } from '../numerics/quantile.js';
+import { mulberry32 } from '../numerics/random.js';
 import type { Matrix, Projection, Vector } from './types.js';
 
 export interface BandOptions extends DirichletOptions {

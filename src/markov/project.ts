@@ -5,7 +5,7 @@
  * Bartholomew, *Stochastic Models for Social Processes*).
  */
 import { assertCounts, assertInteger, assertStochastic } from './guards.js';
-import { vecMat } from './linalg.js';
+import { vecMat } from '../numerics/linalg.js';
 import type { Matrix, Projection, Vector } from './types.js';
 
 /**

@@ -14,7 +14,7 @@ import { compilePlan } from '../../src/lifecycle/plan.js';
 import { aggregate } from '../../src/flows/aggregate.js';
 import { runOnLog } from '../../src/engines/memory.js';
 import { summariseFlows } from '../../src/flows/summary.js';
-import { mulberry32 } from '../../src/markov/random.js';
+import { mulberry32 } from '../../src/numerics/random.js';
 import { parseRules } from '../../src/rules/load.js';
 import { periodLabel } from '../../src/periods/calendar.js';
 import { formatBytes } from '../../src/engines/budget.js';

@@ -9,7 +9,7 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import { cohortSurvivors } from '../../src/curve/survivors.js';
 import { MemoryEngine } from '../../src/engines/memory.js';
 import type { WaistTables } from '../../src/flows/types.js';
-import { mulberry32 } from '../../src/markov/random.js';
+import { mulberry32 } from '../../src/numerics/random.js';
 import { parseRules } from '../../src/rules/load.js';
 import { tempDir } from '../report/fixtures.js';
 
