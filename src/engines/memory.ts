@@ -10,7 +10,7 @@ import { classifiedSize, classify, firstActivePeriods, type Classified } from '.
 import { compilePlan } from '../lifecycle/plan.js';
 import { ACTIVE_STATES } from '../lifecycle/states.js';
 import { aggregate, durationRows } from '../flows/aggregate.js';
-import { segmentCells } from '../flows/segments.js';
+import { segmentCells, segmentFlows } from '../flows/segments.js';
 import { activeAttribute, activeIndex } from '../lifecycle/attributes.js';
 import { checkSplitColumn } from '../lifecycle/perPerson.js';
 import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
@@ -87,6 +87,11 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
     waist.segmentCells = { by: range.by, cells, perPerson: split?.perPerson };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf), perPerson: split?.perPerson };
+    // each user's segment is the value in their first active period, so the segments partition the users
+    const segmentOf = new Int32Array(log.users.length);
+    for (let u = 0; u < segmentOf.length; u++) if (classified.firstActive[u] >= 0) segmentOf[u] = attr.codes[activeIndex(active, u, classified.firstActive[u])];
+    const segments = segmentFlows(classified, segmentOf, attr.values, { states: plan.states, labels, outStart: r.outStart, firstFlow: r.outStart + warmup, freshCode: plan.states.indexOf('fresh') });
+    waist.segmentTransitions = { by: range.by, perPerson: split?.perPerson, segments };
   }
   const users = countUsers(classified.firstActive);
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;

@@ -73,7 +73,7 @@ describe('backtest', () => {
         sum += next.reduce((a, v, j) => a + Math.abs(v / total - actual[j] / actualTotal), 0) / S;
         n++;
       }
-      const r = backtest(tables, { horizon: 1, minFit: 2, window, samples: 2 });
+      const r = backtest(tables, { horizon: 1, minFit: 2, window, samples: 2, inflowMethod: 'mean' });
       expect(r.rows[0].origins).toBe(n);
       expectClose(r.rows[0].mae, sum / n, 1e-12);
     }

@@ -6,6 +6,7 @@ import { dirname, join } from 'node:path';
 import type { Command } from 'commander';
 import { CHANGE_WEEK, DEMO_START, PROMO_WEEK, simulateMakerspace } from '../../demo/makerspace.js';
 import { explainRetention } from '../../explain/run.js';
+import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { computeProjection } from '../../markov/run.js';
 import { buildReport } from '../../report/build.js';
 import { writeReport } from '../../report/write.js';
@@ -26,6 +27,9 @@ export interface DemoOptions {
   generatedAt?: string;
 }
 
+/** The demo's scenarios: keep more lapsing members, and an open day's newcomers. */
+export const DEMO_SCENARIOS = ['keep-lapsers=lapsing->dormant*0.8', 'open-day=+1500 fresh at +4'];
+
 const weekLabel = (w: number) => new Date(DEMO_START + w * 7 * 86_400_000).toISOString().slice(0, 10);
 
 export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }): Promise<void> {
@@ -42,18 +46,19 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const compare = weekLabel(PROMO_WEEK + 1); // retention into the week after the promotion
   const { result, dropped } = await reportRun({ events: [eventsFile], by: 'channel' }, rules);
   io.stderr(`${rowLine(result.rows)}\n`);
-  const model = buildReport(result, rules, { base, compare, droppedPartial: dropped });
+  const model = buildReport(result, rules, { base, compare, droppedPartial: dropped, scenarios: DEMO_SCENARIOS });
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 
   const explained = explainRetention(result.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
-  const projection = computeProjection({ tables: result.waist }, { fit: '8', horizon: 12, whatIf: ['lapsing->dormant*0.8'], until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
+  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
+  const projection = computeProjection({ tables: result.waist }, { fit: '8', horizon: 12, scenarios: DEMO_SCENARIOS, moves: lifecycleMoves(rules), until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 8, scheme });
   const colour = Boolean(io.stdoutIsTTY);
   io.stdout([
     headline(model, colour),
     `== Why retention moved (the planted change: new onboarding, and a change for long-standing members, from ${weekLabel(CHANGE_WEEK)}; a promotion in ${weekLabel(PROMO_WEEK)})`,
     formatExplain(explained, 'table'),
-    '== The audience in 12 weeks, and what if a fifth fewer lapsing members went dormant',
+    '== The audience in 12 weeks, and two scenarios: a fifth fewer lapsing members go dormant; an open day brings 1,500 newcomers in week 4',
     formatProjection(projection, 'table'),
   ].join('\n'));
 }
