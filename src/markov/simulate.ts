@@ -2,8 +2,9 @@
  * Simulated futures of the audience, for bands that hold what the past says can happen (see
  * DEVELOPERS.md, "Projection bands"). Each sampled path:
  * 1. draws each row's level from Dirichlet(m·(1/v − 1) + prior on the observed moves), v the level
- *    variance of {@link rateVariation}, and the inflow's center (and slope) from a normal with its
- *    standard deviation;
+ *    variance of `rateVariation`, and the inflow's center (and slope) from a normal with its standard
+ *    deviation; the estimated variances φ, δ (and the inflow's) are scaled by ν/χ²_ν, ν = periods − 2,
+ *    since a few periods estimate them only roughly ({@link varianceFactor});
  * 2. every period, moves each row's level one step of a Dirichlet random walk (concentration 1/δ − 1),
  *    draws that period's rates around it (concentration 1/φ − 1), and the period's arrivals
  *    (level walk σ²_η, noise σ_ε);
@@ -16,9 +17,10 @@ import { TidemarkError } from '../errors.js';
 import { multinomial } from '../numerics/binomial.js';
 import { dirichletUnchecked } from '../numerics/dirichlet.js';
 import { mulberry32, normal, type Rng } from '../numerics/random.js';
+import { gamma } from '../numerics/gamma.js';
 import { quantileSorted } from '../numerics/quantile.js';
 import type { InflowEstimate } from './inflow.js';
-import type { RowVariation } from './variation.js';
+import { MAX_VARIATION, type RowVariation } from './variation.js';
 
 /** Pseudo-count added to each observed move when a row's level is drawn (Jeffreys). */
 export const LEVEL_PRIOR = 0.5;
@@ -26,7 +28,7 @@ export const LEVEL_PRIOR = 0.5;
 /** What the paths are drawn from. */
 export interface PathModel {
   rows: readonly RowVariation[];
-  inflow: Pick<InflowEstimate, 'center' | 'slope' | 'noiseSd' | 'drift' | 'centerSd' | 'slopeSd'>;
+  inflow: Pick<InflowEstimate, 'center' | 'slope' | 'noiseSd' | 'drift' | 'centerSd' | 'slopeSd'> & { periods?: number };
   /** How the arrivals split over the states (shares summing to 1, or all 0 for no inflow). */
   split: readonly number[];
 }
@@ -73,21 +75,29 @@ export function simulatePaths(model: PathModel, start: readonly number[], horizo
   const stateCenter = model.split.map((f) => f * center);
   for (let k = 0; k < o.samples; k++) {
     const rng = mulberry32(streamSeed(o.seed, k, 0));
+    // the variances were estimated from a few periods: each path draws them from a scaled inverse chi-square
+    const rows = model.rows.map((r) => {
+      const f = varianceFactor(rng, r.periods - 2);
+      return { ...r, noise: Math.min(MAX_VARIATION, r.noise * f), drift: Math.min(MAX_VARIATION, r.drift * f) };
+    });
     const level = levelAlpha.map((a) => (a === null ? null : dirichletUnchecked(rng, a)));
     let inflowLevel = center + model.inflow.centerSd * normal(rng);
     const slope = model.inflow.slope + model.inflow.slopeSd * normal(rng);
+    const fi = varianceFactor(rng, (model.inflow.periods ?? 0) - 2);
+    const inflowDrift = model.inflow.drift * fi;
+    const inflowNoiseSd = Math.max(Math.sqrt(center), model.inflow.noiseSd * Math.sqrt(fi));
     const xs = scen.map(() => x0.slice());
     const noise: Rng[] = scen.map(() => mulberry32(streamSeed(o.seed, k, 1)));
     scen.forEach((_, c) => counts[c].set(x0, k * stride));
     for (let t = 1; t <= horizon; t++) {
-      const rates = model.rows.map((r, i) => {
+      const rates = rows.map((r, i) => {
         const lv = level[i];
         if (lv === null) return null;
         if (r.drift > 0) level[i] = dirichletUnchecked(rng, lv.map((v) => v * (1 / r.drift - 1)));
         return r.noise > 0 ? dirichletUnchecked(rng, (level[i] as number[]).map((v) => v * (1 / r.noise - 1))) : (level[i] as number[]).slice();
       });
-      inflowLevel += Math.sqrt(model.inflow.drift) * normal(rng);
-      const total = Math.max(0, inflowLevel + slope * t + model.inflow.noiseSd * normal(rng));
+      inflowLevel += Math.sqrt(inflowDrift) * normal(rng);
+      const total = Math.max(0, inflowLevel + slope * t + inflowNoiseSd * normal(rng));
       scen.forEach((edit, c) => {
         const x = xs[c];
         const next = new Array<number>(S).fill(0);
@@ -141,6 +151,15 @@ export function applyInflowEdits(arrivals: number[], edit: PathEdits, center: nu
     else arrivals[e.state] = stateCenter[e.state] > 0 ? (arrivals[e.state] * e.value) / stateCenter[e.state] : e.value;
   }
   for (const c of edit.campaigns) if (c.step === step) arrivals[c.state] += c.count;
+}
+
+/**
+ * A draw of ν/χ²_ν, the factor by which a variance estimated with ν degrees of freedom is scaled in one
+ * path (the scaled-inverse-χ² posterior of a normal variance; Gelman et al., *Bayesian Data Analysis*,
+ * 3rd ed., §3.2). ν < 1 (too few periods) gives 1: those rows have no estimated variation anyway.
+ */
+export function varianceFactor(rng: Rng, df: number): number {
+  return df >= 1 ? df / (2 * gamma(rng, df / 2)) : 1;
 }
 
 /** A seed for path k's stream: a 32-bit mix of the seed, the path and the stream number. */
