@@ -6,8 +6,9 @@
  * - `trend`: the Theil–Sen line through the arrivals (Sen 1968), extrapolated.
  *
  * Outliers are periods whose arrivals lie more than 3.5 modified z-scores from the method's center
- * (the median, or the Theil–Sen line; Iglewicz & Hoaglin 1993). They are listed for a warning and left
- * out of the estimate of how much arrivals vary.
+ * (the median, or the Theil–Sen line; Iglewicz & Hoaglin 1993), the MAD floored at the Poisson
+ * standard deviation √median / 1.4826 (counts that steady vary at least that much). They are listed
+ * for a warning and left out of the estimate of how much arrivals vary.
  *
  * Variation, for the bands (a local level model again, `numerics/variogram.ts`): from the other
  * periods, the noise variance σ²_ε (at least the mean: Poisson noise) and the drift σ²_η of the
@@ -60,7 +61,7 @@ export function estimateInflow(arrivals: readonly number[], labels: readonly str
   const x = arrivals.map((_, t) => t);
   const line = method === 'trend' ? theilSen(x, arrivals) : { slope: 0, intercept: median(arrivals) };
   const resid = arrivals.map((a, t) => a - (line.intercept + line.slope * t));
-  const out = new Set(modifiedZOutliers(resid));
+  const out = new Set(modifiedZOutliers(resid, Math.sqrt(Math.max(0, median(arrivals))) / 1.4826));
   const trimmed = method === 'trimmed' ? trimmedIndices(arrivals) : [];
   const center = method === 'mean' ? arrivals.reduce((a, b) => a + b, 0) / W
     : method === 'trimmed' ? trimmedMean(arrivals)

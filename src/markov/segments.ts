@@ -55,7 +55,7 @@ export function projectSegments(tables: WaistTables, split: NonNullable<WaistTab
     for (let i = 0; i < states.length; i++) {
       if (!(start[i] > 0)) continue;
       const left = picked.reduce((a, t) => a + t.counts[i].reduce((x, y) => x + y, 0), 0);
-      if (left < minUsers) return `${left} user${left === 1 ? '' : 's'} left ${states[i]} over the fit window, fewer than ${minUsers}`;
+      if (left < minUsers) return `${Number.isInteger(left) ? left : left.toFixed(1)} user${left === 1 ? '' : 's'} left ${states[i]} over the fit window, fewer than ${minUsers}`;
     }
     return undefined;
   };

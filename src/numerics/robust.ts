@@ -47,13 +47,14 @@ export function mad(values: readonly number[], center = median(values)): number 
 /**
  * Indices of outliers by the modified z-score M = 0.6745·(x − center)/MAD, |M| > 3.5 (Iglewicz &
  * Hoaglin 1993, *How to Detect and Handle Outliers*, ASQC). `residuals` are deviations from the
- * method's own center (the median, or a fitted line). With MAD = 0 (most values equal) every value
- * off the center is an outlier.
+ * method's own center (the median, or a fitted line). `minMad` floors the MAD (a known noise level,
+ * so that near-identical values do not make ordinary ones outliers); with MAD = 0 every value off the
+ * center is an outlier.
  * @example modifiedZOutliers([0, 1, -1, 0, 2, -2, 40]) // [6]
  */
-export function modifiedZOutliers(residuals: readonly number[]): number[] {
+export function modifiedZOutliers(residuals: readonly number[], minMad = 0): number[] {
   const m = median(residuals);
-  const d = mad(residuals, m);
+  const d = Math.max(minMad, mad(residuals, m));
   return residuals.map((r, i) => [r, i] as const).filter(([r]) => (d > 0 ? (0.6745 * Math.abs(r - m)) / d > 3.5 : r !== m)).map(([, i]) => i);
 }
 
