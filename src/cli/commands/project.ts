@@ -4,7 +4,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { Option, type Command } from 'commander';
-import { TidemarkError, inFile, showValue } from '../../errors.js';
+import { TidemarkError, inFile, showValue, suggestion } from '../../errors.js';
 import { selectTransitions } from '../../flows/select.js';
 import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { STATES } from '../../lifecycle/states.js';
@@ -23,7 +23,7 @@ export interface ProjectOptions extends Omit<CommonOptions, 'events'> {
   fit?: string;
   horizon: string;
   inflow?: string;
-  inflowMethod: InflowMethod;
+  inflowMethod: string;
   until?: string;
   whatIf: string[];
   scenario: string[];
@@ -183,9 +183,15 @@ function projectionOptions(o: ProjectOptions): ProjectionOptions {
     backtest: o.backtest,
     backtestHorizon: wholeNumber(o.backtestHorizon, '--backtest-horizon', 1, MAX_HORIZON),
     inflow: o.inflow === undefined ? undefined : countNumber(o.inflow, '--inflow'),
-    inflowMethod: o.inflowMethod,
+    inflowMethod: inflowMethodOption(o.inflowMethod),
     season: o.season === undefined ? undefined : wholeNumber(o.season, '--season', 1, 1000),
   };
+}
+
+/** One of the inflow methods, with a "did you mean". */
+function inflowMethodOption(text: string): InflowMethod {
+  if ((INFLOW_METHODS as readonly string[]).includes(text)) return text as InflowMethod;
+  throw new TidemarkError('USAGE', `'${showValue(text)}' is not an inflow method`, { key: '--inflow-method' }, suggestion(text, INFLOW_METHODS) ?? `Methods: ${INFLOW_METHODS.join(', ')}`);
 }
 
 export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
@@ -246,7 +252,7 @@ export function projectCommand(program: Command, io: Io): void {
     .option('--fit <range>', `transitions to fit on: all, N (the last N) or FROM..TO (default: the last ${DEFAULT_FIT}, or all when fewer)`)
     .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--inflow <n>', 'new users per period (default: estimated from the fit window by --inflow-method)')
-    .addOption(new Option('--inflow-method <method>', 'how new users per period are estimated from the fit window (median is robust to one-off spikes)').choices([...INFLOW_METHODS]).default('median'))
+    .option('--inflow-method <method>', `how new users per period are estimated from the fit window: ${INFLOW_METHODS.join(', ')} (the median is robust to one-off spikes)`, 'median')
     .option('--until <state>', 'expected periods until first reaching this state, from each other state')
     .option('--scenario <name=edits>', 'a named scenario compared with the baseline, with bands; repeatable: keep="lapsing->dormant*0.8; fresh->engaged=0.6", boost="inflow*1.2", launch="+3000 fresh at +4"', (v: string, acc: string[]) => [...acc, v], [] as string[])
     .option('--what-if <edit>', 'quick what-if, repeatable; all edits form one unnamed scenario without bands: "lapsing->dormant*0.8", "lapsing->dormant=0.3", "inflow*1.2", "inflow=500"', (v: string, acc: string[]) => [...acc, v], [] as string[])
