@@ -31,7 +31,7 @@ export { lifecycleMoves, type LifecycleMoves, type Move } from './lifecycle/move
 // Engines and the waist tables
 export { MemoryEngine, runOnLog } from './engines/memory.js';
 export type { Engine, EngineResult, EventSource, RangeOptions, ClassifiedRow, LastPeriod } from './engines/types.js';
-export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow } from './flows/types.js';
+export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow, SegmentFlows } from './flows/types.js';
 
 // Flows
 export { summariseFlows, type FlowsSummary, type TransitionSummary, type PooledSummary } from './flows/summary.js';

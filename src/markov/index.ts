@@ -38,7 +38,16 @@ export { sampleDirichlet } from '../numerics/dirichlet.js';
 export { quantileSorted } from '../numerics/quantile.js';
 export { sampleTransitionMatrix, dirichletParameters, type DirichletOptions } from './dirichlet.js';
 export { projectionBands, type BandOptions, type Bands } from './bands.js';
-export { backtest, type BacktestOptions, type BacktestRow, type Backtest } from './backtest.js';
+export { rateVariation, type RowVariation } from './variation.js';
+export { estimateInflow, inflowAt, INFLOW_METHODS, type InflowEstimate, type InflowMethod } from './inflow.js';
+export { simulatePaths, type PathModel, type PathEdits, type Simulation } from './simulate.js';
+export { forecastWindow, type Forecast } from './forecast.js';
+export { backtest, intervalScore, type BacktestOptions, type BacktestRow, type Backtest } from './backtest.js';
+
+// Scenarios side by side, segments
+export { parseNamedScenario, type NamedScenario } from './scenario.js';
+export { type ScenarioOutput } from './scenarios.js';
+export { projectSegments, type SegmentsOutput } from './segments.js';
 
 // The whole projection job
 export { computeProjection, type ProjectOutput, type ProjectionOptions, type ProjectionStep } from './run.js';

@@ -84,11 +84,13 @@ export function projectSegments(tables: WaistTables, split: NonNullable<WaistTab
       f = { ...all, inflow: own.inflow, inflowVector: own.inflowVector, point, model: { rows: all.variation, inflow: own.inflow, split: own.model.split } };
     }
     groups.push({ segment: POOLED, users: start.reduce((a, b) => a + b, 0), members: members.map((m) => m.flows.segment), ownRates, f, start });
-    const names = pooled.map((p) => `'${showValue(p.segment, 30)}'`);
-    warnings.push(`Segments by ${showValue(split.by, 30)}: ${names.slice(0, 8).join(', ')}${names.length > 8 ? ` and ${names.length - 8} more` : ''} had too few users to fit alone and were pooled${ownRates ? '' : '; even together they are too few, so the pooled group uses the rates of all users'}.`);
+    // a column whose values are nearly unique per person: sentences never name its values
+    const names = split.perPerson ? [] : pooled.map((p) => `'${showValue(p.segment, 30)}'`);
+    const which = split.perPerson ? `${pooled.length} segment${pooled.length === 1 ? '' : 's'}` : `${names.slice(0, 8).join(', ')}${names.length > 8 ? ` and ${names.length - 8} more` : ''}`;
+    warnings.push(`Segments by ${showValue(split.by, 30)}: ${which} had too few users to fit alone and were pooled${ownRates ? '' : '; even together they are too few, so the pooled group uses the rates of all users'}.`);
   }
   const sims: Simulation[] = groups.map((g) => simulatePaths(g.f.model, g.start, o.horizon, { samples: o.samples, seed: o.seed }));
-  for (const g of groups) warnings.push(...forecastWarnings(g.f, `segment '${showValue(g.segment, 30)}'`).filter((w) => w.startsWith('Bands')));
+  groups.forEach((g, k) => warnings.push(...forecastWarnings(g.f, split.perPerson ? `segment ${k + 1}` : `segment '${showValue(g.segment, 30)}'`).filter((w) => w.startsWith('Bands'))));
   const sum: Simulation = { ...sims[0], counts: [sims.reduce((acc, s) => { for (let i = 0; i < acc.length; i++) acc[i] += s.counts[0][i]; return acc; }, new Float64Array(sims[0].counts[0].length))] };
   const S = states.length;
   const sumPoint = groups.reduce<{ counts: number[][] }>((acc, g) => ({ counts: acc.counts.map((row, t) => row.map((v, s) => v + g.f.point.counts[t][s])) }), { counts: Array.from({ length: o.horizon + 1 }, () => new Array<number>(S).fill(0)) });
