@@ -89,16 +89,22 @@ export function projectSegments(tables: WaistTables, split: NonNullable<WaistTab
     const which = split.perPerson ? `${pooled.length} segment${pooled.length === 1 ? '' : 's'}` : `${names.slice(0, 8).join(', ')}${names.length > 8 ? ` and ${names.length - 8} more` : ''}`;
     warnings.push(`Segments by ${showValue(split.by, 30)}: ${which} had too few users to fit alone and were pooled${ownRates ? '' : '; even together they are too few, so the pooled group uses the rates of all users'}.`);
   }
-  const sims: Simulation[] = groups.map((g) => simulatePaths(g.f.model, g.start, o.horizon, { samples: o.samples, seed: o.seed }));
-  groups.forEach((g, k) => warnings.push(...forecastWarnings(g.f, split.perPerson ? `segment ${k + 1}` : `segment '${showValue(g.segment, 30)}'`).filter((w) => w.startsWith('Bands'))));
-  const sum: Simulation = { ...sims[0], counts: [sims.reduce((acc, s) => { for (let i = 0; i < acc.length; i++) acc[i] += s.counts[0][i]; return acc; }, new Float64Array(sims[0].counts[0].length))] };
+  // one group's paths at a time (their bands taken, then added into the sum), so memory holds two simulations
+  let sum: Simulation | undefined;
+  const projections = groups.map((g, k) => {
+    const sim = simulatePaths(g.f.model, g.start, o.horizon, { samples: o.samples, seed: o.seed });
+    warnings.push(...forecastWarnings(g.f, split.perPerson ? `segment ${k + 1}` : `segment '${showValue(g.segment, 30)}'`).filter((w) => w.startsWith('Bands')));
+    if (!sum) sum = { ...sim, counts: [sim.counts[0].slice()] };
+    else for (let i = 0; i < sum.counts[0].length; i++) sum.counts[0][i] += sim.counts[0][i];
+    return stepsWithBands(states, g.f.point, sim, 0, o.band, o.activeIdx, o.labels);
+  });
   const S = states.length;
   const sumPoint = groups.reduce<{ counts: number[][] }>((acc, g) => ({ counts: acc.counts.map((row, t) => row.map((v, s) => v + g.f.point.counts[t][s])) }), { counts: Array.from({ length: o.horizon + 1 }, () => new Array<number>(S).fill(0)) });
   const totals = sumPoint.counts.map((r) => r.reduce((a, b) => a + b, 0));
   return {
     by: split.by,
     minUsers,
-    groups: groups.map((g, k) => ({ segment: g.segment, users: g.users, ...(g.members ? { members: g.members } : {}), ownRates: g.ownRates, projection: stepsWithBands(states, g.f.point, sims[k], 0, o.band, o.activeIdx, o.labels) })),
+    groups: groups.map((g, k) => ({ segment: g.segment, users: g.users, ...(g.members ? { members: g.members } : {}), ownRates: g.ownRates, projection: projections[k] })),
     pooled,
     sum: stepsWithBands(states, { counts: sumPoint.counts, totals, shares: sumPoint.counts.map((r, t) => r.map((v) => (totals[t] > 0 ? v / totals[t] : 0))) }, sum, 0, o.band, o.activeIdx, o.labels),
     warnings,
