@@ -70,6 +70,7 @@ describe('a bad option is refused before any event file is opened (the events pa
     ['curve', ['--horizon', 'x'], '--horizon'],
     ['report', ['--seed', 'x', '--out', join(dir, 'r0')], '--seed'],
     ['report', ['--compare', '2026-13-01', '--out', join(dir, 'r1')], '--compare'],
+    ['report', ['--scenario', 'x=lapsing->engaged*2', '--out', join(dir, 'r3')], '--scenario'],
   ] as [string, string[], string][])('%s %j: exit 2 naming the flag', async (command, args, flag) => {
     expectFlagRefusal(await runCli([command, '--events', MISSING, ...args]), flag);
   });

@@ -7,7 +7,8 @@ import { ansiState } from '../../report/palette.js';
 import { STATES } from '../../lifecycle/states.js';
 import type { Rules } from '../../rules/schema.js';
 import { addEventOptions, addPartialOption, eventRun, note, noteRun, partialSentence, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
-import { asFlags, dateOption, seedOption, wholeNumber } from '../options.js';
+import { asFlags, dateOption, scenarioOption, seedOption, wholeNumber } from '../options.js';
+import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { MAX_HORIZON } from './project.js';
 import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
@@ -22,6 +23,8 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
   by?: string;
   horizon: string;
   seed: string;
+  /** Named scenarios for the projection, `NAME=edits` (see `project --scenario`). */
+  scenario?: string[];
   includePartial?: boolean;
   generatedAt?: string;
 }
@@ -61,12 +64,13 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const compare = dateOption(o.compare, '--compare');
   const horizon = wholeNumber(o.horizon, '--horizon', 1, MAX_HORIZON);
   const seed = seedOption(o.seed);
+  const scenarios = scenarioOption(o.scenario ?? [], '--scenario', STATES, horizon, lifecycleMoves(rules));
   const bar = progress(io, o.format !== 'json', 4);
   let stage = 0;
   try {
     const { result, dropped } = await reportRun(o, rules, (label) => bar.step(label, stage++));
     bar.step('analysing', 2);
-    const model = asFlags(() => buildReport(result, rules, { base, compare, horizon, seed, droppedPartial: dropped }), { base: '--base', compare: '--compare' }, periodFlagHint(result, rules, { base, compare }));
+    const model = asFlags(() => buildReport(result, rules, { base, compare, horizon, seed, droppedPartial: dropped, scenarios }), { base: '--base', compare: '--compare', scenarios: '--scenario' }, periodFlagHint(result, rules, { base, compare }));
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
@@ -90,6 +94,7 @@ export function reportCommand(program: Command, io: Io): void {
     .option('--by <column>', 'also split retention by this attribute column (refused when its values are nearly unique per user)')
     .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')
+    .option('--scenario <name=edits>', 'a named scenario for the projection and the scenario chart, repeatable (as project --scenario)', (v: string, acc: string[]) => [...acc, v], [] as string[])
     .addOption(new Option('--format <format>', 'format of the headline findings on standard output').choices(['table', 'csv', 'json']).default('table'));
   addPerPersonOption(cmd);
   addPartialOption(addEventOptions(cmd)).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));
