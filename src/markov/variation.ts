@@ -59,7 +59,7 @@ export function rateVariation(transitions: readonly TransitionCounts[], states: 
     if (N === 0) return { state, rates: null, users: 0, periods: 0, noise: 0, drift: 0, level: 0, estimated: false };
     const m = states.map((_, j) => rows.reduce((a, r) => a + r[j], 0) / N);
     const V = 1 - m.reduce((a, v) => a + v * v, 0);
-    const used = n.map((v, t) => t).filter((t) => n[t] > 0);
+    const used = n.map((_, t) => t).filter((t) => n[t] > 0);
     const estimated = used.length >= MIN_PERIODS && V > 0;
     let noise = 0, drift = 0;
     if (estimated) {
