@@ -42,7 +42,7 @@ export { analysisWaist, partialPeriodSentence, type DroppedPeriod } from './wais
 export { WAIST_TABLES, type TableSpec } from './waist/tables.js';
 export { makeManifest, type ManifestInput } from './waist/build.js';
 export { resolveRules, DEFAULT_RULES, type RulesChoice } from './rules/resolve.js';
-export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow } from './flows/types.js';
+export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow, SegmentFlows } from './flows/types.js';
 
 // Flows
 export { summariseFlows, type FlowsSummary, type TransitionSummary, type PooledSummary } from './flows/summary.js';

@@ -7,7 +7,7 @@ import type { RowAccount } from '../ingest/eventLog.js';
 import { periodKeyOfDate } from '../periods/calendar.js';
 import { DEFAULT_RULES, resolveRules as resolveRulesFile } from '../rules/resolve.js';
 import type { Rules } from '../rules/schema.js';
-import { analysisWaist, partialPeriodSentence, type DroppedPeriod } from '../waist/derive.js';
+import { analysisWaist, partialPeriodSentence, withoutSplit, type DroppedPeriod } from '../waist/derive.js';
 import { readWaist } from '../waist/read.js';
 import type { Waist } from '../waist/types.js';
 import { FORMATS, terminalText, type Format } from './format.js';
@@ -181,13 +181,13 @@ export async function waistInput(o: CommonOptions, spec: { by?: string; sections
   if (o.waist !== undefined) {
     const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
     if (given.length) throw new TidemarkError('USAGE', `give either --waist or ${given.join(', ')}: a waist was made from its events and rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --waist');
-    const waist = readWaist(o.waist);
-    const m = waist.manifest;
+    const read = readWaist(o.waist);
+    const m = read.manifest;
     if (spec.by !== undefined && m.by !== spec.by) {
       throw new TidemarkError('USAGE', m.by === null ? `the waist holds no split by an attribute, so --by ${showValue(spec.by, 40)} needs events` : `the waist is split by '${showValue(m.by, 40)}', not '${showValue(spec.by, 40)}': another split needs events`,
         { key: '--by' }, `Rebuild it with tidemark waist --by ${showValue(spec.by, 40)}, or give --events`);
     }
-    return { waist, flags: {} };
+    return { waist: spec.by === undefined ? withoutSplit(read) : read, flags: {} };
   }
   if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log or waist given', { key: '--events' }, 'For example --events events.csv, or --waist DIR');
   const rules = resolveRules(o);

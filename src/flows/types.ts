@@ -99,4 +99,20 @@ export interface WaistTables {
   segmentCells?: { by: string; cells: RetentionCell[]; perPerson?: boolean };
   /** Time-to-dormant durations grouped by that attribute's value in each user's first active period. */
   segmentDurations?: { by: string; rows: DurationRow[]; perPerson?: boolean };
+  /**
+   * Optional: the flows of each segment when asked for (`--by`), users split by the attribute's value
+   * in their first active period (as `segmentDurations`), so the segments partition the users and
+   * their tables add up to the unsplit ones. `stateCounts` is aligned with `periods`, `transitions`
+   * with `transitions` (same from/to); `fresh` is the segment's own newcomers.
+   */
+  segmentTransitions?: { by: string; perPerson?: boolean; segments: SegmentFlows[] };
+}
+
+/** The flows of one segment (see WaistTables.segmentTransitions). */
+export interface SegmentFlows {
+  /** The attribute's value; '(none)' for users without one. */
+  segment: string;
+  /** stateCounts[p][s]: the segment's users in states[s] in periods[p]. */
+  stateCounts: number[][];
+  transitions: TransitionCounts[];
 }

@@ -14,7 +14,8 @@ import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../survival/r
 import { cohortTriangleChart } from './charts/cohortTriangle.js';
 import { decompositionChart } from './charts/decomposition.js';
 import { flowRibbons } from './charts/flowRibbons.js';
-import { backtestChart, projectionChart } from './charts/projection.js';
+import { backtestChart, coverageChart, projectionChart, scenarioChart } from './charts/projection.js';
+import { lifecycleMoves } from '../lifecycle/moves.js';
 import { rateHeatmap } from './charts/rateHeatmap.js';
 import { retentionBands } from './charts/retentionBands.js';
 import { stateMix } from './charts/stateMix.js';
@@ -22,6 +23,7 @@ import { survivalChart } from './charts/survival.js';
 import type { Chart, DataTable } from './charts/types.js';
 import { stateColours } from './palette.js';
 import type { ReportSection } from './sections/types.js';
+import type { Weekday } from '../rules/schema.js';
 
 export interface ReportOptions {
   /** Chosen comparison for the decomposition: periods retained into. Default: latest against `lookback` earlier. */
@@ -33,12 +35,14 @@ export interface ReportOptions {
   seed?: number;
   /** Sampled chains for the bands. */
   samples?: number;
-  /** Transitions the projection is fitted on (default: the last 8, or all when fewer). */
+  /** Transitions the projection is fitted on (default: the last 8, or all when fewer; the backtest uses the same window). */
   fit?: string;
   /** A note when the last, incomplete period was left out. */
   droppedPartial?: string;
   /** Sections built from the events by the caller (report/sections/behaviour.ts): the data check first. */
   sections?: ReportSection[];
+  /** Named scenarios (`NAME=edits`) compared with the baseline projection. */
+  scenarios?: string[];
 }
 
 export interface Finding {
@@ -181,17 +185,29 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
   // projection
   if (flows.transitions.length >= 1) {
     const horizon = o.horizon ?? 12;
-    const fit = o.fit ?? String(Math.min(8, flows.transitions.length));
-    const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4, backtestOrigins: REPORT_BACKTEST_ORIGINS });
+    const scheme = { grain: rules.grain, weekStart: rules.weekStart as Weekday };
+    const proj: ProjectOutput = computeProjection({ tables: w }, { fit: o.fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 8, backtestOrigins: REPORT_BACKTEST_ORIGINS, scheme, scenarios: o.scenarios, moves: lifecycleMoves(rules), minSegment: rules.minCell });
     documents.push({ name: 'projection', value: proj });
-    charts.push(projectionChart(proj, grainWord, w.activeStates, stateColours(proj.states, m.states)));
+    charts.push(projectionChart(proj, grainWord, { periods: w.periods, stateCounts: w.stateCounts }, stateColours(proj.states, m.states)));
     const end = proj.projection[horizon];
     const mix = proj.states.map((s) => `${s} ${p1(end.shares[s])}${end.bands ? ` (${p1(end.bands.shares[s][0])}–${p1(end.bands.shares[s][1])})` : ''}`).join(', ');
-    findings.push({ kind: 'projection', text: `If the flows of the last ${proj.source.kind === 'events' ? proj.source.fit.transitions : ''} ${grainWord}s hold, in ${horizon} ${grainWord}s the mix is ${mix}; 10th–90th percentile bands.` });
+    findings.push({ kind: 'projection', text: `If the flows of the last ${proj.source.kind === 'events' ? proj.source.fit.transitions : ''} ${grainWord}s hold, in ${horizon} ${grainWord}s the mix is ${mix}; 80% bands from simulated paths in which the rates and arrivals vary as they did.` });
+    warnings.push(...proj.warnings);
+    const sc = scenarioChart(proj, grainWord);
+    if (sc) {
+      charts.push(sc);
+      findings.push({ kind: 'projection', text: `Scenarios: ${sc.reading}` });
+    }
     if (proj.backtest && 'rows' in proj.backtest) {
-      charts.push(backtestChart(proj.backtest, grainWord));
-      const bt = proj.backtest.rows[proj.backtest.rows.length - 1];
-      if (bt && bt.coverage < 0.6) warnings.push(`The projection bands held the actual mix only ${(bt.coverage * 100).toFixed(0)}% of the time in the backtest (${bt.horizon} ${grainWord}s ahead): they reflect sampling error in the fitted rates, not shifts in the flows themselves. Treat them as a floor on the uncertainty.`);
+      const bt = proj.backtest;
+      charts.push(backtestChart(bt, grainWord), coverageChart(bt, grainWord));
+      const below = bt.rows.filter((r) => r.coverage < bt.target.outer[0] - 1e-9 || r.innerCoverage < bt.target.inner[0] - 1e-9).map((r) => r.horizon);
+      const above = bt.rows.filter((r) => r.coverage > bt.target.outer[1] + 1e-9 || r.innerCoverage > bt.target.inner[1] + 1e-9).map((r) => r.horizon);
+      const breaks = bt.missed.slice(0, 4).map((m) => m.period).join(', ');
+      const ahead = (hs: number[]) => `${hs.join(', ')} ${grainWord}${hs.length > 1 || hs[0] > 1 ? 's' : ''} ahead`;
+      if (below.length) warnings.push(`The projection bands held less than their target in the backtest at ${ahead(below)}${breaks ? `; the misses cluster on ${breaks}, where the flows changed beyond their past variation (a structural break, such as a promotion or a change of rules, which no band built from the past foresees)` : ': the flows varied more than the fit window showed'}.`);
+      if (above.length) warnings.push(`The projection bands were wider than needed in the backtest at ${ahead(above)} (they held more than their target).`);
+      if (!below.length && breaks) warnings.push(`The projection bands missed most of what happened in ${breaks}: the flows changed there beyond their past variation (a structural break).`);
     }
   }
 

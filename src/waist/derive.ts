@@ -65,6 +65,15 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
   };
   if (t.segmentCells) tables.segmentCells = { ...t.segmentCells, cells: t.segmentCells.cells.filter((c) => c.to !== last) };
   if (t.segmentDurations) tables.segmentDurations = { ...t.segmentDurations, rows: shorten(t.segmentDurations.rows) };
+  if (t.segmentTransitions) {
+    tables.segmentTransitions = {
+      ...t.segmentTransitions,
+      // a segment whose users all arrived in the last period has none left
+      segments: t.segmentTransitions.segments
+        .map((g) => ({ segment: g.segment, stateCounts: g.stateCounts.slice(0, L), transitions: g.transitions.filter((tr) => tr.to !== last) }))
+        .filter((g) => g.stateCounts.some((row) => row.some((n) => n > 0))),
+    };
+  }
   const rows = { ...m.rows, used: m.rows.used - m.rowsInLastPeriod, partial: m.rowsInLastPeriod };
   const manifest = {
     ...m,
@@ -75,6 +84,16 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
     lastPeriod: { label: tables.periods[L - 1], coverage: 1, complete: true },
   };
   return { waist: { manifest, tables: analysisForm(tables), ...(w.sections ? { sections: w.sections } : {}) }, dropped: { label: last, coverage: m.lastPeriod.coverage, rows: m.rowsInLastPeriod } };
+}
+
+/**
+ * The waist without its attribute split (retention cells, durations and flows by `by`): what an
+ * analysis that was not asked to split reads, so that it gives the same output from a waist built
+ * with `--by` as from the events without it.
+ */
+export function withoutSplit(w: Waist): Waist {
+  const { segmentCells: _c, segmentDurations: _d, segmentTransitions: _t, ...tables } = w.tables;
+  return { ...w, tables };
 }
 
 /** Duration rows merged over cohorts, cohort rows without the extra counts, windows up to WINDOW_MAX_AGE. */

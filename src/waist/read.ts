@@ -274,6 +274,40 @@ export function readWaist(dir: string): Waist {
     const k = periodIdx.get(r.cohort) as number;
     if (r.size !== arrivals[k]) throw new TidemarkError('INPUT_INVALID', `cohort ${r.cohort} has ${r.size} members at age 0, but ${arrivals[k]} arrivals`, { file: join(dir, WAIST_TABLES.cohortActivity.file) });
   }
+  // segment flows (present with an attribute split)
+  const segStates = new Map<string, number[][]>();
+  const segPairs = new Map<string, Map<number, number[][]>>();
+  {
+    const t = new TableReader(dir, 'segmentStateCounts');
+    const c = cells(t);
+    for (const row of t.rows()) {
+      if (m.by === null) throw c.bad(row, 'segment counts, but the manifest names no attribute (by)', 'segment');
+      const g = row.get('segment');
+      let sc = segStates.get(g);
+      if (!sc) segStates.set(g, (sc = Array.from({ length: P }, () => new Array<number>(S).fill(0))));
+      sc[c.period(row, 'period')][c.state(row, 'state')] += c.num(row, 'users');
+    }
+    const tt = new TableReader(dir, 'segmentTransitions');
+    const ct = cells(tt);
+    for (const row of tt.rows()) {
+      const g = row.get('segment');
+      if (!segStates.has(g)) throw ct.bad(row, `segment '${showValue(g)}' has no state counts`, 'segment');
+      const from = ct.period(row, 'period_from'), to = ct.period(row, 'period_to');
+      if (to !== from + 1 || !pairIndex.has(to)) throw ct.bad(row, 'not a counted pair of consecutive periods', 'period_to');
+      let pairs = segPairs.get(g);
+      if (!pairs) segPairs.set(g, (pairs = new Map()));
+      let counts = pairs.get(to);
+      if (!counts) pairs.set(to, (counts = Array.from({ length: S }, () => new Array<number>(S).fill(0))));
+      counts[ct.state(row, 'state_from')][ct.state(row, 'state_to')] += ct.num(row, 'users');
+    }
+    // the segments partition the users: their counts add up to the unsplit ones
+    if (segStates.size > 0) {
+      for (let p = 0; p < P; p++) for (let i = 0; i < S; i++) {
+        const sum = [...segStates.values()].reduce((a, sc) => a + sc[p][i], 0);
+        if (sum !== stateCounts[p][i]) throw new TidemarkError('INPUT_INVALID', `${m.periods[p]}, ${states[i]}: the segments hold ${sum} users, the state counts ${stateCounts[p][i]}`, { file: t.file });
+      }
+    }
+  }
   // durations
   const durations: DurationRow[] = [];
   const segmentDurations: DurationRow[] = [];
@@ -315,6 +349,16 @@ export function readWaist(dir: string): Waist {
   if (m.by !== null) {
     tables.segmentCells = { by: m.by, cells: canonicalSegmentCells(segmentCells), perPerson: m.byPerPerson };
     tables.segmentDurations = { by: m.by, rows: canonicalDurations(segmentDurations), perPerson: m.byPerPerson };
+    {
+      const arrival = stateIdx.get(tables.arrivalState) as number;
+      const segments = [...segStates.keys()].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0)).map((g) => {
+        const sc = segStates.get(g) as number[][];
+        const pairs = segPairs.get(g) ?? new Map<number, number[][]>();
+        const transitions: TransitionCounts[] = [...pairIndex.keys()].map((p) => ({ from: m.periods[p - 1], to: m.periods[p], counts: pairs.get(p) ?? Array.from({ length: S }, () => new Array<number>(S).fill(0)), fresh: sc[p][arrival] }));
+        return { segment: g, stateCounts: sc, transitions };
+      });
+      tables.segmentTransitions = { by: m.by, perPerson: m.byPerPerson, segments };
+    }
   }
   const sectionsFile = join(dir, SECTIONS_FILE);
   let sections: Waist['sections'];

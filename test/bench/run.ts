@@ -14,11 +14,12 @@ import { compilePlan } from '../../src/lifecycle/plan.js';
 import { aggregate } from '../../src/engines/memory/aggregate.js';
 import { runOnLog } from '../../src/engines/memory/index.js';
 import { summariseFlows } from '../../src/flows/summary.js';
-import { mulberry32 } from '../../src/markov/random.js';
+import { mulberry32 } from '../../src/numerics/random.js';
 import { parseRules } from '../../src/rules/load.js';
 import { periodLabel } from '../../src/periods/calendar.js';
 import { formatBytes } from '../../src/engines/memory/budget.js';
 import { buildReport } from '../../src/report/build.js';
+import { computeProjection } from '../../src/markov/run.js';
 import { writeReport } from '../../src/report/write.js';
 import { writeFileSync } from 'node:fs';
 import { startupTimes } from './startup.js';
@@ -125,6 +126,12 @@ try {
   console.log(`flow summaries       ${secs(t2, t3)}`);
   console.log(`user-periods         ${classified.size.toLocaleString('en-US')}`);
   console.log(`peak RSS             ${mb(peak)} (${mb(base)} before reading); the engine's estimate of its own need: ${formatBytes(footprint.total)} (${footprint.parts.map((p) => `${p.what} ${formatBytes(p.bytes)}`).join(', ')})`);
+  // the projection job: 500 simulated futures for the bands, one scenario, a backtest of every origin at horizons 1–8
+  s = performance.now();
+  const proj = computeProjection({ tables: result.waist }, { horizon: 12, samples: 500, seed: 1, band: [10, 90], scenarios: ['keep=lapsing->dormant*0.8'], backtestHorizon: 8, scheme: log.scheme });
+  const tProj = (performance.now() - s) / 1000;
+  const origins = proj.backtest && 'rows' in proj.backtest ? proj.backtest.origins.length : 0;
+  console.log(`projection           ${tProj.toFixed(2)} s  (bands of 500 futures over 12 periods, one scenario, backtest of ${origins} origins × 8 periods × 100 futures)`);
   await reportScaling(dir);
 } finally {
   rmSync(dir, { recursive: true, force: true });

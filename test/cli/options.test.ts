@@ -58,12 +58,19 @@ describe('a bad option is refused before any event file is opened (the events pa
     ['project', ['--until', 'dead'], '--until'],
     ['project', ['--fit', '0'], '--fit'],
     ['project', ['--inflow', '1e400'], '--inflow'],
+    ['project', ['--scenario', 'keep=lapsing->engaged*1.2'], '--scenario'],
+    ['project', ['--scenario', 'lapsing->dormant*0.8'], '--scenario'],
+    ['project', ['--scenario', 'launch=+3000 fresh at +40'], '--scenario'],
+    ['project', ['--scenario', 'launch=+3000 dormant at +4'], '--scenario'],
+    ['project', ['--inflow-method', 'mode'], '--inflow-method'],
+    ['project', ['--season', '0'], '--season'],
     ['cohorts', ['--ages', '1,x'], '--ages'],
     ['cohorts', ['--window', '5..2'], '--window'],
     ['survival', ['--merge', '0'], '--merge'],
     ['curve', ['--horizon', 'x'], '--horizon'],
     ['report', ['--seed', 'x', '--out', join(dir, 'r0')], '--seed'],
     ['report', ['--compare', '2026-13-01', '--out', join(dir, 'r1')], '--compare'],
+    ['report', ['--scenario', 'x=lapsing->engaged*2', '--out', join(dir, 'r3')], '--scenario'],
   ] as [string, string[], string][])('%s %j: exit 2 naming the flag', async (command, args, flag) => {
     expectFlagRefusal(await runCli([command, '--events', MISSING, ...args]), flag);
   });

@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { cohortSurvivors } from '../../src/curve/survivors.js';
 import type { WaistTables } from '../../src/flows/types.js';
-import { mulberry32 } from '../../src/markov/random.js';
+import { mulberry32 } from '../../src/numerics/random.js';
 import { parseRules } from '../../src/rules/load.js';
 import { tempDir } from '../report/fixtures.js';
 import { ENGINES, classifyWith } from './engines.js';
@@ -103,6 +103,32 @@ describe.each(ENGINES)('%s engine', (engine) => {
       const got = new Map(waist.segmentCells!.cells.map((c) => [`${c.to}|${c.state}|${c.segment}`, { n: c.n, retained: c.retained }]));
       expect(expected.size).toBeGreaterThan(30);
       expect(got).toEqual(expected);
+    });
+
+    it('segment flows: state counts and transitions of each plan (the plan in the user\'s first active period), adding up to the unsplit tables', () => {
+      const STATES = waist.states;
+      const expected = new Map<string, { stateCounts: number[][]; transitions: number[][][] }>();
+      for (const u of users.values()) {
+        const first = firstPeriod(u);
+        const seg = u.plan.get(periods[first])!.plan;
+        let e = expected.get(seg);
+        if (!e) expected.set(seg, (e = { stateCounts: periods.map(() => STATES.map(() => 0)), transitions: periods.slice(1).map(() => STATES.map(() => STATES.map(() => 0))) }));
+        for (let t = first; t < periods.length; t++) {
+          const s = STATES.indexOf(u.states.get(periods[t])!);
+          e.stateCounts[t][s]++;
+          if (t > first) e.transitions[t - 1][STATES.indexOf(u.states.get(periods[t - 1])!)][s]++;
+        }
+      }
+      const got = waist.segmentTransitions!;
+      expect(got.by).toBe('plan');
+      expect(new Map(got.segments.map((g) => [g.segment, { stateCounts: g.stateCounts, transitions: g.transitions.map((t) => t.counts) }]))).toEqual(expected);
+      for (const g of got.segments) g.transitions.forEach((t, k) => expect(t.fresh).toBe(g.stateCounts[k + 1][0]));
+      // the segments partition the users: their tables add up to the unsplit ones
+      waist.stateCounts.forEach((row, t) => row.forEach((v, s) => expect(got.segments.reduce((a, g) => a + g.stateCounts[t][s], 0)).toBe(v)));
+      waist.transitions.forEach((tr, k) => {
+        expect(got.segments.reduce((a, g) => a + g.transitions[k].fresh, 0)).toBe(tr.fresh);
+        tr.counts.forEach((row, i) => row.forEach((v, j) => expect(got.segments.reduce((a, g) => a + g.transitions[k].counts[i][j], 0)).toBe(v)));
+      });
     });
 
     it('durations: periods from first active to first dormant, censored at the end, by cohort', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { matMul } from '../../src/markov/linalg.js';
+import { matMul } from '../../src/numerics/linalg.js';
 import { stationary } from '../../src/markov/stationary.js';
 import { columnToRow } from '../../src/markov/validate.js';
 import { MAKERSPACE_P, STATES, expectClose, expectRefusal } from './helpers.js';

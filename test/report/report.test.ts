@@ -22,7 +22,7 @@ describe('tidemark report on the demo', () => {
     const ev = demoEvents(work);
     ids = ev.ids;
     dir = join(work, 'out');
-    const r = await runCli(['report', '--events', ev.file, '--out', dir, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet']);
+    const r = await runCli(['report', '--events', ev.file, '--out', dir, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet', '--scenario', 'keep-lapsers=lapsing->dormant*0.8']);
     expect(r.code).toBe(0);
     headline = r.out;
     files = folder(dir);
@@ -51,8 +51,10 @@ describe('tidemark report on the demo', () => {
     expect(new Set(urls)).toEqual(new Set(['http://www.w3.org/2000/svg', 'http://www.w3.org/1999/xlink']));
   });
 
-  it('has at least six charts, each with a title and a reading', () => {
+  it('has at least six charts, each with a title and a reading; with --scenario, the scenario chart and its data', () => {
     const html = files.get('index.html')!;
+    expect(html).toMatch(/<figure class="chart" id="scenarios">/);
+    expect(files.get('scenarios.csv')!.split('\n')[0]).toBe('scenario,step,period,active,active_lower,active_upper,difference,difference_lower,difference_upper');
     const figures = html.match(/<figure class="chart"/g) ?? [];
     expect(figures.length).toBeGreaterThanOrEqual(6);
     expect((html.match(/<svg/g) ?? []).length).toBe(figures.length);
@@ -80,7 +82,7 @@ describe('tidemark report on the demo', () => {
     const work = tempDir();
     const ev = demoEvents(work);
     const again = join(work, 'again');
-    await runCli(['report', '--events', ev.file, '--out', again, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet']);
+    await runCli(['report', '--events', ev.file, '--out', again, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet', '--scenario', 'keep-lapsers=lapsing->dormant*0.8']);
     const second = folder(again);
     expect([...second.keys()].sort()).toEqual([...files.keys()].sort());
     for (const [name, text] of files) expect(second.get(name)!.replace(GENERATED, ''), name).toBe(text.replace(GENERATED, ''));

@@ -7,7 +7,7 @@
 import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { mulberry32 } from '../../src/markov/random.js';
+import { mulberry32 } from '../../src/numerics/random.js';
 import { corpusDir, run } from '../hostile/harness.js';
 
 const dir = corpusDir();
@@ -51,6 +51,7 @@ const COMMANDS = (s: Scenario): string[][] => [
   ['retention', '--tenure'],
   ['explain', ...(s.by ? ['--by', s.by] : [])],
   ['project', '--horizon', '6', '--samples', '60', '--until', 'dormant'],
+  ...(s.by ? [['project', '--horizon', '4', '--samples', '40', '--by', s.by]] : []),
   ['cohorts'],
   ['survival', '--by', 'cohort'],
   ...(s.by ? [['survival', '--by', s.by]] : []),

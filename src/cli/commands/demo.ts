@@ -6,6 +6,7 @@ import { dirname, join } from 'node:path';
 import type { Command } from 'commander';
 import { CHANGE_WEEK, DEMO_START, PROMO_WEEK, simulateMakerspace } from '../../demo/makerspace.js';
 import { explainRetention } from '../../explain/run.js';
+import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { computeProjection } from '../../markov/run.js';
 import { reportOf } from '../../report/run.js';
 import { writeReport } from '../../report/write.js';
@@ -21,6 +22,7 @@ import { GRAIN_NOUN } from '../../periods/calendar.js';
 import { formatProjection } from './project.js';
 import { headline } from './report.js';
 import { stateLabelsOf, stateWithRole } from '../../waist/manifest.js';
+import { baseState } from '../../lifecycle/states.js';
 
 export interface DemoOptions {
   out: string;
@@ -28,6 +30,10 @@ export interface DemoOptions {
   seed: string;
   generatedAt?: string;
 }
+
+/** The demo's scenarios: keep more lapsing members, and an open day's newcomers. */
+/** The demo's scenarios, built from the roles of the states (no state is named outside src/lifecycle). */
+export const DEMO_SCENARIOS = [`keep-lapsers=${baseState('lapse')}->${baseState('exit')}*0.8`, `open-day=+1500 ${baseState('arrival')} at +4`];
 
 const weekLabel = (w: number) => new Date(DEMO_START + w * 7 * 86_400_000).toISOString().slice(0, 10);
 
@@ -44,20 +50,21 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   const base = weekLabel(CHANGE_WEEK - 1); // retention into the week before the change
   const compare = weekLabel(PROMO_WEEK + 1); // retention into the week after the promotion
   const full = await waistWithSections(filesSource([eventsFile]), rules, { by: 'channel' });
-  const { model, waist } = reportOf(full, { base, compare });
+  const { model, waist } = reportOf(full, { base, compare, scenarios: DEMO_SCENARIOS });
   io.stderr(`${rowLine(waist.manifest.rows)}\n`);
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 
   const explained = explainRetention(waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell, stateLabels: stateLabelsOf(waist.manifest.states) });
-  const [lapse, exit] = [stateWithRole(waist.manifest.states, 'lapse'), stateWithRole(waist.manifest.states, 'exit')];
-  const projection = computeProjection({ tables: waist.tables }, { fit: '8', horizon: 12, whatIf: [`${lapse}->${exit}*0.8`], until: exit, samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
+  const exit = stateWithRole(waist.manifest.states, 'exit');
+  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
+  const projection = computeProjection({ tables: waist.tables }, { fit: '8', horizon: 12, scenarios: DEMO_SCENARIOS, moves: lifecycleMoves(rules), until: exit, samples: 300, seed: 1, band: [10, 90], backtestHorizon: 8, scheme });
   const colour = Boolean(io.stdoutIsTTY);
   io.stdout([
     headline(model, colour),
     `== Why retention moved (the planted change: new onboarding, and a change for long-standing members, from ${weekLabel(CHANGE_WEEK)}; a promotion in ${weekLabel(PROMO_WEEK)})`,
     formatExplain(explained, 'table'),
-    '== The audience in 12 weeks, and what if a fifth fewer lapsing members went dormant',
+    '== The audience in 12 weeks, and two scenarios: a fifth fewer lapsing members go dormant; an open day brings 1,500 newcomers in week 4',
     formatProjection(projection, 'table'),
   ].join('\n'));
 }

@@ -5,8 +5,10 @@ import { reportOf } from '../../report/run.js';
 import { analysisWaist } from '../../waist/derive.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
-import { addEventOptions, addPartialOption, addWaistOption, note, noteRun, periodFlagHint, waistInput, type CommonOptions } from '../common.js';
-import { asFlags, dateOption, seedOption, wholeNumber } from '../options.js';
+import { addEventOptions, addPartialOption, addWaistOption, note, noteRun, periodFlagHint, resolveRules, waistInput, type CommonOptions } from '../common.js';
+import { asFlags, dateOption, scenarioOption, seedOption, wholeNumber } from '../options.js';
+import { lifecycleMoves } from '../../lifecycle/moves.js';
+import { stateNames } from '../../lifecycle/states.js';
 import { MAX_HORIZON } from './project.js';
 import { json, terminalText, toCsv, type Format, wrapProse } from '../format.js';
 import { Option } from 'commander';
@@ -21,6 +23,8 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
   by?: string;
   horizon: string;
   seed: string;
+  /** Named scenarios for the projection, `NAME=edits` (see `project --scenario`). */
+  scenario?: string[];
   includePartial?: boolean;
   generatedAt?: string;
 }
@@ -45,13 +49,20 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const compare = dateOption(o.compare, '--compare');
   const horizon = wholeNumber(o.horizon, '--horizon', 1, MAX_HORIZON);
   const seed = seedOption(o.seed);
+  // scenarios name states and moves: checked against the rules file before any event is read
+  const early = o.events ? (() => {
+    const r = resolveRules(o as CommonOptions);
+    return scenarioOption(o.scenario ?? [], '--scenario', stateNames(r), horizon, lifecycleMoves(r));
+  })() : undefined;
   const bar = progress(io, o.format !== 'json', 4);
   try {
     bar.step('reading and classifying', 0);
     const { waist: full, flags } = await waistInput(o as CommonOptions, { by: o.by, sections: true });
     bar.step('analysing', 2);
     const hint = periodFlagHint(analysisWaist(full, { includePartial: o.includePartial }), { base, compare });
-    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial }), { ...flags, base: '--base', compare: '--compare' }, hint);
+    // with --waist the states and moves a scenario may name come from its manifest
+    const scenarios = early ?? scenarioOption(o.scenario ?? [], '--scenario', full.tables.states, horizon, lifecycleMoves(full.manifest.rules));
+    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial, scenarios }), { ...flags, base: '--base', compare: '--compare', scenarios: '--scenario' }, hint);
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
@@ -76,6 +87,7 @@ export function reportCommand(program: Command, io: Io): void {
     .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')
     .option('--generated-at <text>', 'the time written on the report (default: now), for reproducible output')
+    .option('--scenario <name=edits>', 'a named scenario for the projection and the scenario chart, repeatable (as project --scenario)', (v: string, acc: string[]) => [...acc, v], [] as string[])
     .addOption(new Option('--format <format>', 'format of the headline findings on standard output').choices(['table', 'csv', 'json']).default('table'));
   addPerPersonOption(cmd);
   addPartialOption(addEventOptions(addWaistOption(cmd))).action((opts: ReportCliOptions & { format: Format }) => runReport(opts, io));

@@ -10,7 +10,7 @@ import { classifiedSize, classify, firstActivePeriods, type Classified } from '.
 import { compilePlan } from '../../lifecycle/plan.js';
 import { lifecycleStates } from '../../lifecycle/states.js';
 import { aggregate, durationRows } from './aggregate.js';
-import { segmentCells } from './segments.js';
+import { segmentCells, segmentFlows } from './segments.js';
 import { activeAttribute, activeIndex } from './attributes.js';
 import { checkSplitColumn } from '../../lifecycle/perPerson.js';
 import { lastPeriodOf } from '../../ingest/lastPeriod.js';
@@ -89,6 +89,11 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
     waist.segmentCells = { by: range.by, cells, perPerson: split?.perPerson };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels), perPerson: split?.perPerson };
+    // each user's segment is the value in their first active period, so the segments partition the users
+    const segmentOf = new Int32Array(log.users.length);
+    for (let u = 0; u < segmentOf.length; u++) if (classified.firstActive[u] >= 0) segmentOf[u] = attr.codes[activeIndex(active, u, classified.firstActive[u])];
+    const segments = segmentFlows(classified, segmentOf, attr.values, { states: plan.states, labels, outStart: r.outStart, firstFlow: r.outStart + warmup, freshCode: plan.states.indexOf(roleName('arrival')) });
+    waist.segmentTransitions = { by: range.by, perPerson: split?.perPerson, segments };
   }
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
   const events = [...log.eventNames].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));

@@ -1,10 +1,15 @@
 /**
- * Small dense linear algebra for chains of a few dozen states: products, sub-matrices and
- * Gauss–Jordan elimination with partial pivoting (Golub & Van Loan, *Matrix Computations*, §3.4).
+ * Small dense linear algebra for systems of a few dozen unknowns (Markov chains, the log-rank
+ * covariance): products, sub-matrices and the project's one linear solver, Gauss–Jordan elimination
+ * with partial pivoting (Golub & Van Loan, *Matrix Computations*, 4th ed. 2013, §3.4).
  * Pure: inputs are never modified.
  */
 import { TidemarkError } from '../errors.js';
-import type { Matrix, Vector } from './types.js';
+
+/** A dense matrix, rows first. */
+export type Matrix = number[][];
+/** A dense vector. */
+export type Vector = number[];
 
 /** The n × n identity. @example identity(2) // [[1, 0], [0, 1]] */
 export function identity(n: number): Matrix {
@@ -53,20 +58,27 @@ export function identityMinus(a: Matrix): Matrix {
  * Solves A·X = B for X (B has one column per right-hand side) by Gauss–Jordan elimination with
  * partial pivoting: at each step the row with the largest |pivot| is swapped up.
  *
- * @throws TidemarkError `MATRIX_INVALID` when a pivot is below 1e-12 × the largest |entry| of A
- *   (numerically singular).
+ * @throws TidemarkError `INPUT_INVALID` when A is not square, B has another number of rows or its rows
+ *   differ in length, or an entry is not a finite number; `MATRIX_INVALID` when a pivot is not above
+ *   1e-12 × the largest |entry| of A (numerically singular).
  * @example solveMany([[2, 0], [0, 4]], [[2], [4]]) // [[1], [1]]
  */
 export function solveMany(a: Matrix, b: Matrix): Matrix {
   const n = a.length;
   const m = b[0]?.length ?? 0;
+  if (a.some((row) => row.length !== n) || b.length !== n || b.some((row) => row.length !== m)) {
+    throw new TidemarkError('INPUT_INVALID', `a linear system needs a square A (${n} rows) and as many rows of right-hand sides (got ${b.length})`);
+  }
+  if (a.some((row) => row.some((v) => !Number.isFinite(v))) || b.some((row) => row.some((v) => !Number.isFinite(v)))) {
+    throw new TidemarkError('INPUT_INVALID', 'a linear system has an entry that is not a finite number');
+  }
   const w = a.map((row, i) => [...row, ...b[i]]);
   const scale = Math.max(1e-300, ...a.map((row) => Math.max(...row.map(Math.abs))));
   for (let c = 0; c < n; c++) {
     let p = c;
     for (let r = c + 1; r < n; r++) if (Math.abs(w[r][c]) > Math.abs(w[p][c])) p = r;
-    if (Math.abs(w[p][c]) < 1e-12 * scale) {
-      throw new TidemarkError('MATRIX_INVALID', `the linear system is singular at column ${c}`, {}, 'check that the chain has the structure the analysis needs');
+    if (!(Math.abs(w[p][c]) > 1e-12 * scale)) {
+      throw new TidemarkError('MATRIX_INVALID', `the linear system is singular at column ${c}`, {}, 'the equations are not independent of one another');
     }
     [w[c], w[p]] = [w[p], w[c]];
     const pivot = w[c][c];
@@ -80,7 +92,11 @@ export function solveMany(a: Matrix, b: Matrix): Matrix {
   return w.map((row) => row.slice(n));
 }
 
-/** Solves A·x = b. @throws as {@link solveMany}. @example solve([[2, 1], [1, 3]], [3, 5]) // [0.8, 1.4] */
+/**
+ * Solves A·x = b.
+ * @throws as {@link solveMany} (a b whose length differs from A's rows is `INPUT_INVALID`).
+ * @example solve([[2, 1], [1, 3]], [3, 5]) // [0.8, 1.4] (hand: x = (3·3 − 5)/5, y = (2·5 − 3)/5)
+ */
 export function solve(a: Matrix, b: Vector): Vector {
   return solveMany(a, b.map((v) => [v])).map((row) => row[0]);
 }

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { dirichletParameters, sampleDirichlet, sampleTransitionMatrix } from '../../src/markov/dirichlet.js';
-import { gamma } from '../../src/markov/gamma.js';
-import { mulberry32, normal } from '../../src/markov/random.js';
-import { expectClose, expectRefusal } from './helpers.js';
+import { sampleDirichlet } from '../../src/numerics/dirichlet.js';
+import { gamma } from '../../src/numerics/gamma.js';
+import { mulberry32, normal } from '../../src/numerics/random.js';
+import { expectClose, expectRefusal } from '../markov/helpers.js';
 
 function moments(xs: number[]): { mean: number; variance: number } {
   const mean = xs.reduce((a, b) => a + b, 0) / xs.length;
@@ -60,7 +60,7 @@ describe('gamma (Marsaglia & Tsang 2000, with the α < 1 boost)', () => {
   });
 });
 
-describe('Dirichlet', () => {
+describe('sampleDirichlet', () => {
   it('Dirichlet(2, 0, 3): component means 0.4, 0, 0.6 and a zero component stays 0 (seeded, 20000 draws)', () => {
     const rng = mulberry32(9);
     const xs = draw(20000, () => sampleDirichlet(rng, [2, 0, 3])[0]);
@@ -70,22 +70,7 @@ describe('Dirichlet', () => {
     expect(sampleDirichlet(rng, [2, 0, 3])[1]).toBe(0);
   });
 
-  it('parameters: prior 0.5 on observed cells only by default; allowed widens; empty rows are null', () => {
-    expect(dirichletParameters([[3, 0], [1, 1]])).toEqual([[3.5, 0], [1.5, 1.5]]);
-    expect(dirichletParameters([[3, 0], [0, 0]], { prior: 1, allowed: [[true, true], [false, false]] })).toEqual([[4, 1], null]);
-  });
-
-  it('a sampled matrix is row-stochastic, keeps empty rows absorbing and never invents a move', () => {
-    const p = sampleTransitionMatrix(mulberry32(3), [[0, 30, 10], [0, 50, 0], [0, 0, 0]]);
-    p.forEach((row) => expectClose(row.reduce((a, b) => a + b, 0), 1, 1e-12));
-    expect(p[0][0]).toBe(0);
-    expect(p[1]).toEqual([0, 1, 0]);
-    expect(p[2]).toEqual([0, 0, 1]);
-  });
-
-  it('refuses a bad prior, a mask of the wrong size and all-zero parameters', () => {
-    expectRefusal(() => dirichletParameters([[1]], { prior: 0 }), 'INPUT_INVALID', /prior/);
-    expectRefusal(() => dirichletParameters([[1, 0], [0, 1]], { allowed: [[true]] }), 'INPUT_INVALID', /allowed mask must be 2 × 2/);
+  it('refuses all-zero parameters', () => {
     expectRefusal(() => sampleDirichlet(mulberry32(1), [0, 0]), 'INPUT_INVALID', /not all 0/);
   });
 });
