@@ -1,12 +1,13 @@
-/** `tidemark rules check|schema`: validate a rules file; print the JSON Schema for editors. */
+/** `tidemark rules check|schema|diff`: validate a rules file; print the JSON Schema for editors; compare two rules files on events. */
 import type { Command } from 'commander';
 import { loadRulesFile } from '../../rules/load.js';
 import { rulesJsonSchema } from '../../rules/schema.js';
 import { emit, json, terminalText } from '../format.js';
 import type { Io } from '../io.js';
+import { addRulesDiff } from '../rulesDiff.js';
 
 export function rulesCommand(program: Command, io: Io): void {
-  const rules = program.command('rules').description('check rules files, or print their JSON Schema');
+  const rules = program.command('rules').description('check rules files, print their JSON Schema, or compare two of them on the same events');
   rules
     .command('check')
     .description('validate rules files and print them with every default filled in')
@@ -23,4 +24,5 @@ export function rulesCommand(program: Command, io: Io): void {
     .description('print the JSON Schema of rules files (editors use it to check and complete them)')
     .option('--out <file>', 'write to a file instead of standard output')
     .action((o: { out?: string }) => emit(json(rulesJsonSchema()), o.out, io));
+  addRulesDiff(rules, io);
 }
