@@ -22,7 +22,14 @@ const points = (a: number | null | undefined, b: number | null | undefined) => {
   return t === '0.0' ? '0.0 pt' : `${b > a ? '+' : '-'}${t} pt`;
 };
 const count = (n: number) => n.toLocaleString('en-US');
-const value = (v: unknown) => (Array.isArray(v) || (v !== null && typeof v === 'object') ? JSON.stringify(v) : String(v));
+/** A rules value in words: lists joined, splits as `engaged at 3+ (steady/keen)`, nothing as `none`. */
+function value(v: unknown): string {
+  if (v === null || v === undefined) return 'none';
+  if (!Array.isArray(v)) return showValue(v, 40);
+  if (v.length === 0) return 'none';
+  return v.map((x) => (typeof x === 'object' && x !== null && 'atLeast' in x ? splitText(x as { state: string; atLeast: number; names: string[] }) : showValue(x, 40))).join(', ');
+}
+const splitText = (x: { state: string; atLeast: number; names: string[] }) => `${x.state} at ${x.atLeast}+ (${x.names.map(name).join('/')})`;
 
 /** The states of both sides, A's order first, then B's states A lacks. */
 function unionStates(a: readonly string[], b: readonly string[]): string[] {

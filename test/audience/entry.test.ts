@@ -6,12 +6,12 @@
  */
 import { initialTransition, transition } from 'xstate';
 import { describe, expect, it } from 'vitest';
-import { entryNames, entrySpec } from '../../src/audience/entry.js';
+import { entryNames, entrySpec, type EntryRules } from '../../src/audience/entry.js';
 import { TidemarkError } from '../../src/errors.js';
 import { lifecycleMachine } from '../../src/lifecycle/machine.js';
 
-const RULES = { lapseLimit: 2, activity: { minEvents: 1, keyEvents: undefined }, splits: [] } as const;
-const SPLIT = { ...RULES, splits: [{ state: 'engaged', atLeast: 3, names: ['steady', 'keen'] as [string, string] }] };
+const RULES: EntryRules = { lapseLimit: 2, activity: { minEvents: 1 }, splits: [] };
+const SPLIT: EntryRules = { ...RULES, splits: [{ state: 'engaged', atLeast: 3, names: ['steady', 'keen'] }] };
 
 /** The error entrySpec throws, as [key, message, hint]. */
 function refusal(f: () => unknown): [string | undefined, string, string | undefined] {

@@ -151,7 +151,7 @@ const rulesArb: fc.Arbitrary<RefRules> = fc.record({
   minEvents: fc.constantFrom(1, 1, 2),
   keyEvents: fc.constantFrom(undefined, ['booking', 'checked_in']),
   splits: fc.constantFrom(undefined, [{ state: 'engaged' as const, atLeast: 3, names: ['steady', 'keen'] as [string, string] }]),
-}).map((r) => Object.fromEntries(Object.entries(r).filter(([, v]) => v !== undefined)) as RefRules);
+}).map((r) => Object.fromEntries(Object.entries(r).filter(([, v]) => v !== undefined)) as unknown as RefRules);
 
 const eventsArb = fc.array(
   fc.record({

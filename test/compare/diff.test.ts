@@ -149,7 +149,7 @@ const ruleArb: fc.Arbitrary<RefRules> = fc.record({
   minEvents: fc.constantFrom(1, 1, 2),
   keyEvents: fc.constantFrom(undefined, ['booking']),
   splits: fc.constantFrom(undefined, [{ state: 'returned' as const, atLeast: 3, names: ['back', 'back_keen'] as [string, string] }]),
-}).map((r) => Object.fromEntries(Object.entries(r).filter(([, v]) => v !== undefined)) as RefRules);
+}).map((r) => Object.fromEntries(Object.entries(r).filter(([, v]) => v !== undefined)) as unknown as RefRules);
 
 const START = Date.UTC(2026, 2, 2);
 const eventsArb = fc.array(
