@@ -46,6 +46,8 @@ export interface AudienceList {
   pseudonymised: boolean;
   /** Sorted by `user` (code-unit order). */
   rows: AudienceRow[];
+  /** `--where` values no event holds in their column (a misspelling, most likely). */
+  unseen: { column: string; value: string }[];
 }
 
 export interface AudienceQuery {
@@ -157,5 +159,9 @@ export function audienceOf(log: EventLog, run: Pick<LogRun, 'range' | 'labels' |
     });
   }
   rows.sort((a, b) => (a.user < b.user ? -1 : a.user > b.user ? 1 : 0));
-  return { period: periodLabel(startKey + p, scheme), entry: q.entry, where, attributes, pseudonymised: Boolean(q.key), rows };
+  const unseen = where.flatMap((w, k) => {
+    const known = new Set(log.attributes[whereAt[k]].values);
+    return w.values.filter((v) => v !== '' && !known.has(v)).map((value) => ({ column: w.column, value }));
+  });
+  return { period: periodLabel(startKey + p, scheme), entry: q.entry, where, attributes, pseudonymised: Boolean(q.key), rows, unseen };
 }

@@ -81,6 +81,8 @@ describe('audience: CSV (the default) and JSON', () => {
     expect(r.out).toBe('');
     expect(readFileSync(out, 'utf8')).toBe('user_id,state,previous_state,tenure,last_active,plan,channel\n');
     expect(r.err).toMatch(/^note: nobody entered dormant at 2026-03-23 from lapsing with plan pro: the list holds its header only$/m);
+    const typo = await run('audience', '--events', events, '--rules', rules, '--period', '2026-03-23', '--entered', 'returned', '--where', 'plan=Pro');
+    expect(typo.err).toMatch(/^note: no event has plan 'Pro' \(--where matches values exactly as written\)$/m);
     expect(r.err).toMatch(PRIVACY);
     const j = await run('audience', '--events', events, '--rules', rules, '--period', '2026-03-23', '--entered', 'dormant', '--format', 'json');
     expect(JSON.parse(j.out)).toMatchObject({ count: 0, users: [] });

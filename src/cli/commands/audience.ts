@@ -99,6 +99,7 @@ export async function runAudience(o: AudienceCliOptions, io: Io): Promise<void> 
   if (s) note(io, o, `note: ${s.charAt(0).toLowerCase()}${s.slice(1)}`);
   if (list.rows.length === 0) note(io, o, `note: nobody entered ${asked(entry, list)}: the list holds its header only`);
   else note(io, o, `audience: ${list.rows.length.toLocaleString('en-US')} user${list.rows.length === 1 ? '' : 's'} entered ${asked(entry, list)}`);
+  for (const u of list.unseen) note(io, o, `note: no event has ${showValue(u.column, 40)} '${showValue(u.value, 40)}' (--where matches values exactly as written)`);
   // always, even with --quiet: this is the one output that lists people
   io.stderr(`note: this list holds personal data (${list.pseudonymised ? 'pseudonyms, which whoever holds the key can link back to people' : 'user ids'}). Before contacting anyone on it, follow local privacy law and the consent each person gave; share it only as your privacy rules allow.\n`);
 }
