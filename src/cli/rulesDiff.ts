@@ -145,12 +145,7 @@ export async function runRulesDiff(fileA: string, fileB: string, o: RulesDiffOpt
   }
 }
 
-/** Register `rules diff` on the `rules` command. */
-export function addRulesDiff(rules: Command, io: Io): void {
-  const cmd = rules
-    .command('diff')
-    .description('compare two rules files on the same events: user-periods by state under A and under B, and the headlines under each')
-    .argument('<a>', 'rules file A (YAML)')
-    .argument('<b>', 'rules file B (YAML)');
+/** Give the `rules diff` command (declared in commands/rules.ts) its options and action. */
+export function configureRulesDiff(cmd: Command, io: Io): void {
   addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((fa: string, fb: string, opts: RulesDiffOptions) => runRulesDiff(fa, fb, opts, io));
 }

@@ -113,6 +113,13 @@ describe('rules diff', () => {
     expect(j.onlyB).toEqual([]);
   });
 
+  it('its options load with it: `rules diff --help` lists them, `rules help diff` says where they are', async () => {
+    const h = await run('rules', 'diff', '--help');
+    expect(h.code).toBe(0);
+    for (const o of ['--events', '--format', '--include-partial', '--out']) expect(h.out).toContain(o);
+    expect((await run('rules', 'help', 'diff')).out).toContain('tidemark rules diff --help');
+  });
+
   it('refuses rule sets of other grains (exit 1, naming B\'s file and the key), --rules, and a pipe', async () => {
     const daily = t.file('daily.yaml', 'grain: day\nlapseLimit: 3\n');
     const g = await run('rules', 'diff', lapse2, daily, '--events', events);
