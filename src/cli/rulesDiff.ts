@@ -139,6 +139,11 @@ export async function runRulesDiff(fileA: string, fileB: string, o: RulesDiffOpt
   }
   const warnings = new Set([...runs.a.waist.manifest.warnings, ...runs.b.waist.manifest.warnings]);
   for (const w of warnings) io.stderr(`warning: ${escapeControls(w)}\n`);
+  // a rules file's version is to be bumped when a change would reclassify users (rules/weekly.yaml)
+  const reclassifies = diff.rulesChanged.filter((c) => !['warmup', 'tenureBands', 'minCell'].includes(c.key));
+  if (reclassifies.length && diff.a.name === diff.b.name && diff.a.version === diff.b.version) {
+    note(io, o, `note: A and B share the name and version ${diff.a.name ?? '(none)'} ${diff.a.version ?? '(none)'} but classify users differently (${reclassifies.map((c) => c.key).join(', ')}): give B a new version before using it`);
+  }
   for (const [k, r] of [['A', runs.a], ['B', runs.b]] as const) {
     const s = partialPeriodSentence(r.waist, r.dropped, { leaveOut: true, asked: Boolean(o.includePartial) });
     if (s) note(io, o, `note (${k}): ${s.charAt(0).toLowerCase()}${s.slice(1)} (the headlines; the classification counts keep every period)`);

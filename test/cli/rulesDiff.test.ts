@@ -67,6 +67,13 @@ describe('rules diff', () => {
     for (const side of ['a', 'b']) for (const k of ['periods', 'retention', 'latestMix', 'longRun', 'decomposition']) expect(j.headlines[side], `${side}.${k}`).toHaveProperty(k);
     // retention reads the active states only, which the lapse limit does not change
     expect(j.headlines.b.retention).toEqual(j.headlines.a.retention);
+    expect(r.err).not.toMatch(/version/);
+  });
+
+  it('notes a B that keeps A\'s name and version but classifies differently', async () => {
+    const same = t.file('same-version.yaml', 'name: weekly\ngrain: week\nlapseLimit: 3\n');
+    const r = await run('rules', 'diff', lapse2, same, '--events', events);
+    expect(r.err).toMatch(/^note: A and B share the name and version weekly \(none\) but classify users differently \(lapseLimit\): give B a new version before using it$/m);
   });
 
   it('the headlines are what retention, project and explain print for each rule set', async () => {
