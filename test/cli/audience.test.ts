@@ -141,6 +141,7 @@ describe('audience: options checked before any event is read', () => {
     [['--period', '2026-03-02'], 'tidemark: --entered: which state? give the state the users entered. For example --entered dormant'],
     [['--period', '2026-03-02', '--entered', 'dormnt'], "tidemark: --entered: 'dormnt' is not a state of these rules. Did you mean 'dormant'?"],
     [['--period', '2026-03-02', '--entered', 'engaged', '--from-state', 'lapsing'], 'tidemark: --from-state: nobody enters engaged from lapsing: a lapsing user who is active the next period becomes returned. Users enter engaged from fresh or returned; users who were lapsing enter returned or dormant'],
+    [['--period', '2026-03-02', '--entered', 'fresh', '--waist', '/nonexistent'], 'tidemark: --waist: audience lists users: it needs the events, and a waist holds only counts. Give --events'],
     [['--period', '2026-03-02', '--entered', 'fresh', '--where', 'plan'], "tidemark: --where: 'plan' is not COLUMN=VALUE. For example --where plan=studio (an empty value, plan=, keeps users with no value)"],
   ])('%j', async (args, line) => {
     const r = await run('audience', ...unread, ...args);

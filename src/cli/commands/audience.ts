@@ -77,6 +77,9 @@ function audienceSource(o: AudienceCliOptions): { source: EventSource; rules: Ru
 }
 
 export async function runAudience(o: AudienceCliOptions, io: Io): Promise<void> {
+  if (o.waist !== undefined) {
+    throw new TidemarkError('USAGE', 'audience lists users: it needs the events, and a waist holds only counts', { key: '--waist' }, 'Give --events');
+  }
   // every option is checked before any event is read
   const period = dateOption(o.period, '--period');
   if (period === undefined) throw new TidemarkError('USAGE', 'which period? give a date inside it', { key: '--period' }, 'For example --period 2026-09-14');
@@ -112,6 +115,7 @@ export function audienceCommand(program: Command, io: Io): void {
     .option('--entered <state>', 'the state entered: state at the period is this one, and was not the period before (new users enter the arrival state)')
     .option('--from-state <state>', 'keep only users whose state the period before was this one')
     .option('--where <column=value>', 'keep users whose value in the period is this one; repeatable (same column: any of the values; different columns: all); "column=" keeps users with no value', (v: string, acc: string[]) => [...acc, v], [] as string[])
-    .option('--pseudonymise <key-file>', 'write HMAC-SHA-256 pseudonyms (hex) instead of user ids, keyed by the bytes of this file (at least 32)');
+    .option('--pseudonymise <key-file>', 'write HMAC-SHA-256 pseudonyms (hex) instead of user ids, keyed by the bytes of this file (at least 32)')
+    .option('--waist <dir>', 'not available: audience lists users and needs events (a waist holds only counts)');
   addFormatOptions(addPartialOption(addEventOptions(cmd)), 'csv').action((opts: AudienceCliOptions) => runAudience(opts, io));
 }
