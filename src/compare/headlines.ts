@@ -45,7 +45,7 @@ function reasonOf(e: unknown): string {
  * The headlines of a waist in analysis form.
  * @throws only what the analyses throw for broken tables; a headline the data are too short for is
  *   null with its reason.
- * @example headlinesOf(waist).latestMix.states[0] // { state: 'fresh', users: 520, share: 0.08 }
+ * @example headlinesOf(demoWaist).latestMix.states[0] // { state: 'fresh', users: 517, share: 0.0258 } (the demo, 2026-11-23)
  */
 export function headlinesOf(waist: Waist): Headlines {
   const t = waist.tables;
