@@ -76,6 +76,15 @@ export { survivalCurves, type SurvivalOutput } from './survival/run.js';
 export { fitSbg, sbgSurvival, type SbgFit } from './curve/sbg.js';
 export { cohortSurvivors } from './curve/survivors.js';
 
+// Audience lists (who entered a state) and the rules comparison
+export { entrySpec, entryNames, type EntrySpec, type EntryRules } from './audience/entry.js';
+export { audienceOf, type AudienceList, type AudienceRow, type AudienceQuery } from './audience/list.js';
+export { audienceFromEvents, type AudienceRun } from './audience/run.js';
+export { pseudonym, readKeyFile, MIN_KEY_BYTES } from './audience/pseudonym.js';
+export { parseWhere, type WhereClause } from './audience/where.js';
+export { diffRules, rulesChanges, checkComparable, type RulesDiff, type RulesChange } from './compare/run.js';
+export { headlinesOf, type Headlines } from './compare/headlines.js';
+
 // Report
 export { buildReport, type ReportModel, type ReportOptions } from './report/build.js';
 export { reportOf, type ReportJobOptions } from './report/run.js';

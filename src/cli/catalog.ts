@@ -100,6 +100,12 @@ export const CATALOG: readonly CatalogEntry[] = [
     load: async () => (await import('./commands/grain.js')).grainCommand,
   },
   {
+    name: 'audience',
+    term: 'audience [options]',
+    description: 'list the users who entered a lifecycle state at a period, with previous state, tenure, last active period and attributes (personal data)',
+    load: async () => (await import('./commands/audience.js')).audienceCommand,
+  },
+  {
     name: 'report',
     term: 'report [options]',
     description: 'write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart',
@@ -120,7 +126,7 @@ export const CATALOG: readonly CatalogEntry[] = [
   {
     name: 'rules',
     term: 'rules',
-    description: 'check rules files, or print their JSON Schema',
+    description: 'check rules files, print their JSON Schema, or compare two of them on the same events',
     load: async () => (await import('./commands/rules.js')).rulesCommand,
   },
 ];

@@ -257,7 +257,7 @@ function passageOutput(states: string[], fp: FirstPassage, target: string): NonN
  * transitions out or in, no start, no inflow (say `lapsing` when lapseLimit is 0) — would be kept
  * absorbing by the fit and show up as a spurious closed class; it is left out and gets share 0.
  */
-function observedLongRun(chain: { states: string[]; matrix: number[][] }, start: number[], inflow: number[], counts: number[][] | undefined): Stationary & { unobserved: string[] } {
+export function observedLongRun(chain: { states: string[]; matrix: number[][] }, start: number[], inflow: number[], counts: number[][] | undefined): Stationary & { unobserved: string[] } {
   const S = chain.states.length;
   const seen = chain.states.map((_, i) => !counts || start[i] > 0 || inflow[i] > 0 || counts.some((row, k) => row[i] > 0 || counts[i][k] > 0));
   if (seen.every(Boolean)) return { ...stationary(chain), unobserved: [] };

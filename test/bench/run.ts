@@ -23,6 +23,11 @@ import { computeProjection } from '../../src/markov/run.js';
 import { writeReport } from '../../src/report/write.js';
 import { writeFileSync } from 'node:fs';
 import { startupTimes } from './startup.js';
+import { entrySpec } from '../../src/audience/entry.js';
+import { audienceOf } from '../../src/audience/list.js';
+import { diffRules } from '../../src/compare/run.js';
+import { createEngine } from '../../src/engines/index.js';
+import { filesSource } from '../../src/engines/types.js';
 
 /**
  * Report time against the number of periods: 40 members over 20 weeks and one booking P weeks
@@ -99,7 +104,8 @@ try {
   const log = await readEvents([file], { rules });
   const cpuRead = process.cpuUsage(cpu0);
   const t1 = performance.now();
-  const { waist, classified, footprint } = runOnLog(log, rules);
+  const logRun = runOnLog(log, rules);
+  const { waist, classified, footprint } = logRun;
   const result = { waist: waist.tables };
   const t2 = performance.now();
   summariseFlows(result.waist);
@@ -132,6 +138,16 @@ try {
   const tProj = (performance.now() - s) / 1000;
   const origins = proj.backtest && 'rows' in proj.backtest ? proj.backtest.origins.length : 0;
   console.log(`projection           ${tProj.toFixed(2)} s  (bands of 500 futures over 12 periods, one scenario, backtest of ${origins} origins × 8 periods × 100 futures)`);
+  // the weekly lists and the rules comparison on the same log
+  s = performance.now();
+  const lastLabel = waist.manifest.periods[waist.manifest.periods.length - 2];
+  const listed = audienceOf(log, logRun, { period: lastLabel, entry: entrySpec(rules, 'dormant') }).rows.length;
+  console.log(`audience list        ${((performance.now() - s) / 1000).toFixed(2)} s after the engine (${listed.toLocaleString('en-US')} users entered dormant in ${lastLabel})`);
+  s = performance.now();
+  const cpu1 = process.cpuUsage();
+  const { diff } = await diffRules(createEngine('memory'), filesSource([file]), { file: 'a', rules }, { file: 'b', rules: parseRules('grain: week\nlapseLimit: 3\n') });
+  const cpuDiff = process.cpuUsage(cpu1);
+  console.log(`rules diff 2 vs 3    ${((performance.now() - s) / 1000).toFixed(2)} s (CPU ${((cpuDiff.user + cpuDiff.system) / 1e6).toFixed(2)} s; reads and classifies twice; ${diff.compared.toLocaleString('en-US')} user-periods, ${diff.changed.toLocaleString('en-US')} changed)`);
   await reportScaling(dir);
 } finally {
   rmSync(dir, { recursive: true, force: true });

@@ -71,6 +71,9 @@ describe('a bad option is refused before any event file is opened (the events pa
     ['report', ['--seed', 'x', '--out', join(dir, 'r0')], '--seed'],
     ['report', ['--compare', '2026-13-01', '--out', join(dir, 'r1')], '--compare'],
     ['report', ['--scenario', 'x=lapsing->engaged*2', '--out', join(dir, 'r3')], '--scenario'],
+    ['audience', ['--period', '2026-13-01', '--entered', 'fresh'], '--period'],
+    ['audience', ['--period', '2026-03-02', '--entered', 'engaged', '--from-state', 'lapsing'], '--from-state'],
+    ['audience', ['--period', '2026-03-02', '--entered', 'fresh', '--where', 'plan'], '--where'],
   ] as [string, string[], string][])('%s %j: exit 2 naming the flag', async (command, args, flag) => {
     expectFlagRefusal(await runCli([command, '--events', MISSING, ...args]), flag);
   });
@@ -99,6 +102,8 @@ describe('checks that need the data come after reading, still exit 2 naming the 
     ['flows', ['--warmup', '40'], '--warmup', /leaves no period to analyse/],
     ['project', ['--what-if', 'returned->engaged*5'], '--what-if', /returned->engaged would become .*, above 1/],
     ['report', ['--base', '2026-01-05', '--out', join(dir, 'r2')], '--base', /2026-01-05 is not a period retained into/],
+    ['audience', ['--period', '2026-03-02', '--entered', 'fresh', '--where', 'plam=pro'], '--where', /no column 'plam'.*Did you mean 'plan'/],
+    ['audience', ['--period', '2026-01-05', '--entered', 'fresh'], '--period', /\(2026-01-05\) is not a period of the data/],
   ] as [string, string[], string, RegExp][])('%s %j', async (command, args, flag, message) => {
     const line = expectFlagRefusal(await runCli([command, '--events', EVENTS, '--quiet', ...args]), flag);
     expect(line).toMatch(message);

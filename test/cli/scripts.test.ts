@@ -64,7 +64,7 @@ describe('package.json scripts', () => {
 
   it('the check itself catches a missing command, a group without its subcommand, an unknown option and a missing file', () => {
     expect(problems('node src/cli/bin.js schema --out rules/rules.schema.json')).toEqual(["node src/cli/bin.js schema --out rules/rules.schema.json: 'schema' is not a tidemark command"]);
-    expect(problems('node src/cli/bin.js rules --out x')[0]).toMatch(/'rules' needs a subcommand \(check, schema\)/);
+    expect(problems('node src/cli/bin.js rules --out x')[0]).toMatch(/'rules' needs a subcommand \(check, schema, diff\)/);
     expect(problems('node src/cli/bin.js demo --output x')[0]).toMatch(/'demo' has no option --output/);
     expect(problems('tsx test/bench/missing.ts')[0]).toMatch(/no file test\/bench\/missing\.ts/);
     expect(problems('no-such-tool --flag')[0]).toMatch(/no binary no-such-tool/);

@@ -103,6 +103,9 @@ describe('options checked before reading: hostile values', () => {
     ['report', '--horizon', 'x'],
     ['report', '--seed', '1.5'],
     ['report', '--base', '2026-13-01'],
+    ['audience', '--period', 'last week'],
+    ['audience', '--period', '2026-9-14'],
+    ['audience', '--period', ''],
   ])('%s %s %j: exit 2 naming the flag, no event read', async (command, flag, value) => {
     const out = command === 'report' ? ['--out', join(c.dir, 'never')] : [];
     refusedAt(await run(command, '--events', UNREAD, flag, value, ...out), flag);

@@ -37,6 +37,8 @@ export interface LogRun extends EngineRun {
   range: ResolvedRange;
   labels: string[];
   classified: Classified;
+  /** The active (user, period) pairs the classification walked (audience lists read them). */
+  active: ActivePeriods;
   /** The bytes the run was estimated to need (budget.ts). */
   footprint: Footprint;
 }
@@ -113,7 +115,7 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
     warnings: outliers ? [outlierWarning(outliers, r, scheme)] : [],
   });
   const full: Waist = { manifest, tables: waist };
-  return { waist: full, range: r, labels, classified, footprint: need };
+  return { waist: full, range: r, labels, classified, active, footprint: need };
 }
 
 function countUsers(firstActive: Int32Array): number {
