@@ -1,11 +1,8 @@
 /**
- * Classified user-periods → the waist tables, as an arquero pipeline.
- *
- * Each table is one group-by on a single combined integer key (fast in arquero: a few thousand groups
- * at most), then a small reshape into matrices. Period offsets here are relative to the range start;
+ * Classified user-periods → the waist tables: one counting pass over the typed columns
+ * ({@link countTables}), then a small reshape into matrices. Period offsets here are relative to the range start;
  * the tables are indexed from `outStart` (the first output period).
  */
-import * as aq from 'arquero';
 import type { Classified } from '../lifecycle/classify.js';
 import { cohortRowFromUsers } from '../explain/cohortExt.js';
 import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from './types.js';
@@ -32,20 +29,17 @@ export function bandLabels(edges: number[]): string[] {
   });
 }
 
-function groupCount(table: aq.ColumnTable, key: string): Map<number, number> {
-  const g = table.groupby(key).count({ as: 'n' });
-  const keys = g.array(key) as ArrayLike<number>;
-  const ns = g.array('n') as ArrayLike<number>;
-  const m = new Map<number, number>();
-  for (let i = 0; i < keys.length; i++) m.set(keys[i], ns[i]);
-  return m;
-}
-
-export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
+/**
+ * The four count tables of the waist in one pass over the classified rows, into typed arrays: state
+ * counts by period, transitions by (period, from, to), retention cells by (period, prior state, tenure
+ * band, kept) and cohort activity by (cohort, age). Each was an arquero group-by on a combined integer
+ * key; the pass is several times faster (see DEVELOPERS.md) and allocates nothing per row.
+ */
+function countTables(c: Classified, o: AggregateOptions, firstFlow: number) {
   const S = o.states.length;
   const span = o.labels.length;
   const P = span - o.outStart;
-  const firstFlow = o.outStart + o.warmup; // earliest "from" period of a counted pair
+  const A = o.activeCount;
   // band of each tenure up to the last band's edge; every tenure beyond it is in the last band
   const lastEdge = o.tenureBands[o.tenureBands.length - 1];
   const bandOf = new Uint8Array(lastEdge + 1);
@@ -54,31 +48,62 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     bandOf[t] = b;
   }
   const B = o.tenureBands.length;
-  // tenure band of each row's previous period (the period retained from)
-  const bandPrev = new Uint8Array(c.size);
-  for (let r = 0; r < c.size; r++) bandPrev[r] = c.tenure[r] > 0 ? bandOf[Math.min(c.tenure[r] - 1, lastEdge)] : 0;
-  const base = aq
-    .table({ p: c.period, s: c.state, prev: c.prev, tenure: c.tenure, cohort: c.cohort, bandPrev })
-    .params({ S, B, A: o.activeCount, span, firstFlow, outStart: o.outStart });
+  const byState = new Float64Array(P * S);
+  const byPair = new Float64Array(span * S * S);
+  const byCell = new Float64Array(span * S * B * 2);
+  // cohort k's ages 0 … span − 1 − k, cohorts from firstFlow on, laid out one after the other when that
+  // triangle is not much larger than the rows (else a Map of the cells that occur)
+  const m = Math.max(0, span - firstFlow);
+  const dense = (m * (m + 1)) / 2 <= Math.max(4 * c.size, 1 << 20);
+  const triStart = new Float64Array(dense ? m + 1 : 0);
+  for (let k = 0; k < triStart.length - 1; k++) triStart[k + 1] = triStart[k] + (span - firstFlow - k);
+  const tri = new Float64Array(dense ? triStart[m] : 0);
+  const triMap = new Map<number, number>();
+  const { period, state, prev: prevs, tenure, cohort } = c;
+  for (let r = 0; r < c.size; r++) {
+    const p = period[r], s = state[r], prev = prevs[r];
+    byState[(p - o.outStart) * S + s]++;
+    if (prev >= 0 && p - 1 >= firstFlow) {
+      byPair[(p * S + prev) * S + s]++;
+      if (prev < A) {
+        const t = tenure[r];
+        const band = t > 0 ? bandOf[t - 1 < lastEdge ? t - 1 : lastEdge] : 0;
+        byCell[((p * S + prev) * B + band) * 2 + (s < A ? 1 : 0)]++;
+      }
+    }
+    const k = cohort[r];
+    if (k >= firstFlow && s < A) {
+      if (dense) tri[triStart[k - firstFlow] + tenure[r]]++;
+      else {
+        const key = k * span + tenure[r];
+        triMap.set(key, (triMap.get(key) ?? 0) + 1);
+      }
+    }
+  }
+  const age = (k: number, a: number): number => (dense ? tri[triStart[k - firstFlow] + a] : triMap.get(k * span + a) ?? 0);
+  return { byState, byPair, byCell, age, B };
+}
+
+export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
+  const S = o.states.length;
+  const span = o.labels.length;
+  const P = span - o.outStart;
+  const firstFlow = o.outStart + o.warmup; // earliest "from" period of a counted pair
+  const { byState, byPair, byCell, age, B } = countTables(c, o, firstFlow);
 
   // state counts per period
-  const byState = groupCount(base.derive({ k: (d: any, $: any) => (d.p - $.outStart) * $.S + d.s }), 'k');
-  const stateCounts = Array.from({ length: P }, (_, p) => Array.from({ length: S }, (_, s) => byState.get(p * S + s) ?? 0));
+  const stateCounts = Array.from({ length: P }, (_, p) => Array.from({ length: S }, (_, s) => byState[p * S + s]));
 
   // transitions between consecutive periods, past the warm-up
-  const flowRows = base.filter((d: any, $: any) => d.prev >= 0 && d.p - 1 >= $.firstFlow);
-  const byPair = groupCount(flowRows.derive({ k: (d: any, $: any) => (d.p * $.S + d.prev) * $.S + d.s }), 'k');
   const transitions: TransitionCounts[] = [];
   const freshCode = o.states.indexOf('fresh');
   const firstTo = Math.max(firstFlow + 1, o.outStart + 1); // offset of the first transition's later period
   for (let p = firstTo; p < span; p++) {
-    const counts = Array.from({ length: S }, (_, i) => Array.from({ length: S }, (_, j) => byPair.get((p * S + i) * S + j) ?? 0));
+    const counts = Array.from({ length: S }, (_, i) => Array.from({ length: S }, (_, j) => byPair[(p * S + i) * S + j]));
     transitions.push({ from: o.labels[p - 1], to: o.labels[p], counts, fresh: stateCounts[p - o.outStart][freshCode] ?? 0 });
   }
 
   // retention cells: users in an active state at p − 1, by tenure band at p − 1, active at p or not
-  const cellRows = flowRows.filter((d: any, $: any) => d.prev < $.A);
-  const byCell = groupCount(cellRows.derive({ k: (d: any, $: any) => ((d.p * $.S + d.prev) * $.B + d.bandPrev) * 2 + (d.s < $.A ? 1 : 0) }), 'k');
   const labelsB = bandLabels(o.tenureBands);
   const tenureCells: RetentionCell[] = [];
   for (let ti = 0; ti < transitions.length; ti++) {
@@ -86,21 +111,19 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     const p = firstTo + ti;
     for (let s = 0; s < o.activeCount; s++) {
       for (let b = 0; b < B; b++) {
-        const kept = byCell.get(((p * S + s) * B + b) * 2 + 1) ?? 0;
-        const lost = byCell.get(((p * S + s) * B + b) * 2) ?? 0;
+        const kept = byCell[((p * S + s) * B + b) * 2 + 1];
+        const lost = byCell[((p * S + s) * B + b) * 2];
         if (kept + lost > 0) tenureCells.push({ to: t.to, state: o.states[s], segment: labelsB[b], n: kept + lost, retained: kept });
       }
     }
   }
 
   // cohort triangle: cohorts first active after the warm-up
-  const cohortRows = base.filter((d: any, $: any) => d.cohort >= $.firstFlow);
-  const byAge = groupCount(cohortRows.filter((d: any, $: any) => d.s < $.A).derive({ k: (d: any, $: any) => d.cohort * $.span + d.tenure }), 'k');
   const cohorts: CohortRow[] = [];
   for (let k = firstFlow; k < span; k++) {
-    const size = byAge.get(k * span) ?? 0;
+    const size = age(k, 0);
     if (size === 0) continue;
-    cohorts.push({ cohort: o.labels[k], size, active: Array.from({ length: span - k }, (_, a) => byAge.get(k * span + a) ?? 0) });
+    cohorts.push({ cohort: o.labels[k], size, active: Array.from({ length: span - k }, (_, a) => age(k, a)) });
   }
   extendCohorts(c, cohorts, o, firstFlow, span);
 

@@ -15,8 +15,17 @@ interface Source {
   close(): Promise<void>;
 }
 
-function fileSource(fh: FileHandle): Source {
-  return { read: async (buf, offset, length) => (await fh.read(buf, offset, length, null)).bytesRead, close: () => fh.close() };
+/** Reads a file front to back from the current position, or, given `start`, from that byte offset on (a regular file). */
+function fileSource(fh: FileHandle, start?: number): Source {
+  let pos = start ?? null;
+  return {
+    read: async (buf, offset, length) => {
+      const n = (await fh.read(buf, offset, length, pos)).bytesRead;
+      if (pos !== null) pos += n;
+      return n;
+    },
+    close: () => fh.close(),
+  };
 }
 
 const stdinSource: Source = {
@@ -52,12 +61,20 @@ export class ChunkReader {
   end = 0;
   base = 0;
   eof = false;
+  /** The size in bytes of a regular file (undefined for a FIFO, a socket or a device), at opening. */
+  fileSize: number | undefined;
+  /** The open handle of a file (undefined for descriptor 0), for positional look-ups ({@link lineStartAfter}). */
+  private handle: FileHandle | undefined;
 
   private constructor(private readonly src: Source, readonly file: string, size: number) {
     this.buf = Buffer.allocUnsafe(Math.max(16, size));
   }
 
-  static async open(file: string, size: number): Promise<ChunkReader> {
+  /**
+   * Open `file` for reading with a buffer of `size` bytes. `start`: read a regular file from that byte
+   * offset on (a later part of a file, read on another thread); `base` then counts from the file's start.
+   */
+  static async open(file: string, size: number, start?: number): Promise<ChunkReader> {
     let fh: FileHandle;
     try {
       fh = await open(file, 'r');
@@ -65,13 +82,20 @@ export class ChunkReader {
       if ((err as { code?: string })?.code === 'ENXIO' && STDIN_PATHS.has(file)) return new ChunkReader(stdinSource, file, size);
       throw fileError(err, file);
     }
+    let regular: number | undefined;
     try {
-      if ((await fh.stat()).isDirectory()) throw fileError({ code: 'EISDIR' }, file);
+      const st = await fh.stat();
+      if (st.isDirectory()) throw fileError({ code: 'EISDIR' }, file);
+      if (st.isFile()) regular = st.size;
     } catch (err) {
       await fh.close();
       throw fileError(err, file);
     }
-    return new ChunkReader(fileSource(fh), file, size);
+    const r = new ChunkReader(fileSource(fh, start), file, size);
+    r.base = start ?? 0;
+    r.fileSize = regular;
+    r.handle = fh;
+    return r;
   }
 
   /**
@@ -101,6 +125,24 @@ export class ChunkReader {
       this.end += n;
     }
     return kept;
+  }
+
+  /**
+   * The offset just past the first line feed at or after byte `at` of a regular file, or undefined when
+   * there is none: a line start near `at`, where a later part of the file can be read from. Reads with
+   * positions, leaving the front-to-back reading alone.
+   */
+  async lineStartAfter(at: number): Promise<number | undefined> {
+    if (!this.handle) return undefined;
+    const win = Buffer.allocUnsafe(64 * 1024);
+    // a line is at most 1 MiB (limits.ts), so a line feed turns up within a few windows or never
+    for (let pos = at; pos < at + 4 * (1 << 20); pos += win.length) {
+      const { bytesRead } = await this.handle.read(win, 0, win.length, pos);
+      if (bytesRead === 0) return undefined;
+      const k = win.subarray(0, bytesRead).indexOf(10);
+      if (k >= 0) return pos + k + 1;
+    }
+    return undefined;
   }
 
   async close(): Promise<void> {
