@@ -13,7 +13,7 @@
  */
 import { TidemarkError, showValue } from '../errors.js';
 import { CsvScanner, END, ESCAPED, NEED_MORE, NON_ASCII, QUOTED, TOO_LONG, UNCLOSED, type UnclosedWhy } from './csvScan.js';
-import type { EventLogBuilder } from './eventLog.js';
+import type { EventLogBuilder, PartialLog } from './eventLog.js';
 import { headerPlan, type HeaderPlan } from './header.js';
 import { DEFAULT_LIMITS, MAX_COLUMNS, bytesText, type ScanLimits } from './limits.js';
 import { ChunkReader } from './source.js';
@@ -169,8 +169,11 @@ export interface CsvPartJob {
   limits: ScanLimits;
 }
 
-/** What the reader of a later part gives back: its rows, or that it could not run at all (then this thread reads on). */
-export type PartResult = { ok: true; partial: import('./eventLog.js').PartialLog } | { ok: false; unavailable: true };
+/**
+ * What the reader of a later part gives back: its rows, its first error (lines counted from the part's
+ * first line), or that it could not run at all (then this thread reads on).
+ */
+export type PartResult = { ok: true; partial: PartialLog } | { ok: false; error: TidemarkError } | { ok: false; unavailable: true };
 
 export async function readCsv(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean, delimiter = ',', limits: ScanLimits = DEFAULT_LIMITS, split?: SplitOptions): Promise<void> {
   const scanner = new CsvScanner(delimiterByte(delimiter), limits);
@@ -198,6 +201,10 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
         builder.endFile(stop.line - 1);
         builder.merge(got.partial, file, stop.line - 1);
         return;
+      }
+      if ('error' in got) {
+        const e = got.error;
+        throw new TidemarkError(e.code, e.message, e.where.line === undefined ? e.where : { ...e.where, line: e.where.line + stop.line - 1 }, e.hint);
       }
     }
     // no split, the worker could not run, or this thread's last record ran past the split: read on alone

