@@ -24,7 +24,7 @@ export interface CommonOptions {
   to?: string;
   warmup?: string;
   skipBadRows?: boolean;
-  inputFormat?: 'csv' | 'ndjson';
+  inputFormat?: 'csv' | 'ndjson' | 'parquet';
   delimiter?: string;
   userColumn?: string;
   timestampColumn?: string;
@@ -43,14 +43,14 @@ export function addFormatOptions(cmd: Command, dflt: Format): Command {
 /** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
 export function addEventOptions(cmd: Command, withEvents = true): Command {
   // checked in sourceOf rather than as a required option, so that a misspelt option is reported as such
-  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV or NDJSON (by extension); required');
+  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV, NDJSON (either may be .gz) or Parquet, by extension; required');
   return cmd
     .option('--rules <file>', 'rules file (YAML); default: the packaged rules/weekly.yaml')
     .option('--from <date>', 'first period to output (YYYY-MM-DD inside it); earlier events still shape states')
     .option('--to <date>', 'last period to analyse (YYYY-MM-DD inside it); later events are ignored')
     .option('--warmup <n>', 'leading periods classified but left out of flows and retention (overrides the rules)')
     .option('--skip-bad-rows', 'skip and count bad rows instead of stopping at the first')
-    .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell').choices(['csv', 'ndjson']))
+    .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell (gzip is recognised by itself)').choices(['csv', 'ndjson', 'parquet']))
     .option('--delimiter <char>', 'CSV field delimiter (default ","; use "\\t" for tab)')
     .option('--user-column <name>', 'column holding the user id (overrides the rules)')
     .option('--timestamp-column <name>', 'column holding the event time (overrides the rules)')

@@ -10,11 +10,27 @@ import { periodKeyer, type PeriodScheme } from '../periods/calendar.js';
 import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
 import { parseTimestamp, parseTimestampBytes } from './timestamp.js';
-import { GrowableFloat64, GrowableInt32 } from './growable.js';
+import { GrowableFloat64, GrowableInt32, ownCopy } from './growable.js';
 import { IdDictionary, type DictionaryBytes } from './idDictionary.js';
 import { Extremes, type ExtremeRow } from './extremes.js';
 
 const DAY = 86_400_000;
+const MIN_MS = Date.UTC(1900, 0, 1);
+const MAX_MS = Date.UTC(2200, 0, 1);
+
+function inRange(wall: number): number | undefined {
+  return wall >= MIN_MS && wall < MAX_MS ? wall : undefined;
+}
+
+/** The code of `s` through a string cache in front of a byte dictionary (a cache holds at most 100,000 strings). */
+function cached(cache: Map<string, number>, s: string, d: IdDictionary): number {
+  let c = cache.get(s);
+  if (c === undefined) {
+    c = d.code(s);
+    if (cache.size < 100_000) cache.set(ownCopy(s), c);
+  }
+  return c;
+}
 
 /** UTF-8 text of `b[s, e)`: a dictionary's new value (decoded once, when first seen). */
 export function utf8Text(b: Uint8Array, s: number, e: number): string {
@@ -136,6 +152,9 @@ export class EventLogBuilder {
   private attrNames: string[] = [];
   private attrCodes: GrowableInt32[] = [];
   private attrDicts: IdDictionary[] = [];
+  /** String → code caches in front of the byte dictionaries, for rows given as strings (NDJSON, Parquet). */
+  private attrCaches: Map<string, number>[] = [];
+  private readonly eventCache = new Map<string, number>();
   private readonly clock: ZoneClock;
   private readonly keyEvents: Set<string> | undefined;
   private readonly scheme: PeriodScheme;
@@ -174,6 +193,7 @@ export class EventLogBuilder {
         g.pushRepeated(0, this.user.length);
         this.attrCodes.push(g);
         this.attrDicts.push(d);
+        this.attrCaches.push(new Map());
       }
     }
     this.slots = this.attrNames.map((n) => names.indexOf(n));
@@ -205,13 +225,20 @@ export class EventLogBuilder {
    * order (the array may be reused by the caller).
    */
   add(file: string, line: LineRef, userId: string | number, ts: string, event: string | undefined, attrs: readonly string[], lines = 1): void {
+    this.addTimed(file, line, userId, parseTimestamp(ts, this.clock), ts, event, attrs, lines);
+  }
+
+  /**
+   * {@link add} with the timestamp already read: `wall` is its wall-clock ms, or undefined when it is no
+   * valid timestamp; `ts` is its text as shown in messages (made only when needed).
+   */
+  addTimed(file: string, line: LineRef, userId: string | number, wall: number | undefined, ts: string | (() => string), event: string | undefined, attrs: readonly string[], lines = 1): void {
     const cols = this.opts.rules.columns;
     if (typeof userId === 'string' && userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId, undefined, lines);
-    const wall = parseTimestamp(ts, this.clock);
     if (wall === undefined) {
-      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows', lines);
+      return this.reject('bad timestamp', file, line, cols.timestamp, typeof ts === 'string' ? ts : ts(), 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows', lines);
     }
-    const ev = event === undefined ? -1 : this.countEvent(this.events.code(event));
+    const ev = event === undefined ? -1 : this.countEvent(cached(this.eventCache, event, this.events));
     if (this.keyEvents) {
       if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '', undefined, lines);
       if (!this.eventIsKey[ev]) return this.notKey(lines);
@@ -224,14 +251,35 @@ export class EventLogBuilder {
       return;
     }
     this.rows.used++;
-    this.extremes.add(wall, ts, file, line, this.lineOf);
+    if (this.extremes.wants(wall)) this.extremes.add(wall, typeof ts === 'string' ? ts : ts(), file, line, this.lineOf);
     this.user.push(typeof userId === 'number' ? userId : this.users.code(userId));
     this.period.push(key);
     this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {
       const pos = this.slots[a];
-      this.attrCodes[a].push(pos >= 0 ? this.attrDicts[a].code(attrs[pos] ?? '') : 0);
+      this.attrCodes[a].push(pos >= 0 ? cached(this.attrCaches[a], attrs[pos] ?? '', this.attrDicts[a]) : 0);
     }
+  }
+
+  /** Wall-clock ms of an instant given as ms since the epoch, or undefined outside years 1900–2199. */
+  instantWall(ms: number): number | undefined {
+    return inRange(Number.isFinite(ms) ? this.clock.wallMs(Math.floor(ms)) : NaN);
+  }
+
+  /** Wall-clock ms given directly (a local date-time or date), or undefined outside years 1900–2199. */
+  localWall(ms: number): number | undefined {
+    return inRange(Math.floor(ms));
+  }
+
+  /** Wall-clock ms of an epoch number by the CSV rule: milliseconds when |v| ≥ 1e11, else seconds. */
+  epochWall(v: number): number | undefined {
+    return this.instantWall(Math.abs(v) >= 1e11 ? v : v * 1000);
+  }
+
+  /** The code of a user id already given a code, or -1. */
+  userCodeOf(id: string): number {
+    const b = Buffer.from(id, 'utf8');
+    return this.users.find(b, 0, b.length);
   }
 
   /** Count a row of event code `ev` (a new code learns whether it is a key event); returns `ev`. */

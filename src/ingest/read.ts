@@ -1,6 +1,8 @@
 /**
- * Read event files into an {@link EventLog}. The format follows the extension (.csv, .ndjson/.jsonl)
- * unless given. Each file is read once, front to back (FIFOs and /dev/stdin work).
+ * Read event files into an {@link EventLog}. The format follows the extension (.csv, .ndjson/.jsonl,
+ * .parquet; a .gz after .csv or .ndjson is gzip, which the readers also recognise by its first bytes)
+ * unless given. CSV and NDJSON files are read once, front to back (FIFOs and /dev/stdin work); Parquet
+ * needs a file it can seek in.
  */
 import { extname } from 'node:path';
 import { TidemarkError } from '../errors.js';
@@ -10,8 +12,9 @@ import { EventLogBuilder, type EventLog } from './eventLog.js';
 import { DEFAULT_LIMITS, type ScanLimits } from './limits.js';
 import { readNdjson } from './ndjson.js';
 import { twoThreadSplit } from './parallel.js';
+import { readParquet } from './parquet.js';
 
-export type EventFormat = 'csv' | 'ndjson';
+export type EventFormat = 'csv' | 'ndjson' | 'parquet';
 
 export interface ReadEventsOptions {
   rules: Rules;
@@ -29,10 +32,12 @@ export interface ReadEventsOptions {
 
 export function formatOf(file: string, format?: EventFormat): EventFormat {
   if (format) return format;
-  const ext = extname(file).toLowerCase();
+  const lower = file.toLowerCase();
+  const ext = extname(lower.endsWith('.gz') ? lower.slice(0, -3) : lower);
   if (ext === '.csv' || ext === '.txt') return 'csv';
   if (ext === '.ndjson' || ext === '.jsonl' || ext === '.json') return 'ndjson';
-  throw new TidemarkError('EVENTS_FORMAT', `cannot tell the format from the extension '${ext || '(none)'}'`, { file }, 'Pass --input-format csv or --input-format ndjson');
+  if (ext === '.parquet' && !lower.endsWith('.gz')) return 'parquet';
+  throw new TidemarkError('EVENTS_FORMAT', `cannot tell the format from the extension '${extname(lower) || '(none)'}'`, { file }, 'Pass --input-format csv, ndjson or parquet');
 }
 
 /** Read one or more event files. Throws TidemarkError for unreadable files, bad headers, bad rows (unless skipping) and logs with no usable row. */
@@ -45,6 +50,7 @@ export async function readEvents(files: string[], opts: ReadEventsOptions): Prom
   for (const file of files) {
     const fmt = formatOf(file, opts.format);
     if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits, split);
+    else if (fmt === 'parquet') await readParquet(file, builder, opts.rules.columns, needEvent);
     else await readNdjson(file, builder, opts.rules.columns, limits);
   }
   const log = builder.build();
