@@ -8,8 +8,19 @@
  * Files smaller than {@link PARALLEL_MIN_BYTES}, FIFOs, standard input and machines with one core are
  * read on one thread. A worker that cannot start (its module missing in a bundle, no memory) is no
  * error: this thread then reads on alone.
+ *
+ * The worker's code: compiled JavaScript runs partWorker.js beside this module. Run from the
+ * TypeScript sources (tsx), a worker would have to register tsx's loader, which starts a loader
+ * thread and costs about 0.3 s of CPU; instead the worker's modules are bundled once per process by
+ * esbuild (the compiler tsx itself uses, on its own process while this thread reads) into one script
+ * the worker evaluates, kept in the temp folder for the next run. If esbuild fails, partWorkerTsx.js
+ * registers tsx.
  */
-import { availableParallelism } from 'node:os';
+import { createHash } from 'node:crypto';
+import { readFile, rename, stat, writeFile } from 'node:fs/promises';
+import { availableParallelism, tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import type { Rules } from '../rules/schema.js';
 import { TidemarkError, type ErrorCode, type ErrorLocation } from '../errors.js';
@@ -60,22 +71,88 @@ export async function readPartHere(job: PartJob): Promise<PartResult> {
   return { ok: true, partial: builder.toPartial() };
 }
 
+let bundle: Promise<string | undefined> | undefined;
+
+/** A bundle kept between runs: its code and the files it was built from, as they were then. */
+interface CachedBundle {
+  code: string;
+  inputs: { path: string; mtimeMs: number; size: number }[];
+}
+
+/**
+ * The worker's modules as one CommonJS script (from the TypeScript sources), or undefined when esbuild
+ * fails. Kept in the temp folder between runs, and used again while none of its source files changed
+ * (checked by size and modification time), so a run usually starts its worker with no build at all.
+ */
+function workerBundle(): Promise<string | undefined> {
+  bundle ??= (async () => {
+    const entry = fileURLToPath(new URL('./partWorker.ts', import.meta.url));
+    const cacheFile = join(tmpdir(), `tidemark-worker-${createHash('sha1').update(entry).digest('hex').slice(0, 16)}.json`);
+    try {
+      const cached = JSON.parse(await readFile(cacheFile, 'utf8')) as CachedBundle;
+      const same = await Promise.all(cached.inputs.map(async (i) => {
+        const st = await stat(i.path);
+        return st.mtimeMs === i.mtimeMs && st.size === i.size;
+      }));
+      if (same.every(Boolean)) return cached.code;
+    } catch {
+      // no cache yet, or a file of it is gone: build
+    }
+    try {
+      const esbuild = await import('esbuild');
+      const out = await esbuild.build({ entryPoints: [entry], bundle: true, platform: 'node', format: 'cjs', target: 'node20', write: false, logLevel: 'silent', external: ['esbuild'], metafile: true, absWorkingDir: dirname(entry) });
+      const code = out.outputFiles[0].text;
+      try {
+        const inputs = await Promise.all(Object.keys(out.metafile.inputs).map(async (f) => {
+          const path = resolve(dirname(entry), f);
+          const st = await stat(path);
+          return { path, mtimeMs: st.mtimeMs, size: st.size };
+        }));
+        const tmp = `${cacheFile}.${process.pid}.tmp`;
+        await writeFile(tmp, JSON.stringify({ code, inputs } satisfies CachedBundle));
+        await rename(tmp, cacheFile);
+      } catch {
+        // an unwritable temp folder only costs the next run a build
+      }
+      return code;
+    } catch {
+      return undefined;
+    }
+  })();
+  return bundle;
+}
+
+/** A worker running partWorker: compiled JavaScript as it is, TypeScript sources bundled (see above). */
+async function newWorker(job: PartJob): Promise<Worker> {
+  if (import.meta.url.endsWith('.js')) return new Worker(new URL('./partWorker.js', import.meta.url), { workerData: job });
+  const code = await workerBundle();
+  if (code !== undefined) return new Worker(code, { eval: true, workerData: job });
+  return new Worker(new URL('./partWorkerTsx.js', import.meta.url), { workerData: job });
+}
+
 function startPart(job: PartJob): { result: Promise<PartResult>; cancel: () => void } {
-  let worker: Worker;
-  try {
-    worker = new Worker(new URL('./partWorker.js', import.meta.url), { workerData: job });
-  } catch {
-    return { result: Promise.resolve({ ok: false, unavailable: true }), cancel: () => undefined };
-  }
+  let cancelled = false;
+  let worker: Worker | undefined;
   const result = new Promise<PartResult>((resolve) => {
-    worker.once('message', (m: WorkerMessage) => {
-      if (m.ok) resolve({ ok: true, partial: m.partial });
-      else resolve({ ok: false, error: new TidemarkError(m.error.code, m.error.message, m.error.where, m.error.hint) });
-      void worker.terminate();
-    });
-    // the worker could not load or run (a thrown non-data error ends it too): read on alone
-    worker.once('error', () => resolve({ ok: false, unavailable: true }));
-    worker.once('exit', () => resolve({ ok: false, unavailable: true }));
+    newWorker(job).then((w) => {
+      worker = w;
+      if (cancelled) void w.terminate();
+      listen(w, resolve);
+    }, () => resolve({ ok: false, unavailable: true }));
   });
-  return { result, cancel: () => void worker.terminate() };
+  return { result, cancel: () => {
+    cancelled = true;
+    if (worker) void worker.terminate();
+  } };
+}
+
+function listen(worker: Worker, resolve: (r: PartResult) => void): void {
+  worker.once('message', (m: WorkerMessage) => {
+    if (m.ok) resolve({ ok: true, partial: m.partial });
+    else resolve({ ok: false, error: new TidemarkError(m.error.code, m.error.message, m.error.where, m.error.hint) });
+    void worker.terminate();
+  });
+  // the worker could not load or run (a thrown non-data error ends it too): read on alone
+  worker.once('error', () => resolve({ ok: false, unavailable: true }));
+  worker.once('exit', () => resolve({ ok: false, unavailable: true }));
 }

@@ -6,17 +6,20 @@ import { parentPort, workerData } from 'node:worker_threads';
 import type { PartialLog } from './eventLog.js';
 import { readPartHere, type PartJob } from './parallel.js';
 
-const job = workerData as PartJob;
-
 /** The buffers of a partial log, to transfer rather than copy. */
 function buffers(p: PartialLog): ArrayBuffer[] {
   const arrays = [p.user, p.period, p.wall, ...p.attrs, p.users.arena, p.users.start, ...p.attrValues.flatMap((d) => [d.arena, d.start]), p.events.arena, p.events.start, p.eventRows];
   return [...new Set(arrays.map((a) => a.buffer as ArrayBuffer))];
 }
 
-const got = await readPartHere(job);
-if (got.ok) parentPort!.postMessage({ ok: true, partial: got.partial }, buffers(got.partial));
-else if ('error' in got) {
-  const e = got.error;
-  parentPort!.postMessage({ ok: false, error: { code: e.code, message: e.message, where: e.where, hint: e.hint } });
+async function work(job: PartJob): Promise<void> {
+  const got = await readPartHere(job);
+  if (got.ok) parentPort!.postMessage({ ok: true, partial: got.partial }, buffers(got.partial));
+  else if ('error' in got) {
+    const e = got.error;
+    parentPort!.postMessage({ ok: false, error: { code: e.code, message: e.message, where: e.where, hint: e.hint } });
+  }
 }
+
+// a function, not top-level await: this module is also bundled as a CommonJS script (parallel.ts)
+void work(workerData as PartJob);
