@@ -11,6 +11,7 @@ import type { Rules } from '../rules/schema.js';
 import { FORMATS, terminalText, type Format } from './format.js';
 import type { Io } from './io.js';
 import { dateOption, flagError, wholeNumber } from './options.js';
+import { runProgress } from './progress.js';
 
 /** The packaged weekly rules, used when --rules is not given. */
 export const DEFAULT_RULES = fileURLToPath(new URL('../../rules/weekly.yaml', import.meta.url));
@@ -123,21 +124,31 @@ export function eventRun(o: CommonOptions, rules: Rules, leaveOutPartial: boolea
   return { source: sourceOf(o), range, flags: rangeFlags(o, { by: by === undefined ? undefined : '--by' }) };
 }
 
-/** Run the in-memory engine on checked options; a range error that needs the data names its flag. */
-export async function runEngine(run: EventRun, rules: Rules): Promise<EngineResult> {
+/**
+ * Run the in-memory engine on checked options; a range error that needs the data names its flag.
+ * With `show`, progress goes to standard error while it runs, when that is a terminal and the output
+ * is not JSON (and not --quiet).
+ */
+export async function runEngine(run: EventRun, rules: Rules, show?: { io: Io; o: Pick<CommonOptions, 'format' | 'quiet'> }): Promise<EngineResult> {
+  const bar = show ? runProgress(show.io, show.o.format !== 'json' && !show.o.quiet) : undefined;
   try {
-    return await new MemoryEngine().run(run.source, rules, run.range);
+    return await new MemoryEngine({ onProgress: bar?.onProgress }).run(run.source, rules, run.range);
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    bar?.stop();
   }
 }
 
 /** As {@link runEngine}, with the classified rows. */
-export async function runClassifyEngine(run: EventRun, rules: Rules): Promise<{ rows: ClassifiedRow[]; result: EngineResult }> {
+export async function runClassifyEngine(run: EventRun, rules: Rules, show?: { io: Io; o: Pick<CommonOptions, 'format' | 'quiet'> }): Promise<{ rows: ClassifiedRow[]; result: EngineResult }> {
+  const bar = show ? runProgress(show.io, show.o.format !== 'json' && !show.o.quiet) : undefined;
   try {
-    return await new MemoryEngine().classify(run.source, rules, run.range);
+    return await new MemoryEngine({ onProgress: bar?.onProgress }).classify(run.source, rules, run.range);
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    bar?.stop();
   }
 }
 

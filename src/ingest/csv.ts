@@ -156,8 +156,8 @@ export interface SplitOptions {
   minBytes: number;
   /** The byte offset near which to split a file of `size` bytes whose header ends at `headerEnd`; a line start at or after it is used. */
   splitNear: (size: number, headerEnd: number) => number;
-  /** Read the later part: resolves to that part's rows, or rejects with the part's first error. */
-  readPart: (job: CsvPartJob) => { result: Promise<PartResult>; cancel: () => void };
+  /** Read the later part: resolves to that part's rows or its first error; `onBytes` hears of the bytes it reads. */
+  readPart: (job: CsvPartJob, onBytes?: (n: number) => void) => { result: Promise<PartResult>; cancel: () => void };
 }
 
 /** A later part of a CSV file, for a reader on another thread. */
@@ -175,9 +175,23 @@ export interface CsvPartJob {
  */
 export type PartResult = { ok: true; partial: PartialLog } | { ok: false; error: TidemarkError } | { ok: false; unavailable: true };
 
-export async function readCsv(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean, delimiter = ',', limits: ScanLimits = DEFAULT_LIMITS, split?: SplitOptions): Promise<void> {
+/** `onBytes` is told the bytes of the file read as they are read, by both threads (progress). */
+export async function readCsv(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean, delimiter = ',', limits: ScanLimits = DEFAULT_LIMITS, split?: SplitOptions, onBytes?: (n: number) => void): Promise<void> {
   const scanner = new CsvScanner(delimiterByte(delimiter), limits);
-  const r = await ChunkReader.open(file, limits.chunk);
+  // this thread reads whole chunks past the split; only its bytes before the split count as its own
+  let mine = 0, upTo = Infinity;
+  const counted = onBytes && ((n: number) => {
+    const before = Math.min(mine, upTo);
+    mine += n;
+    if (Math.min(mine, upTo) > before) onBytes(Math.min(mine, upTo) - before);
+  });
+  const countUpTo = (limit: number) => {
+    if (!onBytes) return;
+    const said = Math.min(mine, upTo);
+    upTo = limit;
+    if (Math.min(mine, upTo) !== said) onBytes(Math.min(mine, upTo) - said);
+  };
+  const r = await ChunkReader.open(file, limits.chunk, undefined, counted);
   let part: ReturnType<SplitOptions['readPart']> | undefined;
   let partStart = -1;
   try {
@@ -190,7 +204,8 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
       const at = await r.lineStartAfter(Math.max(r.base, split.splitNear(size, r.base)));
       if (at === undefined || at >= size) return -1;
       partStart = at;
-      part = split.readPart({ file, start: at, plan, delimiter, limits });
+      part = split.readPart({ file, start: at, plan, delimiter, limits }, onBytes);
+      countUpTo(at);
       return at;
     };
     let stop = await scanCsv(f, pos, 1, undefined, -1, onPlan);
@@ -210,6 +225,7 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
     // no split, the worker could not run, or this thread's last record ran past the split: read on alone
     part?.cancel();
     part = undefined;
+    countUpTo(Infinity);
     if (stop.at >= 0) stop = await scanCsv(f, stop.at - r.base, stop.line, stop.plan, -1);
     if (!stop.plan) throw new TidemarkError('EVENTS_FORMAT', 'the file is empty: it needs a header line', { file, line: 1 }, `Start the file with a header such as ${columns.user},${columns.timestamp},${columns.event}`);
     builder.endFile(stop.line - 1);
@@ -223,9 +239,9 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
  * Read the part of a CSV file from byte `start` (a line start) to its end into `builder`, with the
  * header plan read by the first part: what a worker thread runs. Lines count from the part's first.
  */
-export async function readCsvPart(job: CsvPartJob, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean): Promise<void> {
+export async function readCsvPart(job: CsvPartJob, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean, onBytes?: (n: number) => void): Promise<void> {
   const scanner = new CsvScanner(delimiterByte(job.delimiter), job.limits);
-  const r = await ChunkReader.open(job.file, job.limits.chunk, job.start);
+  const r = await ChunkReader.open(job.file, job.limits.chunk, job.start, onBytes);
   try {
     await r.refill(0);
     builder.startFile(job.file, job.plan.attributeNames);

@@ -42,28 +42,28 @@ export interface PartJob {
 }
 
 /** The worker's answer. */
-type WorkerMessage = { ok: true; partial: PartialLog } | { ok: false; error: { code: ErrorCode; message: string; where: ErrorLocation; hint?: string } };
+type WorkerMessage = { bytes: number } | { ok: true; partial: PartialLog } | { ok: false; error: { code: ErrorCode; message: string; where: ErrorLocation; hint?: string } };
 
 /**
  * Split options for readCsv; undefined when this machine has one core. `overrides` lets tests choose
  * the size and the split, and read the part on this thread ({@link readPartHere}).
  */
-export function twoThreadSplit(job: Omit<PartJob, 'part'>, overrides: Partial<Omit<SplitOptions, 'readPart'>> & { readPart?: (job: PartJob) => Promise<PartResult> } = {}): SplitOptions | undefined {
+export function twoThreadSplit(job: Omit<PartJob, 'part'>, overrides: Partial<Omit<SplitOptions, 'readPart'>> & { readPart?: (job: PartJob, onBytes?: (n: number) => void) => Promise<PartResult> } = {}): SplitOptions | undefined {
   if (availableParallelism() < 2 && !overrides.readPart) return undefined;
   const { readPart, ...rest } = overrides;
   return {
     minBytes: PARALLEL_MIN_BYTES,
     splitNear: (size, headerEnd) => Math.min(size, headerEnd + Math.floor((size - headerEnd) / 2) + WORKER_START_BYTES / 2),
-    readPart: readPart ? (part) => ({ result: readPart({ ...job, part }), cancel: () => undefined }) : (part) => startPart({ ...job, part }),
+    readPart: readPart ? (part, onBytes) => ({ result: readPart({ ...job, part }, onBytes), cancel: () => undefined }) : (part, onBytes) => startPart({ ...job, part }, onBytes),
     ...rest,
   };
 }
 
 /** Read a later part of a file on this thread: what the worker runs (and what tests run in its place). */
-export async function readPartHere(job: PartJob): Promise<PartResult> {
+export async function readPartHere(job: PartJob, onBytes?: (n: number) => void): Promise<PartResult> {
   const builder = new EventLogBuilder({ rules: job.rules, skipBadRows: job.skipBadRows, toKey: job.toKey });
   try {
-    await readCsvPart(job.part, builder, job.rules.columns, job.rules.activity.keyEvents !== undefined);
+    await readCsvPart(job.part, builder, job.rules.columns, job.rules.activity.keyEvents !== undefined, onBytes);
   } catch (e) {
     if (e instanceof TidemarkError) return { ok: false, error: e };
     throw e;
@@ -130,14 +130,14 @@ async function newWorker(job: PartJob): Promise<Worker> {
   return new Worker(new URL('./partWorkerTsx.js', import.meta.url), { workerData: job });
 }
 
-function startPart(job: PartJob): { result: Promise<PartResult>; cancel: () => void } {
+function startPart(job: PartJob, onBytes?: (n: number) => void): { result: Promise<PartResult>; cancel: () => void } {
   let cancelled = false;
   let worker: Worker | undefined;
   const result = new Promise<PartResult>((resolve) => {
     newWorker(job).then((w) => {
       worker = w;
       if (cancelled) void w.terminate();
-      listen(w, resolve);
+      listen(w, resolve, onBytes);
     }, () => resolve({ ok: false, unavailable: true }));
   });
   return { result, cancel: () => {
@@ -146,8 +146,9 @@ function startPart(job: PartJob): { result: Promise<PartResult>; cancel: () => v
   } };
 }
 
-function listen(worker: Worker, resolve: (r: PartResult) => void): void {
-  worker.once('message', (m: WorkerMessage) => {
+function listen(worker: Worker, resolve: (r: PartResult) => void, onBytes?: (n: number) => void): void {
+  worker.on('message', (m: WorkerMessage) => {
+    if ('bytes' in m) return onBytes?.(m.bytes);
     if (m.ok) resolve({ ok: true, partial: m.partial });
     else resolve({ ok: false, error: new TidemarkError(m.error.code, m.error.message, m.error.where, m.error.hint) });
     void worker.terminate();

@@ -82,7 +82,8 @@ function textOf(v: unknown): string | undefined {
   return JSON.stringify(v);
 }
 
-export async function readParquet(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean): Promise<void> {
+/** `onBytes` hears of progress as the file's share of the row groups read so far (by rows). */
+export async function readParquet(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, needEvent: boolean, onBytes?: (n: number) => void): Promise<void> {
   let meta: FileMetaData;
   let buffer: Awaited<ReturnType<typeof asyncBufferFromFile>>;
   try {
@@ -172,6 +173,7 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
         if (c >= 0) users.set(id, c);
       }
     }
+    onBytes?.(Math.round((buffer.byteLength * (rowEnd - rowStart)) / Math.max(1, Number(meta.num_rows))));
     row = rowEnd;
   }
   builder.endFile(row);

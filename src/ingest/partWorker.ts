@@ -13,7 +13,16 @@ function buffers(p: PartialLog): ArrayBuffer[] {
 }
 
 async function work(job: PartJob): Promise<void> {
-  const got = await readPartHere(job);
+  // the bytes read, told in steps of 8 MiB or more (progress on the main thread)
+  let unsaid = 0;
+  const got = await readPartHere(job, (n) => {
+    unsaid += n;
+    if (unsaid >= 8 << 20) {
+      parentPort!.postMessage({ bytes: unsaid });
+      unsaid = 0;
+    }
+  });
+  if (unsaid > 0) parentPort!.postMessage({ bytes: unsaid });
   if (got.ok) parentPort!.postMessage({ ok: true, partial: got.partial }, buffers(got.partial));
   else if ('error' in got) {
     const e = got.error;

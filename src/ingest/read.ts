@@ -4,6 +4,7 @@
  * unless given. CSV and NDJSON files are read once, front to back (FIFOs and /dev/stdin work); Parquet
  * needs a file it can seek in.
  */
+import { stat } from 'node:fs/promises';
 import { extname } from 'node:path';
 import { TidemarkError } from '../errors.js';
 import type { Rules } from '../rules/schema.js';
@@ -26,8 +27,35 @@ export interface ReadEventsOptions {
   delimiter?: string;
   /** The readers' bounds (default: limits.ts); lowered by tests to reach them with small inputs. */
   limits?: Partial<ScanLimits>;
+  /**
+   * Told how reading goes, after each read of a file's bytes (about every MiB): the bytes read of all
+   * the files so far, and their total size when every file is a regular file (a pipe has none).
+   */
+  onProgress?: (p: ReadProgress) => void;
   /** Read a large CSV file on two threads (default true); tests set the size and the split, and may read the part on this thread. */
   parallel?: boolean | Parameters<typeof twoThreadSplit>[1];
+}
+
+/** How far reading has got: bytes of the files (compressed bytes for gzip), and their total when known. */
+export interface ReadProgress {
+  file: string;
+  bytes: number;
+  total?: number;
+}
+
+/** The total size of the files, or undefined when one is not a regular file (a pipe, standard input). */
+async function totalSize(files: string[]): Promise<number | undefined> {
+  let total = 0;
+  for (const f of files) {
+    try {
+      const st = await stat(f);
+      if (!st.isFile()) return undefined;
+      total += st.size;
+    } catch {
+      return undefined; // the reader reports the file itself
+    }
+  }
+  return total;
 }
 
 export function formatOf(file: string, format?: EventFormat): EventFormat {
@@ -47,11 +75,14 @@ export async function readEvents(files: string[], opts: ReadEventsOptions): Prom
   const limits: ScanLimits = { ...DEFAULT_LIMITS, ...opts.limits };
   const split = opts.parallel === false ? undefined
     : twoThreadSplit({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey }, opts.parallel === true || opts.parallel === undefined ? {} : opts.parallel);
+  const total = opts.onProgress ? await totalSize(files) : undefined;
+  let bytes = 0;
   for (const file of files) {
     const fmt = formatOf(file, opts.format);
-    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits, split);
-    else if (fmt === 'parquet') await readParquet(file, builder, opts.rules.columns, needEvent);
-    else await readNdjson(file, builder, opts.rules.columns, limits);
+    const onBytes = opts.onProgress ? (n: number) => opts.onProgress!({ file, bytes: (bytes += n), total }) : undefined;
+    if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits, split, onBytes);
+    else if (fmt === 'parquet') await readParquet(file, builder, opts.rules.columns, needEvent, onBytes);
+    else await readNdjson(file, builder, opts.rules.columns, limits, onBytes);
   }
   const log = builder.build();
   if (log.size === 0) {

@@ -35,6 +35,19 @@ const stdinSource: Source = {
   close: async () => undefined,
 };
 
+/** `src`, telling `onBytes` how many bytes each read got (before any decompression: progress against the file's size). */
+function counting(src: Source, onBytes?: (n: number) => void): Source {
+  if (!onBytes) return src;
+  return {
+    read: async (buf, offset, length) => {
+      const n = await src.read(buf, offset, length);
+      onBytes(n);
+      return n;
+    },
+    close: () => src.close(),
+  };
+}
+
 /**
  * A source that reads gzip-compressed data (RFC 1952) from `raw` when it starts with the gzip magic
  * bytes 1f 8b, and passes anything else through unchanged. Text never starts with byte 0x1f (a control
@@ -164,12 +177,12 @@ export class ChunkReader {
    * Open `file` for reading with a buffer of `size` bytes. `start`: read a regular file from that byte
    * offset on (a later part of a file, read on another thread); `base` then counts from the file's start.
    */
-  static async open(file: string, size: number, start?: number): Promise<ChunkReader> {
+  static async open(file: string, size: number, start?: number, onBytes?: (n: number) => void): Promise<ChunkReader> {
     let fh: FileHandle;
     try {
       fh = await open(file, 'r');
     } catch (err) {
-      if ((err as { code?: string })?.code === 'ENXIO' && STDIN_PATHS.has(file)) return ChunkReader.over(stdinSource, file, size, undefined, undefined);
+      if ((err as { code?: string })?.code === 'ENXIO' && STDIN_PATHS.has(file)) return ChunkReader.over(counting(stdinSource, onBytes), file, size, undefined, undefined);
       throw fileError(err, file);
     }
     let regular: number | undefined;
@@ -181,7 +194,7 @@ export class ChunkReader {
       await fh.close();
       throw fileError(err, file);
     }
-    return ChunkReader.over(fileSource(fh, start), file, size, start, fh, regular);
+    return ChunkReader.over(counting(fileSource(fh, start), onBytes), file, size, start, fh, regular);
   }
 
   /** A reader over a source (a part of a file from `start` is never compressed: only whole files are split). */

@@ -89,7 +89,7 @@ describe('two-part reading', () => {
     for (let i = 0; i < 20_000; i++) lines.push(`m${(i * 7919) % 3001},${new Date(Date.UTC(2026, 0, 5) + ((i * 104_729) % 5_000_000) * 3600).toISOString()},${i % 3 ? 'booking' : 'browse'},${i % 5 ? 'pro' : '"hob""by"'}`);
     const file = t.file('worker.csv', `${lines.join('\n')}\n`);
     const one = await outcome(file, { rules, parallel: false });
-    const two = await outcome(file, { rules, parallel: { minBytes: 0 } });
+    const two = await outcome(file, { rules, parallel: { minBytes: 0, splitNear: (size) => size / 2 } });
     expect(two).toEqual(one);
     // and the worker itself answers (a worker that cannot start would leave this thread to read alone)
     const start = Buffer.from(`${lines.slice(0, 10_001).join('\n')}\n`).length;

@@ -13,7 +13,7 @@ export function formatClassified(rows: ClassifiedRow[], format: Format): string 
 
 export async function runClassify(o: CommonOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
-  const { rows, result } = await runClassifyEngine(eventRun(o, rules, false), rules);
+  const { rows, result } = await runClassifyEngine(eventRun(o, rules, false), rules, { io, o });
   noteRun(io, o, result);
   const lp = result.lastPeriod;
   if (!lp.complete) note(io, o, `note: the last period, ${lp.label}, looks incomplete (the data stop ${(lp.coverage * 100).toFixed(0)}% of the way through it): its states may still change as more events arrive`);

@@ -56,7 +56,7 @@ export async function runCohorts(o: CohortsCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const measure = { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group, minN: rules.minCell };
   const run = eventRun(o, rules, true);
-  const r = await runEngine(run, rules);
+  const r = await runEngine(run, rules, { io, o });
   noteRun(io, o, r);
   notePartial(io, o, r, run.range);
   emit(formatCohorts(cohortReport(r.waist.cohorts, measure), o.format, partialJson(r)), o.out, io);

@@ -79,7 +79,7 @@ export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {
     if (!o.events) throw new TidemarkError('USAGE', 'give --alive n0,n1,… or --events', { key: '--alive' }, 'See tidemark curve --help');
     const rules = resolveRules(o as CommonOptions);
     const run = eventRun(o as CommonOptions, rules, true);
-    const r = await runEngine(run, rules);
+    const r = await runEngine(run, rules, { io, o });
     noteRun(io, o, r);
     notePartial(io, o, r, run.range);
     extra = partialJson(r);

@@ -61,7 +61,7 @@ export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
   const base = dateOption(o.base, '--base');
   const compare = dateOption(o.compare, '--compare');
   const run = eventRun(o, rules, true, o.by);
-  const r = await runEngine(run, rules);
+  const r = await runEngine(run, rules, { io, o });
   noteRun(io, o, r);
   notePartial(io, o, r, run.range);
   const e = asFlags(() => explainRetention(r.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell }), { base: '--base', compare: '--compare' }, periodFlagHint(r, rules, { base, compare }));

@@ -81,7 +81,7 @@ function flowsTable(f: FlowsOutput): string {
 export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   if (o.pool !== undefined) selectionOption(o.pool, '--pool');
-  const result = await runEngine(eventRun(o, rules, false), rules);
+  const result = await runEngine(eventRun(o, rules, false), rules, { io, o });
   noteRun(io, o, result);
   const out = asFlags(() => flowsOutput(result, rules, o.pool), { range: '--pool' });
   emit(formatFlows(out, o.format), o.out, io);

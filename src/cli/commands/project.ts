@@ -143,7 +143,7 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
     if (o.until !== undefined) stateOption(o.until, '--until', STATES);
     whatIfOption(o.whatIf, '--what-if', STATES, moves);
     const run = eventRun(o as CommonOptions, rules, true);
-    const r = await runEngine(run, rules);
+    const r = await runEngine(run, rules, { io, o });
     noteRun(io, o, r);
     notePartial(io, o, r, run.range);
     const hint = periodFlagHint(r, rules, { range: common.fit });

@@ -30,7 +30,7 @@ export function formatRetention(rows: RetentionRate[], format: Format, split: bo
 export async function runRetention(o: RetentionCliOptions, io: Io): Promise<void> {
   const rules = resolveRules(o);
   const run = eventRun(o, rules, true);
-  const r = await runEngine(run, rules);
+  const r = await runEngine(run, rules, { io, o });
   noteRun(io, o, r);
   notePartial(io, o, r, run.range);
   const cells = o.tenure ? r.waist.tenureCells : collapseCells(r.waist.tenureCells, 'state');

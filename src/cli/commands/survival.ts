@@ -60,7 +60,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
     const rules = resolveRules(o as CommonOptions);
     const run = eventRun(o as CommonOptions, rules, true, column);
-    const r = await runEngine(run, rules);
+    const r = await runEngine(run, rules, { io, o });
     noteRun(io, o, r);
     notePartial(io, o, r, run.range);
     extra = partialJson(r);
