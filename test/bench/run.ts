@@ -9,10 +9,11 @@
  *
  * Options: --sizes 1,3,10 (millions of events) · --with-100m · --engines memory,duckdb (default: memory,
  * and duckdb when `tidemark flows --engine` offers it) · --repeat N · --data DIR (where logs are kept
- * between runs; default the system temp folder) · --out FILE (default reports/bench.md).
+ * between runs; default the system temp folder) · --out FILE (default reports/bench.md) · --baseline DIR
+ * (also time the memory engine of another checkout of tidemark, say the main branch, for before/after).
  */
 import { spawn } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { cpus, freemem, loadavg, tmpdir, totalmem } from 'node:os';
 import { dirname, join } from 'node:path';
 import { performance } from 'node:perf_hooks';
@@ -34,6 +35,7 @@ const with100m = argv.includes('--with-100m');
 const repeat = Math.max(1, Number(opt('--repeat', '3')));
 const dataDir = opt('--data', join(tmpdir(), 'tidemark-bench'));
 const outFile = opt('--out', join(ROOT, 'reports/bench.md'));
+const baseline = opt('--baseline', '');
 
 interface Measured {
   wall: number;
@@ -151,12 +153,13 @@ try {
     for (const format of ['csv', 'parquet'] as const) {
       const file = format === 'csv' ? log.csv : log.parquet;
       if (!file) continue;
-      const runners = ['hand', ...engines.filter((e) => !(log.events >= 100_000_000 && e === 'memory'))];
+      const runners = ['hand', ...engines.filter((e) => !(log.events >= 100_000_000 && e === 'memory')), ...(baseline && log.events < 100_000_000 && (format === 'csv' || existsSync(join(baseline, 'src/ingest/parquet.ts'))) ? ['baseline'] : [])];
       const got = new Map<string, Measured[]>(runners.map((r) => [r, []]));
       const out = (r: string) => join(work, `${r}-${log.events}-${format}.json`);
       for (let k = 0; k < repeat; k++) {
         for (const r of runners) {
           const args = r === 'hand' ? [HAND, file, out(r)]
+            : r === 'baseline' ? [join(baseline, 'src/cli/bin.js'), 'flows', '--events', file, '--format', 'json', '--out', out(r), '--quiet']
             : [CLI, 'flows', '--events', file, '--format', 'json', '--out', out(r), '--quiet', ...(r === 'memory' && engines.length === 1 ? [] : ['--engine', r])];
           const m = await timed(args);
           if (m.code !== 0) console.log(`${r} on ${file} failed (exit ${m.code}): ${m.stderr.trim().split('\n').slice(-1)[0]}`);
@@ -167,7 +170,7 @@ try {
       const want = hand.code === 0 ? handMoves(out('hand')) : undefined;
       for (const r of runners) {
         const m = median(got.get(r)!);
-        const row: Row = { events: log.events, format, runner: r === 'hand' ? 'hand-written DuckDB query' : engineLabel(r), m, bytes: sizeOf(file) };
+        const row: Row = { events: log.events, format, runner: r === 'hand' ? 'hand-written DuckDB query' : r === 'baseline' ? `baseline: ${baseline} (memory engine)` : engineLabel(r), m, bytes: sizeOf(file) };
         if (r !== 'hand') {
           row.ratio = m.wall / hand.wall;
           row.equal = m.code === 0 && want !== undefined && sameMoves(flowsMoves(out(r)), want);

@@ -30,10 +30,11 @@ describe('activePeriods', () => {
     );
   });
 
-  it('a period with 65,535 events or more is counted exactly (the grid hands over to the sort)', () => {
+  it("a period with more events than a byte holds (70,000) is counted exactly by the grid and the sort", () => {
     const rows: [number, number][] = Array.from({ length: 70_000 }, () => [1, 3]);
     rows.push([0, 2]);
-    const a = activePeriods(logOf(rows, 2), 1, 0, 5);
-    expect(Array.from(a.events)).toEqual([1, 70_000]);
+    for (const grid of [true, false]) expect(Array.from(activePeriods(logOf(rows, 2), 1, 0, 5, grid).events)).toEqual([1, 70_000]);
+    // and a threshold above 255 counts from the overflow
+    expect(Array.from(activePeriods(logOf(rows, 2), 300, 0, 5).user)).toEqual([1]);
   });
 });
