@@ -121,9 +121,12 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
   const users = new Map<string, number>();
   const eventName = plan.event >= 0 ? names[plan.event] : undefined;
   let row = 0;
+  // the timestamp as shown in a message, made only when one is needed (no closure a row)
+  let shownTs: unknown;
+  const tsText = () => (shownTs === null || shownTs === undefined ? '' : String(shownTs));
   for (const rg of meta.row_groups) {
     const rowStart = row, rowEnd = row + Number(rg.num_rows);
-    const cols = new Map<string, unknown[]>();
+    const cols = new Map<string, ArrayLike<unknown>>();
     try {
       await parquetRead({
         file: buffer,
@@ -135,9 +138,16 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
         parsers,
         compressors,
         onChunk: (c) => {
-          let arr = cols.get(c.columnName);
-          if (!arr) cols.set(c.columnName, (arr = new Array(rowEnd - rowStart)));
           const data = c.columnData as ArrayLike<unknown>;
+          const have = cols.get(c.columnName);
+          // usually one chunk a column covers the row group: used as it is
+          if (!have && c.rowStart === rowStart && c.rowEnd >= rowEnd) return void cols.set(c.columnName, data);
+          let arr = have as unknown[] | undefined;
+          if (!arr || !Array.isArray(arr)) {
+            const fresh = new Array<unknown>(rowEnd - rowStart);
+            if (arr) for (let i = 0; i < fresh.length; i++) fresh[i] = (arr as ArrayLike<unknown>)[i];
+            cols.set(c.columnName, (arr = fresh));
+          }
           for (let i = Math.max(c.rowStart, rowStart); i < Math.min(c.rowEnd, rowEnd); i++) arr[i - rowStart] = data[i - c.rowStart];
         },
       });
@@ -150,23 +160,29 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
     for (let i = 0; i < rowEnd - rowStart; i++) {
       const line = rowStart + i + 1;
       const uv = u[i], tv = t[i], evv = ev?.[i];
-      if (uv instanceof NotUtf8 || tv instanceof NotUtf8 || evv instanceof NotUtf8 || av.some((a) => a[i] instanceof NotUtf8)) {
+      let bad = uv instanceof NotUtf8 || tv instanceof NotUtf8 || evv instanceof NotUtf8;
+      for (let a = 0; a < av.length && !bad; a++) bad = av[a][i] instanceof NotUtf8;
+      if (bad) {
         builder.reject('invalid UTF-8', file, line, undefined, undefined, 'A string value is not UTF-8 (values are never guessed): export the file again with UTF-8 strings, or pass --skip-bad-rows');
         continue;
       }
-      const id = idOf(uv);
+      const id = typeof uv === 'string' ? uv : idOf(uv);
       if (typeof id !== 'string') {
         builder.reject('bad user id', file, line, columns.user, id.shown, id.problem);
         continue;
       }
-      for (let a = 0; a < av.length; a++) attrs[a] = textOf(av[a][i]) ?? '';
+      for (let a = 0; a < av.length; a++) {
+        const v = av[a][i];
+        attrs[a] = typeof v === 'string' ? v : textOf(v) ?? '';
+      }
       const known = users.get(id);
-      const event = textOf(evv);
+      const event = typeof evv === 'string' ? evv : textOf(evv);
       if (kind === 'text' || typeof tv === 'string') builder.add(file, line, known ?? id, typeof tv === 'string' ? tv : '', event, attrs);
       else {
         const ms = typeof tv === 'bigint' ? Number(tv) : typeof tv === 'number' ? tv : NaN;
         const wall = kind === 'epoch' ? builder.epochWall(ms) : kind === 'instant' ? builder.instantWall(ms) : kind === 'local' ? builder.localWall(ms) : undefined;
-        builder.addTimed(file, line, known ?? id, wall, () => (tv === null || tv === undefined ? '' : String(tv)), event, attrs);
+        shownTs = tv;
+        builder.addTimed(file, line, known ?? id, wall, tsText, event, attrs);
       }
       if (known === undefined && id !== '') {
         const c = builder.userCodeOf(id);

@@ -10,7 +10,8 @@
  * Options: --sizes 1,3,10 (millions of events) · --with-100m · --engines memory,duckdb (default: memory,
  * and duckdb when `tidemark flows --engine` offers it) · --repeat N · --data DIR (where logs are kept
  * between runs; default the system temp folder) · --out FILE (default reports/bench.md) · --baseline DIR
- * (also time the memory engine of another checkout of tidemark, say the main branch, for before/after).
+ * (also time the memory engine of another checkout of tidemark, say the main branch, for before/after) ·
+ * --cli FILE (the tidemark entry to time; default src/cli/bin.js).
  */
 import { spawn } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -22,7 +23,9 @@ import { benchLog, sizeOf, type BenchLog } from './generate.js';
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const MEASURE = join(ROOT, 'test/bench/measure.mjs');
-const CLI = join(ROOT, 'src/cli/bin.js');
+const argvEarly = process.argv.slice(2);
+/** The tidemark entry to time: `--cli FILE` (a compiled build's runner, say), else src/cli/bin.js. */
+const CLI = argvEarly.includes('--cli') ? argvEarly[argvEarly.indexOf('--cli') + 1] : join(ROOT, 'src/cli/bin.js');
 const HAND = join(ROOT, 'test/bench/handQuery.mjs');
 
 const argv = process.argv.slice(2);
@@ -219,7 +222,7 @@ const table = [
 const md = [
   '# Benchmark: tidemark flows against a hand-written DuckDB query',
   '',
-  `Run ${started.toISOString().slice(0, 16).replace('T', ' ')} UTC by \`npm run bench\` (${argv.join(' ') || 'default options'}), ${repeat} run(s) of each process, interleaved; the run with the median wall time is shown.`,
+  `Run ${started.toISOString().slice(0, 16).replace('T', ' ')} UTC by \`npm run bench\` (${argv.join(' ') || 'default options'}), ${repeat} run(s) of each process, interleaved; the run with the median wall time is shown. tidemark entry: ${CLI.startsWith(ROOT) ? CLI.slice(ROOT.length) : CLI}.`,
   `Machine: ${machine}. Load average ${load0.map((x) => x.toFixed(1)).join(' / ')} before and ${load1.map((x) => x.toFixed(1)).join(' / ')} after (1 / 5 / 15 min): other work shared the cores, so read the ratios (measured side by side) rather than the seconds.`,
   '',
   'Logs: synthetic weekly makerspace bookings (invented), one member per 20 events, 52 weeks; rules: weeks from Monday, UTC, every event counts, lapse limit 2. Whole processes are timed from start to exit, start-up included; CPU counts every thread.',
