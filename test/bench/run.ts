@@ -10,7 +10,8 @@
  * Options: --sizes 1,3,10 (millions of events) · --with-100m · --engines memory,duckdb (default: memory,
  * and duckdb when `tidemark flows --engine` offers it) · --repeat N · --data DIR (where logs are kept
  * between runs; default the system temp folder) · --out FILE (default reports/bench.md) · --baseline DIR
- * (also time the memory engine of another checkout of tidemark, say the main branch, for before/after) ·
+ * (also time the memory engine of another checkout of tidemark, say the main branch, on CSV, for
+ * before/after; or give its entry file, a compiled build's runner) ·
  * --cli FILE (the tidemark entry to time; default src/cli/bin.js).
  */
 import { spawn } from 'node:child_process';
@@ -156,13 +157,13 @@ try {
     for (const format of ['csv', 'parquet'] as const) {
       const file = format === 'csv' ? log.csv : log.parquet;
       if (!file) continue;
-      const runners = ['hand', ...engines.filter((e) => !(log.events >= 100_000_000 && e === 'memory')), ...(baseline && log.events < 100_000_000 && (format === 'csv' || existsSync(join(baseline, 'src/ingest/parquet.ts'))) ? ['baseline'] : [])];
+      const runners = ['hand', ...engines.filter((e) => !(log.events >= 100_000_000 && e === 'memory')), ...(baseline && log.events < 100_000_000 && format === 'csv' ? ['baseline'] : [])];
       const got = new Map<string, Measured[]>(runners.map((r) => [r, []]));
       const out = (r: string) => join(work, `${r}-${log.events}-${format}.json`);
       for (let k = 0; k < repeat; k++) {
         for (const r of runners) {
           const args = r === 'hand' ? [HAND, file, out(r)]
-            : r === 'baseline' ? [join(baseline, 'src/cli/bin.js'), 'flows', '--events', file, '--format', 'json', '--out', out(r), '--quiet']
+            : r === 'baseline' ? [/\.m?js$/.test(baseline) ? baseline : join(baseline, 'src/cli/bin.js'), 'flows', '--events', file, '--format', 'json', '--out', out(r), '--quiet']
             : [CLI, 'flows', '--events', file, '--format', 'json', '--out', out(r), '--quiet', ...(r === 'memory' && engines.length === 1 ? [] : ['--engine', r])];
           const m = await timed(args);
           if (m.code !== 0) console.log(`${r} on ${file} failed (exit ${m.code}): ${m.stderr.trim().split('\n').slice(-1)[0]}`);

@@ -44,7 +44,7 @@ const id = fc.constantFrom('m1', 'm2', 'm3', 'José', 'a,b', 'q"uote', 'x\ny', '
 const ts = fc.integer({ min: 1, max: 60 }).map((d) => new Date(Date.UTC(2026, 2, 1) + d * 86_400_000 + d * 3_600_123).toISOString());
 const event = fc.constantFrom('booking', 'checked_in', 'browse', '');
 const row = fc.tuple(id, fc.oneof(ts, fc.constantFrom('2026-03-04 10:00:00', '1777919400', 'not a time')), event, fc.constantFrom('pro', 'hobby', '', 'note\n"x"'));
-const damage = fc.array(fc.tuple(fc.nat(10_000), fc.constantFrom('"', '\n', ',', '\r\n', '\xff', '')), { maxLength: 4 });
+const damage = fc.array(fc.tuple(fc.nat(10_000), fc.constantFrom('"', '\n', ',', '\r\n', '\xff', '\u0000', '')), { maxLength: 4 });
 
 function fileOf(rows: [string, string, string, string][], dmg: [number, string][]): Buffer {
   let b = Buffer.from(rfc4180Write([['user_id', 'timestamp', 'event', 'plan'], ...rows], { eol: '\n', finalEol: true }));

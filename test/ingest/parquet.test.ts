@@ -49,7 +49,7 @@ describe('Parquet written by DuckDB', () => {
       expect(got.rows).toEqual({ ...want.rows, lines: { read: 5000, header: 0, blank: 0, records: 5000, rejected: 0 } });
       expect([...got.eventNames]).toEqual([...want.eventNames]);
     }
-  });
+  }, 30_000); // a bound on a hang: DuckDB writes eight files
 
   it('integer ids are their digits (one id with a CSV "123"), a local TIMESTAMP is wall-clock time, a DATE its day', async () => {
     const pq = join(t.dir, 'types.parquet');
