@@ -107,8 +107,10 @@ async function offeredEngines(): Promise<string[]> {
     c.stdout.on('data', (d) => (out += d));
     c.on('close', () => resolve(out));
   });
-  const m = /--engine[^\n]*choices: ([^)]*)\)/.exec(help);
-  return m ? m[1].split(',').map((s) => s.trim().replace(/"/g, '')) : ['memory'];
+  // commander wraps long help lines: `--engine <name>  … (choices:\n   "memory", "duckdb", default: "memory")`
+  const m = /--engine[^\n]*(?:\n[^\n-][^\n]*)*?choices:\s*([^)]*)\)/.exec(help);
+  const names = m ? [...m[1].replace(/default:.*$/s, '').matchAll(/"([^"]+)"/g)].map((x) => x[1]) : [];
+  return names.length > 0 ? names : ['memory'];
 }
 
 interface Row {

@@ -169,7 +169,7 @@ export function projectCommand(program: Command, io: Io): void {
     .option('--band <lo,hi>', 'band percentiles', '10,90')
     .addOption(new Option('--no-backtest', 'skip the backtest'))
     .option('--backtest-horizon <n>', 'periods ahead scored in the backtest', '4');
-  cmd.option('--events <files...>', 'event log(s): CSV or NDJSON');
+  cmd.option('--events <files...>', 'event log(s): CSV, NDJSON (either may be .gz) or Parquet');
   addPartialOption(addEventOptions(cmd, false));
   addFormatOptions(cmd, 'table').action((opts: ProjectOptions) => runProject(opts, io));
 }
