@@ -13,6 +13,7 @@ import type { Waist } from '../waist/types.js';
 import { FORMATS, terminalText, type Format } from './format.js';
 import type { Io } from './io.js';
 import { dateOption, flagError, wholeNumber } from './options.js';
+import { runProgress } from './progress.js';
 
 export { DEFAULT_RULES };
 
@@ -26,7 +27,7 @@ export interface CommonOptions {
   to?: string;
   warmup?: string;
   skipBadRows?: boolean;
-  inputFormat?: 'csv' | 'ndjson';
+  inputFormat?: 'csv' | 'ndjson' | 'parquet';
   delimiter?: string;
   userColumn?: string;
   timestampColumn?: string;
@@ -54,7 +55,7 @@ export function addWaistOption(cmd: Command): Command {
 /** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
 export function addEventOptions(cmd: Command, withEvents = true): Command {
   // checked in sourceOf rather than as a required option, so that a misspelt option is reported as such
-  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV or NDJSON (by extension)');
+  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV, NDJSON (either may be .gz) or Parquet, by extension; required');
   return cmd
     .addOption(new Option('--engine <name>', 'the engine that reads the events').choices(ENGINE_NAMES as unknown as string[]))
     .option('--rules <file>', 'rules file (YAML); default: the packaged rules/weekly.yaml')
@@ -62,7 +63,7 @@ export function addEventOptions(cmd: Command, withEvents = true): Command {
     .option('--to <date>', 'last period to analyse (YYYY-MM-DD inside it); later events are ignored')
     .option('--warmup <n>', 'leading periods classified but left out of flows and retention (overrides the rules)')
     .option('--skip-bad-rows', 'skip and count bad rows instead of stopping at the first')
-    .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell').choices(['csv', 'ndjson']))
+    .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell (gzip is recognised by itself)').choices(['csv', 'ndjson', 'parquet']))
     .option('--delimiter <char>', 'CSV field delimiter (default ","; use "\\t" for tab)')
     .option('--user-column <name>', 'column holding the user id (overrides the rules)')
     .option('--timestamp-column <name>', 'column holding the event time (overrides the rules)')
@@ -124,21 +125,31 @@ export function eventRun(o: CommonOptions, rules: Rules, by?: string): EventRun 
   return { source: sourceOf(o), range, flags: rangeFlags(o, { by: by === undefined ? undefined : '--by', engine: '--engine' }) };
 }
 
-/** Run the chosen engine on checked options; a range error that needs the data names its flag. */
-export async function runEngine(o: Pick<CommonOptions, 'engine'>, run: EventRun, rules: Rules): Promise<EngineRun> {
+/**
+ * Run the chosen engine on checked options; a range error that needs the data names its flag. With
+ * `io`, progress goes to standard error while it runs, when that is a terminal and the output is not
+ * JSON (and not --quiet).
+ */
+export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'quiet'>, run: EventRun, rules: Rules, io?: Io): Promise<EngineRun> {
+  const bar = io ? runProgress(io, o.format !== 'json' && !o.quiet) : undefined;
   try {
-    return await createEngine(o.engine).run(run.source, rules, run.range);
+    return await createEngine(o.engine, { onProgress: bar?.onProgress }).run(run.source, rules, run.range);
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    bar?.stop();
   }
 }
 
 /** As {@link runEngine}, streaming the classification to `sink`. */
-export async function runClassifyEngine(o: Pick<CommonOptions, 'engine'>, run: EventRun, rules: Rules, sink: ClassifiedSink): Promise<EngineRun> {
+export async function runClassifyEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'quiet'>, run: EventRun, rules: Rules, sink: ClassifiedSink, io?: Io): Promise<EngineRun> {
+  const bar = io ? runProgress(io, o.format !== 'json' && !o.quiet) : undefined;
   try {
-    return await createEngine(o.engine).classify(run.source, rules, run.range, sink);
+    return await createEngine(o.engine, { onProgress: bar?.onProgress }).classify(run.source, rules, run.range, sink);
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    bar?.stop();
   }
 }
 
@@ -165,7 +176,7 @@ export interface AnalysisInput {
  * Prints the row accounting, data warnings and the partial-period note on standard error.
  */
 export async function analysisInput(o: CommonOptions, io: Io, spec: { partial: 'drop' | 'keep'; by?: string }): Promise<AnalysisInput> {
-  const { waist: full, flags } = await waistInput(o, spec);
+  const { waist: full, flags } = await waistInput(o, spec, io);
   const { waist, dropped } = analysisWaist(full, { includePartial: spec.partial === 'keep' || o.includePartial });
   noteRun(io, o, waist.manifest);
   const s = partialPeriodSentence(waist, dropped, { leaveOut: spec.partial === 'drop', asked: Boolean(o.includePartial) });
@@ -177,7 +188,7 @@ export async function analysisInput(o: CommonOptions, io: Io, spec: { partial: '
  * The waist in full form, all options checked before anything is read: from --waist DIR, or made by
  * the chosen engine from --events. `by`: the attribute split the command needs.
  */
-export async function waistInput(o: CommonOptions, spec: { by?: string; sections?: boolean } = {}): Promise<{ waist: Waist; flags: Record<string, string | undefined> }> {
+export async function waistInput(o: CommonOptions, spec: { by?: string; sections?: boolean } = {}, io?: Io): Promise<{ waist: Waist; flags: Record<string, string | undefined> }> {
   if (o.waist !== undefined) {
     const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
     if (given.length) throw new TidemarkError('USAGE', `give either --waist or ${given.join(', ')}: a waist was made from its events and rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --waist');
@@ -201,7 +212,7 @@ export async function waistInput(o: CommonOptions, spec: { by?: string; sections
       throw flagError(e, run.flags);
     }
   }
-  return { waist: (await runEngine(o, run, rules)).waist, flags: run.flags };
+  return { waist: (await runEngine(o, run, rules, io)).waist, flags: run.flags };
 }
 
 /** The incomplete last period, as the JSON outputs report it (absent when the last period is complete). */

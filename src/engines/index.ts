@@ -3,17 +3,17 @@
  * that reads events then offers it through `--engine`.
  */
 import { TidemarkError, suggestion } from '../errors.js';
-import { MemoryEngine } from './memory/index.js';
+import { MemoryEngine, type EngineProgress } from './memory/index.js';
 import type { Engine } from './types.js';
 
 export const ENGINE_NAMES = ['memory'] as const;
 export type EngineName = (typeof ENGINE_NAMES)[number];
 
 /** The engine called `name`. @throws TidemarkError INPUT_INVALID (key `engine`) for an unknown name. */
-export function createEngine(name: string = 'memory'): Engine {
+export function createEngine(name: string = 'memory', o: { onProgress?: (p: EngineProgress) => void } = {}): Engine {
   switch (name) {
     case 'memory':
-      return new MemoryEngine();
+      return new MemoryEngine(o);
     default:
       throw new TidemarkError('INPUT_INVALID', `no engine called '${name}'`, { key: 'engine' }, suggestion(name, ENGINE_NAMES) ?? `Engines: ${ENGINE_NAMES.join(', ')}`);
   }

@@ -15,6 +15,34 @@ class Growable<T extends Typed> {
     }
     this.buf[this.length++] = v;
   }
+  private reserve(n: number): void {
+    if (this.length + n <= this.buf.length) return;
+    let size = this.buf.length * 2;
+    while (size < this.length + n) size *= 2;
+    const next = this.make(size);
+    next.set(this.buf.subarray(0, this.length));
+    this.buf = next;
+  }
+  /** Append every value of `src`. */
+  pushAll(src: ArrayLike<number>): void {
+    this.reserve(src.length);
+    (this.buf as Typed).set(src, this.length);
+    this.length += src.length;
+  }
+  /** Append map[v] for every value v of `src`. */
+  pushMapped(src: ArrayLike<number>, map: ArrayLike<number>): void {
+    this.reserve(src.length);
+    const buf = this.buf;
+    let k = this.length;
+    for (let i = 0; i < src.length; i++) buf[k++] = map[src[i]];
+    this.length = k;
+  }
+  /** Append `n` copies of `v`. */
+  pushRepeated(v: number, n: number): void {
+    this.reserve(n);
+    this.buf.fill(v, this.length, this.length + n);
+    this.length += n;
+  }
   /** A copy-free view of the values pushed so far. */
   view(): T {
     return this.buf.subarray(0, this.length) as T;

@@ -59,7 +59,7 @@ export function userIdOf(v: unknown, raw: () => string | undefined): { id: strin
   return { problem: `${kind(v)} is not an id: an id is a string, or a whole number written plainly` };
 }
 
-export async function readNdjson(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, limits: ScanLimits = DEFAULT_LIMITS): Promise<void> {
+export async function readNdjson(file: string, builder: EventLogBuilder, columns: { user: string; timestamp: string; event: string }, limits: ScanLimits = DEFAULT_LIMITS, onBytes?: (n: number) => void): Promise<void> {
   const mapped = new Set([columns.user, columns.timestamp, columns.event]);
   const pending: { line: number; obj: Obj; text: string }[] = [];
   let attrNames: string[] | undefined;
@@ -93,7 +93,7 @@ export async function readNdjson(file: string, builder: EventLogBuilder, columns
     pending.length = 0;
   };
 
-  const r = await ChunkReader.open(file, limits.chunk);
+  const r = await ChunkReader.open(file, limits.chunk, undefined, onBytes);
   try {
     await r.refill(0);
     let pos = byteOrderMark(r.buf, r.end, file);

@@ -74,8 +74,8 @@ export function byteOrderMark(buf: Buffer, end: number, file: string): number {
 
 /** What the readers know about the bytes in the buffer after a refill. */
 export interface ChunkText {
-  /** The buffer decoded byte for byte (latin1), so a byte offset is a string index: ASCII fields are sliced from it. */
-  text: string;
+  /** The buffer decoded byte for byte (latin1), so a byte offset is a string index: ASCII fields are sliced from it (made on first use). */
+  readonly text: string;
   /** Every byte up to `checkedEnd` is ASCII. */
   ascii: boolean;
   /** Some bytes up to `checkedEnd` are not UTF-8: check each record before decoding it. */
@@ -99,7 +99,15 @@ export function inspectChunk(r: ChunkReader, from: number, newFrom: number, line
   if (!r.eof) checkedEnd = lastLf(buf, from, end) + 1;
   const region = buf.subarray(from, Math.max(from, checkedEnd));
   const ascii = isAscii(region);
-  return { text: (buf as SliceBuffer).latin1Slice(0, end), ascii, dirty: !ascii && !isUtf8(region) };
+  let text: string | undefined;
+  return {
+    // decoded on first use only: the CSV hot path reads fields as bytes and never asks
+    get text() {
+      return (text ??= (buf as SliceBuffer).latin1Slice(0, end));
+    },
+    ascii,
+    dirty: !ascii && !isUtf8(region),
+  };
 }
 
 function lastLf(buf: Buffer, from: number, end: number): number {

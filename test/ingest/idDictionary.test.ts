@@ -31,3 +31,23 @@ describe('IdDictionary', () => {
     expect(d.code('Jos\u00e9')).not.toBe(d.code('Jose\u0301'));
   });
 });
+
+describe('IdDictionary.merge', () => {
+  it('merging the dictionary of a later part gives the codes one dictionary over both parts gives (fast-check)', () => {
+    const text = (b: Uint8Array, s: number, e: number) => Buffer.from(b.subarray(s, e)).toString('utf8');
+    fc.assert(
+      fc.property(fc.array(fc.nat(300).map((n) => `m${n}`), { maxLength: 500 }), fc.nat(500), (ids, cut) => {
+        const one = new IdDictionary();
+        const want = ids.map((s) => one.code(s));
+        const first = new IdDictionary(), second = new IdDictionary();
+        const k = Math.min(cut, ids.length);
+        const a = ids.slice(0, k).map((s) => first.code(s));
+        const b = ids.slice(k).map((s) => second.code(s));
+        const map = first.merge(second.toBytes(), text);
+        expect([...a, ...b.map((c) => map[c])]).toEqual(want);
+        expect(first.values).toEqual(one.values);
+      }),
+      { seed: 41, numRuns: 200 },
+    );
+  });
+});

@@ -73,7 +73,7 @@ export function survivalCommand(program: Command, io: Io): void {
   const cmd = program
     .command('survival')
     .description('Kaplan-Meier curves of the time from first active to first dormant, with the log-rank test across groups')
-    .option('--events <files...>', 'event log(s): CSV or NDJSON')
+    .option('--events <files...>', 'event log(s): CSV, NDJSON (either may be .gz) or Parquet')
     .option('--durations <file>', 'durations computed elsewhere: CSV with duration, observed (1/0) and an optional group column')
     .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period; refused when its values are nearly unique per user)', 'none')
     .option('--merge <k>', 'with --by cohort: pool k consecutive cohorts into one curve', '1');

@@ -4,7 +4,7 @@
  */
 import { TidemarkError } from '../../errors.js';
 import type { EventLog } from '../../ingest/eventLog.js';
-import { readEvents } from '../../ingest/read.js';
+import { readEvents, type ReadProgress } from '../../ingest/read.js';
 import { activePeriods, type ActivePeriods } from '../../lifecycle/activity.js';
 import { classifiedSize, classify, firstActivePeriods, type Classified } from '../../lifecycle/classify.js';
 import { compilePlan } from '../../lifecycle/plan.js';
@@ -151,8 +151,14 @@ function sizesOf(log: EventLog, active: ActivePeriods, firstActive: Int32Array, 
   };
 }
 
+/** A stage of a run, for progress: reading (with the bytes read), then classifying. */
+export type EngineProgress = ({ stage: 'reading' } & ReadProgress) | { stage: 'classifying' };
+
 export class MemoryEngine implements Engine {
   readonly name = 'memory';
+
+  /** `onProgress` is told how the run goes (for a progress display; the library prints nothing). */
+  constructor(private readonly opts: { onProgress?: (p: EngineProgress) => void } = {}) {}
 
   private async prepare(source: EventSource, rules: Rules, range: RangeOptions): Promise<{ log: EventLog; run: LogRun }> {
     if (source.kind !== 'files') {
@@ -160,7 +166,9 @@ export class MemoryEngine implements Engine {
     }
     const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
     const toKey = optionKey(range.to, scheme, 'to');
-    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter });
+    const tell = this.opts.onProgress;
+    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
+    tell?.({ stage: 'classifying' });
     return { log, run: runOnLog(log, rules, range) };
   }
 
