@@ -102,7 +102,7 @@ export const CATALOG: readonly CatalogEntry[] = [
   {
     name: 'report',
     term: 'report [options]',
-    description: 'write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart',
+    description: 'write the lifecycle report: a self-contained HTML page, summary.md, digest.txt and the data behind every chart',
     load: async () => (await import('./commands/report.js')).reportCommand,
   },
   {
