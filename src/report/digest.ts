@@ -14,9 +14,9 @@ const WARNINGS_SHOWN = 2;
 // C0 and C1 controls, DEL, line/paragraph separators, bidi embeddings, overrides and isolates
 const CONTROL = /[\u0000-\u001f\u007f-\u009f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g;
 
-/** Text as one plain line: controls replaced, spaces collapsed, cut to `max` characters. */
+/** Text as one plain line: line breaks and tabs as spaces, other controls replaced, spaces collapsed, cut to `max` characters. */
 export function plainLine(text: string, max = 400): string {
-  const s = text.replace(CONTROL, '\uFFFD').replace(/\s+/g, ' ').trim();
+  const s = text.replace(/[\r\n\t]+/g, ' ').replace(CONTROL, '\uFFFD').replace(/\s+/g, ' ').trim();
   return s.length > max ? `${s.slice(0, max - 1)}…` : s;
 }
 

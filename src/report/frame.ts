@@ -35,11 +35,14 @@ export interface Timeline {
   minStep: number;
 }
 
-/** The narrow frame of a chart: wider than a phone, and scrolling, when its periods need the room. */
+/** The widest a scrolling narrow frame is drawn, px (ten phone screens): longer spans draw their periods closer. */
+export const SCROLL_MAX = 3600;
+
+/** The narrow frame of a chart: wider than a phone (up to {@link SCROLL_MAX}), and scrolling, when its periods need the room. */
 export function narrowFrame(timeline?: Timeline): Frame {
   if (!timeline) return NARROW;
   const need = timeline.periods.length * timeline.minStep + 70;
-  return need > NARROW.width ? { ...NARROW, width: Math.ceil(need), scroll: true } : NARROW;
+  return need > NARROW.width ? { ...NARROW, width: Math.min(SCROLL_MAX, Math.ceil(need)), scroll: true } : NARROW;
 }
 
 /** Room left for the plot in a frame: the width less a value axis and its title (an estimate for tick spacing). */

@@ -11,11 +11,19 @@
  */
 import type { ReportModel } from './build.js';
 import { displayCell, type DataTable, type LegendItem } from './charts/types.js';
-import { escapeHtml as e, escapeShort } from './escape.js';
+import { escapeControls } from '../errors.js';
+import { escapeHtml, escapeShort } from './escape.js';
 import { NARROW_BELOW, NARROW_MAX, PAGE_WIDTH } from './frame.js';
 import { comparisonText } from './story.js';
 import type { RenderedChart } from './write.js';
 import { plural } from '../text/plural.js';
+
+/**
+ * Text for the page: line breaks as spaces, control codes and direction overrides shown escaped
+ * (`\u202e` could reorder what a reader sees), then HTML-escaped. Text from the rules (a name, a
+ * state's label) and from data reaches the page only through here or {@link escapeShort}.
+ */
+const e = (v: unknown): string => escapeHtml(escapeControls(String(v ?? '').replace(/[\r\n]+/g, ' ')));
 
 const CSS = `
 :root { --ink: #1b2733; --muted: #5b6875; --line: #dde3ea; --paper: #ffffff; --wash: #f4f7fb; --warn: #8a4b12; --warnbg: #fff4e5; }

@@ -98,10 +98,11 @@ export function shareDomain(cells: readonly TriangleCell[], minCell: number): [n
   const shares = cells.filter((c) => c.n >= minCell).map((c) => c.share);
   const all = shares.length ? shares : cells.map((c) => c.share);
   if (!all.length) return [0, 1];
-  let lo = Math.floor(Math.min(...all) * 20) / 20;
-  let hi = Math.ceil(Math.max(...all) * 20) / 20;
-  if (hi - lo < 0.1) [lo, hi] = [Math.max(0, lo - 0.05), Math.min(1, hi + 0.05)];
-  return [lo, hi];
+  // in whole 5% steps (integers, so that no rounding error creeps in), at least two steps wide
+  let lo = Math.floor(Math.min(...all) * 20 + 1e-9);
+  let hi = Math.ceil(Math.max(...all) * 20 - 1e-9);
+  if (hi - lo < 2) [lo, hi] = [Math.max(0, lo - 1), Math.min(20, hi + 1)];
+  return [lo / 20, hi / 20];
 }
 
 export function cohortTriangleChart(rows: readonly CohortRow[], c: CohortsOutput, o: { grain: string; weekStart: Weekday; minCell: number }): Chart {
