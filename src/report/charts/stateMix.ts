@@ -26,7 +26,7 @@ export function stateMix(i: StateMixInput): Chart {
     mark: { type: 'area', line: false },
     encoding: {
       x: timeX({ field: 'period', periods, grain, frame: f, title: `${grain} starting` }),
-      y: { field: 'users', type: 'quantitative', stack: 'zero', title: 'users', axis: { orient: valueAxisOrient(f), format: '~s' } },
+      y: { field: 'users', type: 'quantitative', stack: 'zero', title: 'users', axis: { orient: valueAxisOrient(f), format: ',' } },
       color: { field: 'state', type: 'nominal', sort: states, scale: { domain: states, range: colours }, legend: null },
       order: { field: 'order', type: 'quantitative' },
     },
