@@ -84,7 +84,7 @@ export const CATALOG: readonly CatalogEntry[] = [
   {
     name: 'habits',
     term: 'habits [options]',
-    description: 'habit profiles: what long-tenured members keep doing, against members who went dormant early',
+    description: 'habit profiles: what long-tenured users keep doing, against users who went dormant early',
     load: async () => (await import('./commands/habits.js')).habitsCommand,
   },
   {
@@ -108,7 +108,7 @@ export const CATALOG: readonly CatalogEntry[] = [
   {
     name: 'report',
     term: 'report [options]',
-    description: 'write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart',
+    description: 'write the lifecycle report: a self-contained HTML page, summary.md, digest.txt and the data behind every chart',
     load: async () => (await import('./commands/report.js')).reportCommand,
   },
   {

@@ -6,6 +6,7 @@ import { TidemarkError } from '../errors.js';
 import type { WaistTables } from '../flows/types.js';
 import { fitSbg, MIN_FIT_AGES, type SbgFit } from './sbg.js';
 import { cohortSurvivors } from './survivors.js';
+import { plural } from '../text/plural.js';
 
 export const CURVE_MODEL = 'shifted-beta-geometric (Fader & Hardie 2007)';
 
@@ -24,11 +25,11 @@ export function fitCurves(inputs: readonly { cohort: string; survivors: number[]
   const out: CurveOutput = { model: CURVE_MODEL, fits: [], skipped: [] };
   for (const { cohort, survivors } of inputs) {
     if (!o.given && survivors.length < MIN_FIT_AGES) {
-      out.skipped.push({ cohort, reason: `observed over ${survivors.length} ages, too few to fit` });
+      out.skipped.push({ cohort, reason: `observed over ${plural(survivors.length, 'age')}, too few to fit` });
       continue;
     }
     if (!o.given && survivors[0] < o.minSize) {
-      out.skipped.push({ cohort, reason: `${survivors[0]} members, fewer than the minimum size ${o.minSize}` });
+      out.skipped.push({ cohort, reason: `${plural(survivors[0], 'user')}, fewer than the minimum size ${o.minSize}` });
       continue;
     }
     try {

@@ -59,7 +59,7 @@ export function decompositionSentence(result: KitagawaResult, options: SentenceO
   const subject = `Overall ${options.grain} ${measure}`;
   if (result.change === null || result.rateEffect === null || result.mixEffect === null) {
     const empty = result.totalBase > 0 ? 'the later period' : result.totalCompare > 0 ? 'the earlier period' : 'either period';
-    return `${subject} cannot be compared: there are no members in ${empty}.`;
+    return `${subject} cannot be compared: there are no users in ${empty}.`;
   }
 
   const mix = result.mixEffect;

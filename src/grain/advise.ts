@@ -10,6 +10,7 @@
 import { TidemarkError } from '../errors.js';
 import type { EventLog } from '../ingest/eventLog.js';
 import { isKeyRow, type Timelines } from '../lifecycle/timelines.js';
+import { plural } from '../text/plural.js';
 
 const DAY = 86_400_000;
 
@@ -101,12 +102,12 @@ export function adviseGrain(log: EventLog, t: Timelines): GrainAdvice {
     return { from, to, gaps: c, share: n ? c / n : 0, cumulative: n ? cumulative / n : 0 };
   });
   if (n === 0) {
-    return { users, returningUsers: 0, gaps: 0, distribution, percentiles: null, suggestion: null, rule: GRAIN_RULE, reading: `No user came back on a second day (${users.toLocaleString('en-US')} users), so the data cannot suggest a grain.` };
+    return { users, returningUsers: 0, gaps: 0, distribution, percentiles: null, suggestion: null, rule: GRAIN_RULE, reading: `No user came back on a second day (${plural(users, 'user')}), so the data cannot suggest a grain.` };
   }
   const q = (p: number) => quantileInverseEcdf(sorted, p);
   const percentiles = { p50: q(0.5), p80: q(COVER_SHARE), p90: q(0.9), p95: q(LAPSE_SHARE) };
   const suggestion = suggestGrain(percentiles.p80, percentiles.p95);
-  const days = (d: number) => `${d.toLocaleString('en-US')} day${d === 1 ? '' : 's'}`;
+  const days = (d: number) => plural(d, 'day');
   const beyond = percentiles.p80 > GRAIN_DAYS.month ? ' (returns are rarer than monthly: even a month does not hold 80% of them)' : '';
   const reading = `Half of the returns come within ${days(percentiles.p50)} and 80% within ${days(percentiles.p80)}, so a ${suggestion.grain} grain fits${beyond}, with a lapse limit of ${suggestion.lapseLimit} (95% of returns come within ${days(percentiles.p95)}); from ${returning.toLocaleString('en-US')} of ${users.toLocaleString('en-US')} users who came back at least once.`;
   return { users, returningUsers: returning, gaps: n, distribution, percentiles, suggestion, rule: GRAIN_RULE, reading };

@@ -15,6 +15,7 @@
 import { TidemarkError } from '../errors.js';
 import type { EventLog } from '../ingest/eventLog.js';
 import { firstActive, type ObservedRange, type Timelines } from '../lifecycle/timelines.js';
+import { plural } from '../text/plural.js';
 
 const DAY = 86_400_000;
 export const WEEKDAY_NAMES = ['Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday', 'Sunday'];
@@ -60,7 +61,7 @@ export interface HabitOutput {
 
 /** A difference in period share this large (5 points) is named in the reading. */
 export const HABIT_NOTABLE = 0.05;
-export const HABIT_CAUTION = 'Long-tenured members differ from early leavers in many ways at once; a habit that goes with staying is a correlation, not a cause. Test a change with an experiment before acting on it.';
+export const HABIT_CAUTION = 'Long-tenured users differ from early leavers in many ways at once; a habit that goes with staying is a correlation, not a cause. Test a change with an experiment before acting on it.';
 
 function median(v: number[]): number {
   const s = [...v].sort((a, b) => a - b);
@@ -97,7 +98,7 @@ export function habitProfiles(log: EventLog, t: Timelines, range: ObservedRange,
     throw new TidemarkError('INPUT_INVALID', `need 1 ≤ active ≤ span and span ≥ 2, got ${minActive} of ${span}`, { key: 'span' });
   }
   if (lapseLimit + 1 >= span) {
-    throw new TidemarkError('INPUT_INVALID', `a span of ${span} periods cannot show a member going dormant: the lapse limit is ${lapseLimit}, so dormancy takes ${lapseLimit + 1} quiet periods after an active one`, { key: 'span' }, `Use a span of at least ${lapseLimit + 2}`);
+    throw new TidemarkError('INPUT_INVALID', `a span of ${plural(span, 'period')} cannot show a user going dormant: the lapse limit is ${lapseLimit}, so dormancy takes ${plural(lapseLimit + 1, 'quiet period')} after an active one`, { key: 'span' }, `Use a span of at least ${lapseLimit + 2}`);
   }
   const names = log.detail?.names ?? [''];
   const groups = [new Acc(names.length, span), new Acc(names.length, span)];
@@ -161,7 +162,7 @@ export function habitProfiles(log: EventLog, t: Timelines, range: ObservedRange,
     touched.length = 0;
   }
   if (groups[0].members + groups[1].members === 0) {
-    throw new TidemarkError('NOT_ENOUGH_DATA', `no member is observed for ${span} periods after their first (${leftOut.toLocaleString('en-US')} left out as the data end too soon)`, { key: 'span' }, 'Lower --span, or use a longer log');
+    throw new TidemarkError('NOT_ENOUGH_DATA', `no user is observed for ${plural(span, 'period')} after their first (${leftOut.toLocaleString('en-US')} left out as the data end too soon)`, { key: 'span' }, 'Lower --span, or use a longer log');
   }
   const profile = (a: Acc): GroupProfile => {
     const gapTotal = a.gaps.reduce((x, y) => x + y, 0);
@@ -185,13 +186,13 @@ export function habitProfiles(log: EventLog, t: Timelines, range: ObservedRange,
   const top = [...differences].filter((d) => d.periodShare !== null && Math.abs(d.periodShare) >= HABIT_NOTABLE).sort((a, b) => Math.abs(b.periodShare!) - Math.abs(a.periodShare!))[0];
   const p = (x: number) => `${(x * 100).toFixed(0)}%`;
   const reading = both
-    ? `${lt.members.toLocaleString('en-US')} long-tenured members were active in ${p(lt.activeShare!.mean)} of their first ${span} periods (longest run ${lt.longestRun!.mean.toFixed(1)} on average), against ${p(de.activeShare!.mean)} for the ${de.members.toLocaleString('en-US')} who went dormant early${top ? `; the habit that differs most is ${top.event}, in ${p(lt.events.find((x) => x.event === top.event)!.periodShare)} of long-tenured members' periods with events against ${p(de.events.find((x) => x.event === top.event)!.periodShare)}` : `; no event name's share of their periods with events differs by ${HABIT_NOTABLE * 100} points or more, so they do the same things, more often`}.`
-    : `Only one group has members (${lt.members} long-tenured, ${de.members} went dormant early), so there is nothing to compare.`;
+    ? `${plural(lt.members, 'long-tenured user')} ${lt.members === 1 ? 'was' : 'were'} active in ${p(lt.activeShare!.mean)} of their first ${plural(span, 'period')} (longest run ${lt.longestRun!.mean.toFixed(1)} on average), against ${p(de.activeShare!.mean)} for the ${de.members.toLocaleString('en-US')} who went dormant early${top ? `; the habit that differs most is ${top.event}, in ${p(lt.events.find((x) => x.event === top.event)!.periodShare)} of long-tenured users' periods with events against ${p(de.events.find((x) => x.event === top.event)!.periodShare)}` : `; no event name's share of their periods with events differs by ${HABIT_NOTABLE * 100} points or more, so they do the same things, more often`}.`
+    : `Only one group has users (${lt.members} long-tenured, ${de.members} went dormant early), so there is nothing to compare.`;
   return {
     options: o,
     definitions: {
-      longTenured: `active in at least ${minActive} of their first ${span} periods`,
-      droppedEarly: `active in fewer than ${minActive} of their first ${span} periods and inactive in the last ${lapseLimit + 1} of them (dormant by the rules' lapse limit of ${lapseLimit})`,
+      longTenured: `active in at least ${minActive} of their first ${plural(span, 'period')}`,
+      droppedEarly: `active in fewer than ${minActive} of their first ${plural(span, 'period')} and inactive in the last ${lapseLimit + 1} of them (dormant by the rules' lapse limit of ${lapseLimit})`,
     },
     longTenured: lt, droppedEarly: de, leftOut, neither, differences, caution: HABIT_CAUTION, reading,
   };

@@ -30,6 +30,7 @@ import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
 import { adviseGrain, type GrainAdvice } from '../grain/advise.js';
 import { quantileInverseEcdf } from '../grain/advise.js';
+import { plural } from '../text/plural.js';
 
 const DAY = 86_400_000;
 
@@ -89,7 +90,7 @@ export function inspectLog(log: EventLog, t: Timelines, rules: Rules): InspectOu
   const firstDay = Math.floor(ex.earliest[0].wallMs / DAY), lastDay = Math.floor(ex.latest[0].wallMs / DAY);
   findings.push({
     id: 'span', kind: 'info',
-    text: `The key events run from ${day(firstDay)} to ${day(lastDay)} (${f(keyOf(ex.latest[0].wallMs) - keyOf(ex.earliest[0].wallMs) + 1)} ${noun}s, in ${rules.timezone}): ${f(keyRows)} key rows of ${f(log.size)} kept, ${f(log.users.length)} users.`,
+    text: `The key events run from ${day(firstDay)} to ${day(lastDay)} (${plural(keyOf(ex.latest[0].wallMs) - keyOf(ex.earliest[0].wallMs) + 1, noun)}, in ${rules.timezone}): ${plural(keyRows, 'key row')} of ${f(log.size)} kept, ${plural(log.users.length, 'user')}.`,
     action: 'Check that the span is the one you exported.',
     data: { first: day(firstDay), last: day(lastDay), keyRows, rows: log.size, users: log.users.length },
   });
@@ -175,7 +176,7 @@ export function inspectLog(log: EventLog, t: Timelines, rules: Rules): InspectOu
     }
   }
   findings.push(dup
-    ? { id: 'duplicates', kind: 'warning', text: `${f(dup)} rows (${pc(dup / log.size)}) repeat an earlier row exactly (same user, time to the millisecond, event and attributes), e.g. ${dupExamples.join(', ')}.`, action: 'Remove the repeats at the source (a double load or a retried upload); they inflate event counts and can make a period active that was not.', data: { rows: dup, examples: dupExamples } }
+    ? { id: 'duplicates', kind: 'warning', text: `${plural(dup, 'row')} (${pc(dup / log.size)}) ${dup === 1 ? 'repeats' : 'repeat'} an earlier row exactly (same user, time to the millisecond, event and attributes), e.g. ${dupExamples.join(', ')}.`, action: 'Remove the repeats at the source (a double load or a retried upload); they inflate event counts and can make a period active that was not.', data: { rows: dup, examples: dupExamples } }
     : { id: 'duplicates', kind: 'info', text: 'No row repeats another exactly.', action: 'Nothing to do.', data: { rows: 0, examples: [] } });
 
   // implausibly many events per user-period (key events of active periods)
@@ -198,7 +199,7 @@ export function inspectLog(log: EventLog, t: Timelines, rules: Rules): InspectOu
           const p = t.activePeriod[a];
           let k = t.rowStart[u];
           while (k < t.rowStart[u + 1] && !(log.period[t.order[k]] === p && isKeyRow(log, t.order[k]))) k++;
-          examples.push(`${periodLabel(p, scheme)} (${f(counts[a])} events, first at ${place(log, t.order[k])})`);
+          examples.push(`${periodLabel(p, scheme)} (${plural(counts[a], 'event')}, first at ${place(log, t.order[k])})`);
         }
       }
     }
@@ -239,8 +240,8 @@ export function inspectLog(log: EventLog, t: Timelines, rules: Rules): InspectOu
     const top = rows[0];
     findings.push({
       id: 'event-names', kind: 'info',
-      text: `${f(rows.length)} event names; the commonest, ${showValue(top.event, 40)}, is ${pc(top.share)} of the rows${rows.some((r) => !r.key) ? `; ${f(rows.filter((r) => !r.key).length)} names do not count as activity (${pc(rows.filter((r) => !r.key).reduce((a, r) => a + r.share, 0))} of rows)` : '; every name counts as activity'}.`,
-      action: 'Check that the key events (activity.keyEvents in the rules) are the ones that show a member really used the space; a name making most rows may be a background event.',
+      text: `${plural(rows.length, 'event name')}; the commonest, ${showValue(top.event, 40)}, is ${pc(top.share)} of the rows${rows.some((r) => !r.key) ? `; ${plural(rows.filter((r) => !r.key).length, 'name')} ${rows.filter((r) => !r.key).length === 1 ? 'does' : 'do'} not count as activity (${pc(rows.filter((r) => !r.key).reduce((a, r) => a + r.share, 0))} of rows)` : '; every name counts as activity'}.`,
+      action: 'Check that the key events (activity.keyEvents in the rules) are the ones that show a user really used the product; a name making most rows may be a background event.',
       data: rows,
     });
   }

@@ -40,7 +40,41 @@ export function ansiState(state: string, text: string, colour: boolean, table: r
   return colour && hex !== undefined ? `\u001b[38;5;${ansi256(hex)}m${text}\u001b[0m` : text;
 }
 
-/** Two-sided diverging colours for gains and losses (blue gain, orange loss), and a sequential ramp. */
-export const GAIN = '#1D4F91';
-export const LOSS = '#C4622D';
-export const RAMP = ['#F4F7FB', '#C9DCEF', '#8DB7E0', '#4C87C3', '#1D4F91'];
+/**
+ * Colours for series that are not states: the rate and mix effects, cohort blocks, scenarios,
+ * methods compared in a backtest. Our own five, picked by a max–min search (the smallest colour
+ * difference under normal vision and three simulated colour-vision deficiencies, made as large as we
+ * could) among hues away from the state colours: purple, green, wine, forest, pink. They alternate
+ * dark and light, so they also separate in greyscale, and differ from every state colour by ΔE*ab ≥ 30
+ * in normal vision, so a reader never takes a series for a state. Under a deficiency a series may come
+ * close to a state colour: charts never mix the two sets, and label series in text (and lines by dash).
+ * Tested in test/report/palette.test.ts.
+ */
+export const SERIES = ['#964BB4', '#3CB469', '#87004B', '#1E5A00', '#F087C3'] as const;
+/** Dash patterns that go with {@link SERIES} for lines (the first solid), so lines differ without colour too. */
+export const SERIES_DASH: readonly (readonly number[])[] = [[], [7, 3], [2, 2], [10, 3, 2, 3], [4, 4]];
+
+/** The colour of series `i` (cycling past the fifth; pair it with {@link seriesDash} beyond that). */
+export function seriesColour(i: number): string {
+  return SERIES[i % SERIES.length];
+}
+
+/** The dash of series `i`: cycles at a different period from the colours, so ten series stay apart. */
+export function seriesDash(i: number): number[] {
+  return [...SERIES_DASH[(i + Math.floor(i / SERIES.length)) % SERIES_DASH.length]];
+}
+
+/**
+ * The sequential ramp for shares and rates (heat maps, the cohort triangle): near white to forest
+ * green, a hue no state has. Lightness falls at every stop under normal vision and each simulated
+ * deficiency (tested), so the order reads without hue.
+ */
+export const RAMP = ['#FAFCF8', '#C2DFB4', '#86C085', '#4A9460', '#1E5A3A'];
+
+/** Text on a ramp cell: dark ink up to this share of the ramp's domain, white beyond it. */
+export const RAMP_INK_SWITCH = 0.6;
+
+/** @deprecated Two series colours; use {@link SERIES} (the old names read as gain and loss, which they are not). */
+export const GAIN = SERIES[0];
+/** @deprecated See {@link GAIN}. */
+export const LOSS = SERIES[1];

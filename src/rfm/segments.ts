@@ -29,6 +29,7 @@ import { firstActive, isKeyRow, type ObservedRange, type Timelines } from '../li
 import { normaliseCounts } from '../markov/fit.js';
 import { stationary } from '../markov/stationary.js';
 import { periodLabel } from '../periods/calendar.js';
+import { plural } from '../text/plural.js';
 
 export const SEGMENTS = ['steady', 'middle', 'light-recent', 'cooling-regular', 'fading', 'outside-window'] as const;
 export type Segment = (typeof SEGMENTS)[number];
@@ -114,7 +115,7 @@ export interface RfmOutput {
   reading: string;
 }
 
-export const RFM_SCORING = 'Each period, members with an active period in the window are scored 1-5 on recency (periods since their last active one; 5 = most recent), frequency (key events in the window) and, with a value column, value (its sum over the window): 1 + floor(5 × (members below + half the members equal) / members scored), at most 5. The activity score is the frequency score, or with a value column the mean of the frequency and value scores, rounded up.';
+export const RFM_SCORING = 'Each period, users with an active period in the window are scored 1-5 on recency (periods since their last active one; 5 = most recent), frequency (key events in the window) and, with a value column, value (its sum over the window): 1 + floor(5 × (users below + half the users equal) / users scored), at most 5. The activity score is the frequency score, or with a value column the mean of the frequency and value scores, rounded up.';
 
 /** Periods scored in one run at most (each period sorts its scored members). */
 export const RFM_MAX_PERIODS = 20_000;
@@ -217,7 +218,7 @@ export function rfmSegments(log: EventLog, t: Timelines, range: ObservedRange, o
   // scores at --from need only the window before it: members first active earlier are already seen
   const begin = Math.max(0, outStart - o.window);
   if (P - begin > RFM_MAX_PERIODS) {
-    throw new TidemarkError('INPUT_INVALID', `scoring ${(P - begin).toLocaleString('en-US')} periods is more than the ${RFM_MAX_PERIODS.toLocaleString('en-US')} tidemark scores in one run`, { key: 'from' }, 'Pass a later --from, or use a coarser grain');
+    throw new TidemarkError('INPUT_INVALID', `scoring ${plural(P - begin, 'period')} is more than the ${RFM_MAX_PERIODS.toLocaleString('en-US')} tidemark scores in one run`, { key: 'from' }, 'Pass a later --from, or use a coarser grain');
   }
   for (let u = 0; u < U; u++) if (firstKey[u] >= 0 && firstKey[u] - first < begin) seen.push(u);
   for (let k = begin; k < P; k++) {
@@ -258,7 +259,7 @@ export function rfmSegments(log: EventLog, t: Timelines, range: ObservedRange, o
     m.forEach((row, i) => row.forEach((v, j) => (pooled[i][j] += v)));
     transitions.push({ from: periods[periods.length - 2].period, to: periods[periods.length - 1].period, counts: m, arrivals });
   }
-  if (!periods.some((p) => p.scored > 0)) throw new TidemarkError('NOT_ENOUGH_DATA', 'no member is active in the range', { key: 'from' });
+  if (!periods.some((p) => p.scored > 0)) throw new TidemarkError('NOT_ENOUGH_DATA', 'no user is active in the range', { key: 'from' });
   const states = [...SEGMENTS];
   const { matrix, emptyRows } = normaliseCounts(pooled, states);
   const lastP = periods[periods.length - 1];
@@ -266,7 +267,7 @@ export function rfmSegments(log: EventLog, t: Timelines, range: ObservedRange, o
   const long = stationary({ states, matrix });
   const share = (s: Segment) => (lastP.scored ? `${((lastP.counts[s] / Math.max(1, lastP.scored)) * 100).toFixed(0)}%` : '–');
   const steadyStay = pooled[0].reduce((a, b) => a + b, 0) ? pooled[0][0] / pooled[0].reduce((a, b) => a + b, 0) : null;
-  const reading = `In ${lastP.period}, ${share('steady')} of the ${lastP.scored.toLocaleString('en-US')} members scored were steady and ${share('fading')} fading${steadyStay === null ? '' : `; a steady member stayed steady the next period ${(steadyStay * 100).toFixed(0)}% of the time`} (${transitions.length} transitions pooled).`;
+  const reading = `In ${lastP.period}, ${share('steady')} of the ${plural(lastP.scored, 'user')} scored ${lastP.scored === 1 ? 'was' : 'were'} steady and ${share('fading')} fading${steadyStay === null ? '' : `; a steady user stayed steady the next period ${(steadyStay * 100).toFixed(0)}% of the time`} (${plural(transitions.length, 'transition')} pooled).`;
   return {
     options: o,
     segments: SEGMENTS.map((name) => ({ name, rule: SEGMENT_RULES[name] })),

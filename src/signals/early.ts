@@ -18,6 +18,7 @@ import { bhAdjust } from '../stats/bh.js';
 import { newcombeDifference } from '../stats/newcombe.js';
 import { wilsonInterval } from '../stats/wilson.js';
 import { twoProportionZTest } from '../stats/ztest.js';
+import { plural } from '../text/plural.js';
 
 export interface EarlyOptions {
   /** Periods from the first active one in which events are counted (≥ 1). */
@@ -146,7 +147,7 @@ export function earlySignals(log: EventLog, t: Timelines, range: ObservedRange, 
     touched.length = 0;
   }
   if (newcomers === 0) {
-    throw new TidemarkError('NOT_ENOUGH_DATA', `no newcomer is observed for ${span} periods (${o.early} early + ${o.horizon} to the horizon): ${leftOut.toLocaleString('en-US')} left out as the data end too soon`, { key: 'horizon' }, 'Lower --early or --horizon, or use a longer log');
+    throw new TidemarkError('NOT_ENOUGH_DATA', `no newcomer is observed for ${plural(span, 'period')} (${o.early} early + ${o.horizon} to the horizon): ${leftOut.toLocaleString('en-US')} left out as the data end too soon`, { key: 'horizon' }, 'Lower --early or --horizon, or use a longer log');
   }
   const rows: Omit<ThresholdRow, 'pAdjusted' | 'significant'>[] = [];
   const notRetained = newcomers - retained;
@@ -191,7 +192,7 @@ export function earlySignals(log: EventLog, t: Timelines, range: ObservedRange, 
   const pctx = (x: number) => `${(x * 100).toFixed(1)}%`;
   const lead = best.find((b) => b.event !== null);
   const reading = lead
-    ? `Newcomers with at least ${lead.k} ${lead.event} event${lead.k > 1 ? 's' : ''} in their first ${o.early === 1 ? 'period' : `${o.early} periods`} were retained ${pctx(lead.difference)} points more often (${pctx(lead.coverage)} of newcomers reach it; Youden's J ${lead.youden.toFixed(2)}), of ${f(newcomers)} newcomers; a correlation, not a cause.`
-    : `No event name separates retained newcomers from the others significantly (${f(newcomers)} newcomers, Benjamini–Hochberg at ${q}).`;
+    ? `Newcomers with at least ${plural(lead.k, `${lead.event} event`)} in their first ${o.early === 1 ? 'period' : plural(o.early, 'period')} were retained ${pctx(lead.difference)} points more often (${pctx(lead.coverage)} of newcomers reach it; Youden's J ${lead.youden.toFixed(2)}), of ${plural(newcomers, 'newcomer')}; a correlation, not a cause.`
+    : `No event name separates retained newcomers from the others significantly (${plural(newcomers, 'newcomer')}, Benjamini–Hochberg at ${q}).`;
   return { options: { early: o.early, horizon: o.horizon, thresholds: ks, q }, newcomers, retained, leftOut, before, rows: full, best, criterion: EARLY_CRITERION, caution: EARLY_CAUTION, reading };
 }

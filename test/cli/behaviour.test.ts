@@ -95,7 +95,7 @@ describe('usage errors name the flag (exit 2)', () => {
 
   it('a span the lapse limit cannot go dormant in', async () => {
     const line = expectRefusal(await run('habits', '--events', events, '--span', '3'), 2);
-    expect(line).toMatch(/--span: .*cannot show a member going dormant/);
+    expect(line).toMatch(/--span: .*cannot show a user going dormant/);
   });
 
   it('a horizon past the data: exit 2, saying how many newcomers were left out', async () => {

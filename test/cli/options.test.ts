@@ -82,7 +82,7 @@ describe('a bad option is refused before any event file is opened (the events pa
     expect(expectFlagRefusal(await runCli(['curve', '--alive', '100,120,80']), '--alive')).toMatch(/entry 2 \(120\) is above entry 1 \(100\)/);
     expect(expectFlagRefusal(await runCli(['curve', '--alive', '1000,x,400']), '--alive')).toMatch(/entry 2 \('x'\)/);
     expect(expectFlagRefusal(await runCli(['curve', '--alive', '1000,600']), '--alive')).toMatch(/2 ages cannot identify the curve/);
-    expect(expectFlagRefusal(await runCli(['curve', '--alive', '0,0,0']), '--alive')).toMatch(/no members at age 0/);
+    expect(expectFlagRefusal(await runCli(['curve', '--alive', '0,0,0']), '--alive')).toMatch(/no users at age 0/);
   });
 
   it('demo --seed is checked before anything is written', async () => {

@@ -38,7 +38,7 @@ describe('habitProfiles, hand-worked (span 4, 3 active make long-tenured, lapse 
 
   it('refuses a span too short to show dormancy', async () => {
     const log = await readRaw([at('a', 0, 'booking_made')], weeklyRules());
-    expect(() => habitProfiles(log, userTimelines(log, 1), observedRange(log, undefined, true), { span: 3, minActive: 2, lapseLimit: 2 })).toThrow(/cannot show a member going dormant/);
+    expect(() => habitProfiles(log, userTimelines(log, 1), observedRange(log, undefined, true), { span: 3, minActive: 2, lapseLimit: 2 })).toThrow(/a span of 3 periods cannot show a user going dormant/);
   });
 });
 

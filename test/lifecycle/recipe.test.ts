@@ -98,6 +98,6 @@ describe('a split state, through every command', () => {
     expect(r.code, r.err).toBe(0);
     const html = readFileSync(join(out, 'index.html'), 'utf8');
     expect(html).toMatch(/keen: active this week and the week before, with 3 or more key events in it/);
-    expect(html).toMatch(/<li style="--c:#[0-9A-F]{6}">keen<\/li>/);
+    expect(html).toMatch(/<li class="block" style="--c:#[0-9A-F]{6}">keen<\/li>/);
   }, 60_000);
 });

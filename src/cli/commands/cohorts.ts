@@ -32,7 +32,7 @@ function windowOf(text: string): [number, number] {
 export function formatCohorts(c: CohortsOutput, format: Format, extra: object = {}): string {
   if (format === 'json') return json({ ...c, ...extra });
   const cells = c.triangle.flatMap((r) => r.cells.map((x) => [r.cohort, x.age, x.n, x.active, x.share]));
-  if (format === 'csv') return toCsv(['cohort', 'age', 'members', 'active', 'share'], cells);
+  if (format === 'csv') return toCsv(['cohort', 'age', 'users', 'active', 'share'], cells);
   const show = [1, 2, 4, 8, 12];
   const out = ['Cohort triangle: share of each acquisition cohort active N periods after its first'];
   out.push(textTable(['cohort', 'n', ...show.map((a) => `+${a}`), 'shape'], c.triangle.map((r, i) => [
@@ -40,7 +40,7 @@ export function formatCohorts(c: CohortsOutput, format: Format, extra: object = 
   ])).trimEnd());
   out.push('', 'Pooled over the cohorts that reached each age (Wilson 95%):');
   const row = (r: CohortsOutput['classic'][number], label: string) => [label, r.pooled.n, pct(r.pooled.rate), r.pooled.lower === null ? '-' : `${pct(r.pooled.lower)}-${pct(r.pooled.upper)}`, r.cohorts.length];
-  out.push(textTable(['measure', 'members', 'rate', '95% interval', 'cohorts'], [
+  out.push(textTable(['measure', 'users', 'rate', '95% interval', 'cohorts'], [
     ...c.classic.map((r) => row(r, `active at +${r.from}`)),
     ...c.onOrAfter.map((r) => row(r, `active at +${r.from} or later`)),
     ...(c.window ? [row(c.window, `active in +${c.window.from}..+${c.window.to}`)] : []),

@@ -35,9 +35,9 @@ export function formatCurve(c: CurveOutput, format: Format, extra: object = {}):
     f.cohort, f.survivors[0], f.alpha.toFixed(3), f.beta.toFixed(3), f.logLikelihood.toFixed(2), pct(f.projection[f.survivors.length - 1]?.survival), pct(f.projection[f.projection.length - 1].survival), f.expectedRemainingLifetime.toFixed(1),
     ...(flagged ? [fitFlag(f) || 'ok'] : []),
   ])).trimEnd());
-  out.push(`"more periods": expected further periods a member still alive at the last observed age stays (summed over the next ${c.fits[0]?.lifetimeCap ?? 100}).`);
+  out.push(`"more periods": expected further periods a user still alive at the last observed age stays (summed over the next ${c.fits[0]?.lifetimeCap ?? 100}).`);
   if (c.fits.some((f) => !f.converged)) out.push('not converged: the search stopped before the likelihood settled; alpha and beta are the best values found, not a maximum.');
-  if (c.fits.some((f) => f.boundary)) out.push('on boundary: the best fit lies at the edge of the search (ln alpha or ln beta near ±15): the survivors push the model to a limit (say, members who all leave at once mixed with members who never leave), so alpha and beta are bounds, not estimates; read the projection with care.');
+  if (c.fits.some((f) => f.boundary)) out.push('on boundary: the best fit lies at the edge of the search (ln alpha or ln beta near ±15): the survivors push the model to a limit (say, users who all leave at once mixed with users who never leave), so alpha and beta are bounds, not estimates; read the projection with care.');
   for (const s of c.skipped) out.push(`skipped ${s.cohort}: ${s.reason}`);
   return wrapProse(`${out.join('\n')}\n`);
 }
@@ -49,7 +49,7 @@ export function aliveOption(text: string): number[] {
   const bad = nums.findIndex((x) => !Number.isFinite(x));
   if (bad >= 0) throw new TidemarkError('USAGE', `entry ${bad + 1} ('${showValue(parts[bad])}') is not a count ≥ 0`, { key: '--alive' }, 'Give counts like 1000,631,468,382');
   const rise = nums.findIndex((x, i) => i > 0 && x > nums[i - 1]);
-  if (rise > 0) throw new TidemarkError('USAGE', `entry ${rise + 1} (${nums[rise]}) is above entry ${rise} (${nums[rise - 1]}): survivors can only stay level or fall`, { key: '--alive' }, 'Give the members still active at ages 0, 1, 2, …');
+  if (rise > 0) throw new TidemarkError('USAGE', `entry ${rise + 1} (${nums[rise]}) is above entry ${rise} (${nums[rise - 1]}): survivors can only stay level or fall`, { key: '--alive' }, 'Give the users still active at ages 0, 1, 2, …');
   if (nums.length < MIN_FIT_AGES) {
     throw new TidemarkError('USAGE', `${nums.length === 1 ? 'one age' : `${nums.length} ages`} cannot identify the curve: a fit of two parameters needs survivors at ${MIN_FIT_AGES} ages or more`, { key: '--alive' }, 'Give counts at ages 0, 1 and 2 at least');
   }

@@ -1,4 +1,4 @@
-/** `tidemark habits`: habit profiles — long-tenured members against members who went dormant early. */
+/** `tidemark habits`: habit profiles — long-tenured users against users who went dormant early. */
 import type { Command } from 'commander';
 import { habitProfiles, WEEKDAY_NAMES, type HabitOutput } from '../../habits/profile.js';
 import { leftOutJson, noteBehaviour, readBehaviour } from '../behaviour.js';
@@ -6,6 +6,7 @@ import { addEventOptions, addFormatOptions, addPartialOption, resolveRules, type
 import { emit, json, pct, textTable, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 import { asFlags, wholeNumber } from '../options.js';
+import { plural } from '../../text/plural.js';
 
 export interface HabitsCliOptions extends CommonOptions {
   span: string;
@@ -16,12 +17,12 @@ export function formatHabits(h: HabitOutput, format: Format, extra: object = {})
   if (format === 'json') return json({ ...h, ...extra });
   const lt = h.longTenured, de = h.droppedEarly;
   if (format === 'csv') {
-    return toCsv(['event', 'long_tenured_member_share', 'long_tenured_period_share', 'dropped_early_member_share', 'dropped_early_period_share'],
+    return toCsv(['event', 'long_tenured_user_share', 'long_tenured_period_share', 'dropped_early_user_share', 'dropped_early_period_share'],
       lt.events.map((x, i) => [x.event, x.memberShare, x.periodShare, de.events[i].memberShare, de.events[i].periodShare]));
   }
-  const out = [`Habit profiles over each member's first ${h.options.span} periods`,
+  const out = [`Habit profiles over each user's first ${plural(h.options.span, 'period')}`,
     `Long-tenured: ${h.definitions.longTenured} (${lt.members.toLocaleString('en-US')}). Went dormant early: ${h.definitions.droppedEarly} (${de.members.toLocaleString('en-US')}). Neither: ${h.neither.toLocaleString('en-US')}; left out (observed for fewer periods): ${h.leftOut.toLocaleString('en-US')}.`, ''];
-  out.push('Events they keep doing (members who did it; share of their periods with events that hold it):');
+  out.push('Events they keep doing (users who did it; share of their periods with events that hold it):');
   out.push(textTable(['event', 'long-tenured', 'periods', 'dormant early', 'periods'], lt.events.map((x, i) => [x.event, pct(x.memberShare), pct(x.periodShare), pct(de.events[i].memberShare), pct(de.events[i].periodShare)])).trimEnd(), '');
   const m = (v: { mean: number; median: number } | null, f: (x: number) => string) => (v ? `${f(v.mean)} (median ${f(v.median)})` : '-');
   out.push(textTable(['regularity', 'long-tenured', 'dormant early'], [
@@ -49,8 +50,8 @@ export async function runHabits(o: HabitsCliOptions, io: Io): Promise<void> {
 export function habitsCommand(program: Command, io: Io): void {
   const cmd = program
     .command('habits')
-    .description('habit profiles: what long-tenured members keep doing, against members who went dormant early')
-    .option('--span <n>', 'periods from each member\'s first active one that are compared', '8')
-    .option('--active <n>', 'active periods among them that make a member long-tenured (default: three quarters of --span, rounded up)');
+    .description('habit profiles: what long-tenured users keep doing, against users who went dormant early')
+    .option('--span <n>', 'periods from each user\'s first active one that are compared', '8')
+    .option('--active <n>', 'active periods among them that make a user long-tenured (default: three quarters of --span, rounded up)');
   addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: HabitsCliOptions) => runHabits(opts, io));
 }

@@ -2,6 +2,7 @@
 import type { Command } from 'commander';
 import type { ReportModel } from '../../report/build.js';
 import { reportOf } from '../../report/run.js';
+import { comparisonText, lineText } from '../../report/story.js';
 import { analysisWaist } from '../../waist/derive.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
@@ -29,18 +30,18 @@ export interface ReportCliOptions extends Omit<CommonOptions, 'out'>, PerPersonO
   generatedAt?: string;
 }
 
-/** Headline findings for the terminal, with state names in their report colours on a colour terminal. */
+/** The story for the terminal (the comparison, the story's lines, the warnings), with state names in their report colours on a colour terminal. */
 export function headline(m: ReportModel, colour: boolean): string {
   const paint = (t: string) => (colour ? m.states.reduce((acc, s) => acc.replace(new RegExp(`\\b${s.name}\\b`, 'g'), ansiState(s.name, s.name, true, m.states)), t) : t);
-  const lines = [m.title, m.subtitle, '', ...m.findings.map((f) => `* ${f.text}`)];
+  const lines = [m.title, m.subtitle, '', comparisonText(m.comparison, m.grainWord), ...m.story.map((l) => `* ${lineText(l)}`)];
   if (m.warnings.length) lines.push('', ...m.warnings.map((w) => `! ${w}`));
   // escape and wrap first (data never drives the terminal), then colour the state names
   return paint(wrapProse(`${lines.join('\n')}\n`));
 }
 
 export function formatHeadline(m: ReportModel, format: Format, colour: boolean, files: string[], dir: string): string {
-  if (format === 'json') return json({ title: m.title, subtitle: m.subtitle, findings: m.findings, warnings: m.warnings, out: dir, files });
-  if (format === 'csv') return toCsv(['kind', 'text'], [...m.findings.map((f) => [f.kind, f.text]), ...m.warnings.map((w) => ['warning', w])]);
+  if (format === 'json') return json({ title: m.title, subtitle: m.subtitle, comparison: m.comparison, story: m.story.map((l) => ({ kind: l.kind, periods: l.periods, text: lineText(l) })), findings: m.findings, warnings: m.warnings, out: dir, files });
+  if (format === 'csv') return toCsv(['kind', 'text'], [...m.story.map((l) => [l.kind, lineText(l)]), ...m.findings.map((f) => [f.kind, f.text]), ...m.warnings.map((w) => ['warning', w])]);
   return headline(m, colour);
 }
 
@@ -79,10 +80,10 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
 export function reportCommand(program: Command, io: Io): void {
   const cmd = program
     .command('report')
-    .description('write the lifecycle report: a self-contained HTML page, summary.md and the data behind every chart')
+    .description('write the lifecycle report: a self-contained HTML page, summary.md, digest.txt and the data behind every chart')
     .requiredOption('--out <dir>', 'folder to write the report into')
-    .option('--base <period>', 'base period of the chosen comparison, a period retained into (default: four periods before --compare)')
-    .option('--compare <period>', 'compared period of the chosen comparison (default: the latest)')
+    .option('--base <period>', 'base period of the comparison every finding uses, a period retained into (default: the one before --compare)')
+    .option('--compare <period>', 'compared period of that comparison (default: the latest)')
     .option('--by <column>', 'also split retention by this attribute column (refused when its values are nearly unique per user)')
     .option('--horizon <n>', `periods to project ahead (1 to ${MAX_HORIZON})`, '12')
     .option('--seed <n>', 'random seed of the projection bands and backtest', '1')

@@ -29,7 +29,7 @@ export function formatRfm(r: RfmOutput, format: Format, extra: object = {}): str
   out.push(textTable(['dimension', '1', '2', '3', '4', '5'], dims.filter(([, v]) => v).map(([n, v, f]) => [n, ...v!.map((x) => span(x, f))])).trimEnd());
   out.push('', 'Segments:', ...r.segments.map((s) => `- ${s.name}: ${s.rule}`), '', `Scoring: ${r.scoring}`, '');
   out.push('Flows between segments, pooled over every transition (share of each row):');
-  out.push(textTable(['from \\ to', ...names, 'members'], r.pooled.map((row, i) => {
+  out.push(textTable(['from \\ to', ...names, 'users'], r.pooled.map((row, i) => {
     const n = row.reduce((a, b) => a + b, 0);
     return [names[i], ...row.map((v) => (n ? pct(v / n) : '-')), n];
   })).trimEnd());

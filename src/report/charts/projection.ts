@@ -6,13 +6,21 @@
 import type { TopLevelSpec } from 'vega-lite';
 import type { Backtest } from '../../markov/backtest.js';
 import type { ProjectOutput } from '../../markov/run.js';
-import { GAIN, LOSS, stateColours } from '../palette.js';
-import { type Chart, WIDTH } from './types.js';
+import { WIDE, type Frame } from '../frame.js';
+import { seriesColour, seriesDash, stateColours } from '../palette.js';
+import { timeXUtc, valueAxisOrient, type TimeGrain } from '../timeAxis.js';
+import { type Chart } from './types.js';
 
 /** Periods of history drawn before the forecast. */
 export const HISTORY_PERIODS = 26;
-/** Line colours of the scenarios (the baseline is grey). */
-const SCENARIO_LINES = ['#1D4F91', '#C4622D', '#2E8B57', '#8E44AD', '#B8860B', '#5AA9E6', '#A0522D', '#2F4F4F'];
+/** The baseline's line: near black, so that it reads as no state and no scenario. */
+const BASELINE = '#2B2B2B';
+
+/** The x encoding of a chart over forecast steps: dated periods on the report's time axis, else step numbers. */
+function stepX(f: Frame, periods: string[] | undefined, grainWord: string): Record<string, unknown> {
+  if (periods) return timeXUtc({ field: 'x', periods, grain: grainWord as TimeGrain, frame: f, title: null });
+  return { field: 'x', type: 'quantitative', title: `${grainWord}s from now`, axis: { tickMinStep: 1 } };
+}
 
 interface History {
   periods: string[];
@@ -34,26 +42,27 @@ export function projectionChart(p: ProjectOutput, grainWord: string, history?: H
     lower50: s.bands?.inner.shares[st][0] ?? s.shares[st], upper50: s.bands?.inner.shares[st][1] ?? s.shares[st], count: s.counts[st],
   })));
   const band = p.projection[0].bands?.percentiles ?? [10, 90];
-  const x = dated ? { field: 'x', type: 'temporal', title: null, axis: { format: '%b %d', labelAngle: 0 } } : { field: 'x', type: 'quantitative', title: `${grainWord}s from now`, axis: { tickMinStep: 1 } };
-  const spec: TopLevelSpec = {
+  const periods = dated ? [...past.map((h) => h.period), ...p.projection.map((s) => s.period as string)] : undefined;
+  const nowX = xOf(p, 0);
+  const draw = (f: Frame): TopLevelSpec => ({
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
-    width: WIDTH,
-    height: 280,
-    title: { text: `State mix: the last ${past.length} ${grainWord}s and ${p.horizon} ${grainWord}s ahead`, subtitle: `Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window; arrivals vary; binomial noise)` },
+    width: f.width,
+    height: f.name === 'wide' ? 280 : 230,
+    autosize: { type: 'fit-x', contains: 'padding' },
     data: { values: [...histRows, ...rows] },
     encoding: {
-      x,
-      color: { field: 'state', type: 'nominal', sort: p.states, scale: { domain: p.states, range: colours }, title: 'state', legend: { symbolOpacity: 1 } },
+      x: stepX(f, periods, grainWord),
+      color: { field: 'state', type: 'nominal', sort: p.states, scale: { domain: p.states, range: colours }, legend: null },
     },
     layer: [
-      { transform: [{ filter: "datum.part !== 'history'" }], mark: { type: 'area', opacity: 0.15 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'share of users', axis: { format: '.0%' } }, y2: { field: 'upper' } } },
+      { transform: [{ filter: "datum.part !== 'history'" }], mark: { type: 'area', opacity: 0.15 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'share of users', axis: { format: '.0%', orient: valueAxisOrient(f) } }, y2: { field: 'upper' } } },
       { transform: [{ filter: "datum.part !== 'history'" }], mark: { type: 'area', opacity: 0.3 }, encoding: { y: { field: 'lower50', type: 'quantitative' }, y2: { field: 'upper50' } } },
       { transform: [{ filter: "datum.part !== 'forecast'" }], mark: { type: 'line', strokeWidth: 2 }, encoding: { y: { field: 'share', type: 'quantitative' } } },
-      { transform: [{ filter: "datum.part !== 'history'" }], mark: { type: 'line', strokeWidth: 2, strokeDash: [5, 3] }, encoding: { y: { field: 'share', type: 'quantitative' }, tooltip: [{ field: 'x', title: dated ? 'period' : 'step', ...(dated ? { type: 'temporal', format: '%Y-%m-%d' } : {}) }, { field: 'state' }, { field: 'share', format: '.1%' }, { field: 'lower', format: '.1%' }, { field: 'upper', format: '.1%' }, { field: 'count', format: ',.0f' }] } },
-      { data: { values: [{ x: xOf(p, 0), label: 'now' }] }, mark: { type: 'rule', color: '#555', strokeDash: [2, 2] }, encoding: { x: { field: 'x', type: dated ? 'temporal' : 'quantitative' }, color: { value: '#555' } } },
-      { data: { values: [{ x: xOf(p, 0), label: 'now' }] }, mark: { type: 'text', align: 'left', dx: 4, dy: -4, baseline: 'bottom', color: '#555' }, encoding: { x: { field: 'x', type: dated ? 'temporal' : 'quantitative' }, y: { value: 0 }, text: { field: 'label' }, color: { value: '#555' } } },
+      { transform: [{ filter: "datum.part !== 'history'" }], mark: { type: 'line', strokeWidth: 2, strokeDash: [5, 3] }, encoding: { y: { field: 'share', type: 'quantitative' } } },
+      { data: { values: [{ x: nowX, label: 'now' }] }, mark: { type: 'rule', color: '#555', strokeDash: [2, 2] }, encoding: { x: { field: 'x', type: dated ? 'temporal' : 'quantitative' }, color: { value: '#555' } } },
+      { data: { values: [{ x: nowX, label: 'now' }] }, mark: { type: 'text', align: 'left', dx: 4, dy: -4, baseline: 'bottom', color: '#555' }, encoding: { x: { field: 'x', type: dated ? 'temporal' : 'quantitative' }, y: { value: 0 }, text: { field: 'label' }, color: { value: '#555' } } },
     ],
-  } as unknown as TopLevelSpec;
+  }) as unknown as TopLevelSpec;
   const end = p.projection[p.horizon];
   const now = p.projection[0];
   const share = (x: typeof end) => (x.active ?? 0) / (x.total || 1);
@@ -61,10 +70,14 @@ export function projectionChart(p: ProjectOutput, grainWord: string, history?: H
   const reading = `If the fitted flows hold, ${(share(end) * 100).toFixed(1)}% of users are active ${p.horizon} ${grainWord}s ahead${act ? ` (${Math.round(act[0]).toLocaleString('en-US')}–${Math.round(act[1]).toLocaleString('en-US')} active users in the ${band[1] - band[0]}% band)` : ''}, against ${(share(now) * 100).toFixed(1)}% now; the audience grows from ${Math.round(now.total).toLocaleString('en-US')} to ${Math.round(end.total).toLocaleString('en-US')} users with a state.`;
   return {
     id: 'projection',
-    title: 'Projected state mix',
+    title: `State mix: the last ${past.length} ${grainWord}s and ${p.horizon} ${grainWord}s ahead`,
+    subtitle: `Solid: what happened; dashed: the projection. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window; arrivals vary; binomial noise)`,
     reading,
     note: 'The bands hold what the fit window says can happen; the backtest below checks how often they held in the past. A change the past never showed (a launch, a promotion) falls outside them.',
-    spec,
+    spec: draw(WIDE),
+    draw,
+    ...(periods ? { timeline: { periods, minStep: 8 } } : {}),
+    legend: p.states.map((st, k) => ({ label: st, colour: colours[k] })),
     table: { name: 'projection', header: ['step', 'period', 'state', 'count', 'share', 'share_lower', 'share_upper', 'share_lower50', 'share_upper50'], rows: rows.map((r) => [r.step, dated ? r.x : null, r.state, r.count, r.share, r.lower, r.upper, r.lower50, r.upper50]) },
   };
 }
@@ -79,20 +92,25 @@ export function scenarioChart(p: ProjectOutput, grainWord: string): Chart | unde
     ...p.projection.map((s) => ({ x: xOf(p, s.step), scenario: 'baseline', active: s.active ?? 0, lower: s.bands?.active?.outer[0] ?? null, upper: s.bands?.active?.outer[1] ?? null })),
     ...sc.flatMap((s) => s.steps.map((st) => ({ x: xOf(p, st.step), scenario: s.name, active: st.active?.value ?? 0, lower: st.active?.outer?.[0] ?? null, upper: st.active?.outer?.[1] ?? null }))),
   ];
-  const x = dated ? { field: 'x', type: 'temporal', title: null, axis: { format: '%b %d', labelAngle: 0 } } : { field: 'x', type: 'quantitative', title: `${grainWord}s from now`, axis: { tickMinStep: 1 } };
   const band = p.projection[0].bands?.percentiles ?? [10, 90];
-  const spec: TopLevelSpec = {
+  const periods = dated ? p.projection.map((s) => s.period as string) : undefined;
+  const colours = [BASELINE, ...sc.map((_, i) => seriesColour(i))];
+  const dashes = [[], ...sc.map((_, i) => seriesDash(i))];
+  const draw = (f: Frame): TopLevelSpec => ({
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
-    width: WIDTH,
-    height: 240,
-    title: { text: `Scenarios: active users over the next ${p.horizon} ${grainWord}s`, subtitle: `Each scenario against the baseline, with its ${band[0]}th–${band[1]}th percentile band (the same simulated paths for all)` },
+    width: f.width,
+    height: f.name === 'wide' ? 240 : 200,
+    autosize: { type: 'fit-x', contains: 'padding' },
     data: { values: rows },
-    encoding: { x, color: { field: 'scenario', type: 'nominal', sort: names, scale: { domain: names, range: ['#777777', ...SCENARIO_LINES] }, title: 'scenario', legend: { symbolOpacity: 1, labelLimit: 240 } } },
+    encoding: {
+      x: stepX(f, periods, grainWord),
+      color: { field: 'scenario', type: 'nominal', sort: names, scale: { domain: names, range: colours }, legend: null },
+    },
     layer: [
-      { mark: { type: 'area', opacity: 0.12 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'active users', axis: { format: ',.0f' } }, y2: { field: 'upper' } } },
-      { mark: { type: 'line', strokeWidth: 2 }, encoding: { y: { field: 'active', type: 'quantitative' }, tooltip: [{ field: 'scenario' }, { field: 'x', title: dated ? 'period' : 'step', ...(dated ? { type: 'temporal', format: '%Y-%m-%d' } : {}) }, { field: 'active', format: ',.0f' }, { field: 'lower', format: ',.0f' }, { field: 'upper', format: ',.0f' }] } },
+      { mark: { type: 'area', opacity: 0.1 }, encoding: { y: { field: 'lower', type: 'quantitative', title: 'active users', axis: { format: ',.0f', orient: valueAxisOrient(f) } }, y2: { field: 'upper' } } },
+      { mark: { type: 'line', strokeWidth: 2 }, encoding: { y: { field: 'active', type: 'quantitative' }, strokeDash: { field: 'scenario', type: 'nominal', sort: names, scale: { domain: names, range: dashes }, legend: null } } },
     ],
-  } as unknown as TopLevelSpec;
+  }) as unknown as TopLevelSpec;
   const H = p.horizon;
   const parts = sc.map((s) => {
     const d = s.steps[H].difference.active;
@@ -102,10 +120,13 @@ export function scenarioChart(p: ProjectOutput, grainWord: string): Chart | unde
   });
   return {
     id: 'scenarios',
-    title: 'Scenarios side by side',
+    title: `Scenarios: active users over the next ${p.horizon} ${grainWord}s`,
+    subtitle: `Each scenario against the baseline, with its ${band[0]}th–${band[1]}th percentile band (the same simulated paths for all)`,
+    spec: draw(WIDE),
+    draw,
+    legend: names.map((n, i) => ({ label: n, colour: colours[i], dash: dashes[i] })),
     reading: `${H} ${grainWord}s ahead, against the baseline: ${parts.join('; ')}.`,
     note: 'A scenario is an assumption about the flows, not a forecast of what an action will do: test the action before relying on it.',
-    spec,
     table: {
       name: 'scenarios',
       header: ['scenario', 'step', 'period', 'active', 'active_lower', 'active_upper', 'difference', 'difference_lower', 'difference_upper'],
@@ -122,9 +143,11 @@ export function backtestChart(b: Backtest, grainWord: string): Chart {
     { horizon: r.horizon, method: 'no change (mix as at origin)', mae: r.naiveMae * 100 },
     ...(r.seasonalMae === null ? [] : [{ horizon: r.horizon, method: 'seasonal naive', mae: r.seasonalMae * 100 }]),
   ]);
+  const methods = [...new Set(rows.map((r) => r.method))];
+  const colours = methods.map((_, i) => seriesColour(i));
   const spec: TopLevelSpec = {
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
-    width: WIDTH,
+    width: WIDE.width,
     height: 220,
     title: { text: 'Backtest: projection error by horizon', subtitle: `Mean absolute error of state shares over ${b.origins.length} past origins, in percentage points (lower is better)` },
     data: { values: rows },
@@ -133,7 +156,7 @@ export function backtestChart(b: Backtest, grainWord: string): Chart {
       x: { field: 'horizon', type: 'ordinal', title: `${grainWord}s ahead`, axis: { labelAngle: 0 } },
       xOffset: { field: 'method' },
       y: { field: 'mae', type: 'quantitative', title: 'mean absolute error (points)' },
-      color: { field: 'method', type: 'nominal', scale: { range: [GAIN, LOSS, '#999999'] }, title: null, legend: { labelLimit: 320 } },
+      color: { field: 'method', type: 'nominal', sort: methods, scale: { domain: methods, range: colours }, legend: null },
       tooltip: [{ field: 'horizon' }, { field: 'method' }, { field: 'mae', format: '.2f' }],
     },
   } as unknown as TopLevelSpec;
@@ -145,6 +168,7 @@ export function backtestChart(b: Backtest, grainWord: string): Chart {
     title: 'Backtest',
     reading,
     spec,
+    legend: methods.map((m, i) => ({ label: m, colour: colours[i] })),
     table: {
       name: 'backtest',
       header: ['horizon', 'origins', 'mae', 'naive_mae', 'seasonal_mae', 'coverage_50', 'coverage_outer', 'interval_score', 'interval_score_no_change', 'interval_score_seasonal'],
@@ -168,10 +192,10 @@ export function coverageChart(b: Backtest, grainWord: string): Chart {
   const bands = targets.map((t) => t.band);
   const spec: TopLevelSpec = {
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
-    width: WIDTH,
+    width: WIDE.width,
     height: 200,
     title: { text: 'Backtest: how often the bands held', subtitle: 'Share of past (origin, state) cells whose actual share fell inside the band; shaded: the target range' },
-    encoding: { color: { field: 'band', type: 'nominal', sort: bands, scale: { domain: bands, range: ['#5AA9E6', '#1D4F91'] }, title: null } },
+    encoding: { color: { field: 'band', type: 'nominal', sort: bands, scale: { domain: bands, range: [seriesColour(0), seriesColour(1)] }, legend: null } },
     layer: [
       { data: { values: targets }, mark: { type: 'rect', opacity: 0.15 }, encoding: { y: { field: 'lo', type: 'quantitative', scale: { domain: [0, 1] }, axis: { format: '.0%' }, title: 'held the actual share' }, y2: { field: 'hi' } } },
       { data: { values: rows }, mark: { type: 'line', point: true, strokeWidth: 2 }, encoding: { x: { field: 'horizon', type: 'quantitative', title: `${grainWord}s ahead`, axis: { tickMinStep: 1 } }, y: { field: 'coverage', type: 'quantitative' }, tooltip: [{ field: 'horizon' }, { field: 'band' }, { field: 'coverage', format: '.0%' }] } },
@@ -183,6 +207,7 @@ export function coverageChart(b: Backtest, grainWord: string): Chart {
   return {
     id: 'coverage',
     title: 'Band coverage',
+    legend: bands.map((label, i) => ({ label, colour: seriesColour(i) })),
     reading: `Over horizons 1 to ${b.rows[b.rows.length - 1].horizon}, the ${inner}% band held ${pc(lo('innerCoverage'))}–${pc(hi('innerCoverage'))} of past shares (target ${pc(b.target.inner[0])}–${pc(b.target.inner[1])}) and the ${outer}% band ${pc(lo('coverage'))}–${pc(hi('coverage'))} (target ${pc(b.target.outer[0])}–${pc(b.target.outer[1])}).`,
     spec,
     table: { name: 'coverage', header: ['horizon', 'origins', 'coverage_50', 'coverage_outer'], rows: b.rows.map((r) => [r.horizon, r.origins, r.innerCoverage, r.coverage]) },
