@@ -1,0 +1,553 @@
+/**
+ * `tidemark update`: apply new event files to a store, in one DuckDB transaction.
+ *
+ * 1. Take the lock (lock.ts); open or create the database; check its format and rules.
+ * 2. Hash each file (SHA-256 of its bytes): a file applied before, or given twice, is skipped.
+ * 3. Read the new files once, recording every row into the `events` table (record.ts).
+ * 4. If every new event falls after the last stored period, *extend*: walk each stored user through
+ *    the new periods and add them to the waist (extend.ts); the cost grows with the new events and the
+ *    users, not with the history. Otherwise the new events restate stored periods (late events): the
+ *    store is *rebuilt* by replaying every stored row, and the periods restated are compared with the
+ *    classification before, user by user. With `reclassify`, the store is rebuilt under new rules.
+ * 5. Write the per-user state, the waist so far, the running totals and the log, then commit. A kill
+ *    at any point leaves the database as it was before (nothing committed) or after (committed);
+ *    DuckDB's write-ahead log makes a commit durable and replays it on the next open.
+ */
+import { createHash } from 'node:crypto';
+import { createReadStream, existsSync, mkdirSync, readdirSync, statSync } from 'node:fs';
+import { join } from 'node:path';
+import { TidemarkError } from '../errors.js';
+import { fileError } from '../ingest/source.js';
+import { EventLogBuilder, type EventLog, type RowAccount } from '../ingest/eventLog.js';
+import { lastPeriodOf } from '../ingest/lastPeriod.js';
+import type { ScanLimits } from '../ingest/limits.js';
+import { DEFAULT_LIMITS } from '../ingest/limits.js';
+import { compilePlan, type LifecyclePlan } from '../lifecycle/plan.js';
+import { periodLabel, type PeriodScheme } from '../periods/calendar.js';
+import { parseRules } from '../rules/load.js';
+import { resolveRules } from '../rules/resolve.js';
+import type { Rules } from '../rules/schema.js';
+import type { Waist } from '../waist/types.js';
+import type { WaistTables } from '../flows/types.js';
+import { openDb, type Db } from './db.js';
+import { digestOf, type Digest } from './digest.js';
+import { emptyTables, extend, periodActivity, type Ledger, type StateHook } from './extend.js';
+import { takeLock, LOCK_FILE } from './lock.js';
+import { accountSum, checkNotEmpty, copyAccount, recordFile, RecordingBuilder, replay, type ReadChoice } from './record.js';
+import { SCHEMA_SQL, STORE_FILE, STORE_FORMAT, STORE_VERSION, type Totals } from './schema.js';
+import { latestAttributes, loadUsers, mergeExtremes, readInfo, saveUsers, storedExtremes, storedFiles, storeWaist, topEvents, writeInfo } from './state.js';
+import { UserState } from './users.js';
+
+/** Named points of an update, for the kill test (a hook may stop the process there). */
+export type UpdateStep = 'locked' | 'opened' | 'hashed' | 'read' | 'classified' | 'users-written' | 'before-commit' | 'committed' | 'closed';
+
+export interface UpdateOptions {
+  /** The store folder (created when missing). */
+  dir: string;
+  /** New event files, applied in this order. */
+  files: string[];
+  /** The rules: for a new store, the rules it keeps; for a store, they must equal its rules unless `reclassify`. Default: the store's (the packaged weekly rules for a new store). */
+  rules?: Rules;
+  /** Rebuild the store from its events under `rules`. */
+  reclassify?: boolean;
+  /** How to read the new files. */
+  read?: ReadChoice;
+  /** The time written in the log (default now). */
+  now?: Date;
+  onStep?: (step: UpdateStep) => void;
+  /** Reader bounds (tests lower them). */
+  limits?: Partial<ScanLimits>;
+}
+
+export interface AppliedFile {
+  file: number;
+  path: string;
+  sha256: string;
+  bytes: number;
+  rows: RowAccount;
+  /** First and last period of its used rows (null when it has none). */
+  firstPeriod: string | null;
+  lastPeriod: string | null;
+}
+
+export interface SkippedFile {
+  path: string;
+  sha256: string;
+  /** Where the same bytes were applied before (or earlier in this command). */
+  appliedAs: string;
+  appliedAt: string | null;
+}
+
+export interface Restatement {
+  reason: 'late events' | 'new rules';
+  /** Stored periods computed again, oldest first. */
+  periods: string[];
+  /** Periods added before the old first period (late events older than every stored one). */
+  added: string[];
+  /** Users whose state changed in at least one restated period (null under new rules). */
+  usersChanged: number | null;
+}
+
+export interface UpdateResult {
+  store: string;
+  created: boolean;
+  /** 'extend': new periods added; 'rebuild': late events restated stored periods; 'reclassify': new rules; 'none': nothing to apply. */
+  mode: 'extend' | 'rebuild' | 'reclassify' | 'none';
+  applied: AppliedFile[];
+  skipped: SkippedFile[];
+  restated: Restatement | null;
+  periods: { first: string; last: string; count: number };
+  /** The waist so far (full form); null while the warm-up leaves no period. */
+  waist: Waist | null;
+  warmup: number;
+  digest: Digest | null;
+}
+
+/** SHA-256 of a file's bytes, and its size. */
+export async function fileHash(path: string): Promise<{ sha256: string; bytes: number }> {
+  let st;
+  try {
+    st = statSync(path);
+  } catch (e) {
+    throw fileError(e, path);
+  }
+  if (st.isDirectory()) throw fileError({ code: 'EISDIR' }, path);
+  if (!st.isFile()) {
+    throw new TidemarkError('FILE_UNREADABLE', 'update reads a file twice (to hash it, then its rows), so it needs a regular file, not a pipe or device', { file: path },
+      'Save the events to a file first');
+  }
+  const h = createHash('sha256');
+  let bytes = 0;
+  await new Promise<void>((resolve, reject) => {
+    createReadStream(path)
+      .on('data', (b) => {
+        h.update(b as Buffer);
+        bytes += (b as Buffer).length;
+      })
+      .on('error', (e) => reject(fileError(e, path)))
+      .on('end', () => resolve());
+  });
+  return { sha256: h.digest('hex'), bytes };
+}
+
+/** The canonical text of rules (as the store keeps them). */
+export function rulesText(r: Rules): string {
+  return JSON.stringify(parseRules(JSON.stringify(r), 'rules'));
+}
+
+/** The first keys on which two rules differ, for a message: "lapseLimit 2 → 3". */
+export function rulesDifference(a: Rules, b: Rules): string {
+  const ja = JSON.parse(rulesText(a)) as Record<string, unknown>;
+  const jb = JSON.parse(rulesText(b)) as Record<string, unknown>;
+  const keys = [...new Set([...Object.keys(ja), ...Object.keys(jb)])].filter((k) => JSON.stringify(ja[k]) !== JSON.stringify(jb[k]));
+  const show = (v: unknown) => (v === undefined ? '(none)' : JSON.stringify(v).slice(0, 40));
+  return keys.slice(0, 3).map((k) => `${k} ${show(ja[k])} → ${show(jb[k])}`).join(', ') + (keys.length > 3 ? ', …' : '');
+}
+
+/** A folder that may become a store: missing, empty, or holding a store. */
+function checkFolder(dir: string): boolean {
+  if (!existsSync(dir)) {
+    try {
+      mkdirSync(dir, { recursive: true });
+    } catch (e) {
+      throw new TidemarkError('FILE_UNWRITABLE', `cannot create the store folder (${(e as { code?: string }).code ?? 'error'})`, { file: dir }, 'Check the path and permissions');
+    }
+    return true;
+  }
+  if (!statSync(dir).isDirectory()) throw new TidemarkError('STORE_INVALID', 'a store is a folder, and this is a file', { file: dir }, 'Give a new or empty folder, or a store folder');
+  if (existsSync(join(dir, STORE_FILE))) return false;
+  const other = readdirSync(dir).filter((f) => f !== LOCK_FILE);
+  if (other.length) throw new TidemarkError('STORE_INVALID', `the folder is not a store and not empty (it holds ${other.length} file${other.length > 1 ? 's' : ''})`, { file: dir }, 'Give a new or empty folder for a new store');
+  return true;
+}
+
+/** Check the format and version in store_info. */
+export function checkFormat(info: Map<string, string>, file: string): void {
+  if (info.get('format') !== STORE_FORMAT) throw new TidemarkError('STORE_INVALID', 'not a tidemark store', { file }, 'Give a folder written by tidemark update');
+  const v = Number(info.get('version'));
+  if (v > STORE_VERSION) throw new TidemarkError('STORE_INVALID', `this store is format version ${v}, from a newer tidemark; this one reads version ${STORE_VERSION}`, { file }, 'Upgrade tidemark');
+  if (v !== STORE_VERSION) throw new TidemarkError('STORE_INVALID', `store format version ${info.get('version')} is not supported`, { file }, `This tidemark reads version ${STORE_VERSION}`);
+}
+
+const noStep = () => undefined;
+
+/**
+ * Apply event files to the store in `o.dir`.
+ * @throws {TidemarkError} STORE_BUSY (another update runs), STORE_INVALID (not a store), USAGE (rules
+ *   differ without reclassify; key `rules`), and every reading error of the files (nothing is applied).
+ */
+export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
+  const step = o.onStep ?? noStep;
+  const now = o.now ?? new Date();
+  const created = checkFolder(o.dir);
+  const release = takeLock(o.dir, now);
+  step('locked');
+  try {
+    const dbFile = join(o.dir, STORE_FILE);
+    const db = await openDb(dbFile, 'write');
+    let open = false;
+    try {
+      step('opened');
+      const info = created ? new Map<string, string>() : await readInfo(db);
+      if (!created) checkFormat(info, dbFile);
+      const stored = info.get('rules') ? parseRules(info.get('rules') as string, 'store rules') : undefined;
+      const rules = o.rules ?? stored ?? resolveRules({});
+      const changed = stored !== undefined && rulesText(rules) !== rulesText(stored);
+      if (changed && !o.reclassify) {
+        throw new TidemarkError('USAGE', `differ from the rules the store was built with (${rulesDifference(stored, rules)})`, { key: 'rules' },
+          'Pass --reclassify to rebuild the store from its events under the new rules, or leave --rules out to keep the store\'s');
+      }
+      if (changed && JSON.stringify(stored.columns) !== JSON.stringify(rules.columns)) {
+        throw new TidemarkError('USAGE', 'map other columns than the store read its files with; the store keeps the columns it read as user, timestamp and event', { key: 'rules' },
+          'Keep the column mapping, or build a new store from the files');
+      }
+      // 2. hashes
+      const known = new Map<string, { path: string; at: string | null }>();
+      if (!created) {
+        for (const r of await db.rows("SELECT sha256, path, strftime(applied_at, '%Y-%m-%dT%H:%M:%S.%gZ') AS at FROM applied_files")) known.set(r.sha256 as string, { path: r.path as string, at: r.at as string });
+      }
+      const fresh: { path: string; sha256: string; bytes: number }[] = [];
+      const skipped: SkippedFile[] = [];
+      for (const path of o.files) {
+        const h = await fileHash(path);
+        const before = known.get(h.sha256);
+        if (before) skipped.push({ path, sha256: h.sha256, appliedAs: before.path, appliedAt: before.at });
+        else {
+          known.set(h.sha256, { path, at: null });
+          fresh.push({ path, ...h });
+        }
+      }
+      step('hashed');
+      const plan = compilePlan(rules);
+      const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
+      if (fresh.length === 0 && !changed) {
+        if (created) throw new TidemarkError('USAGE', 'no event file to start the store with', { key: '--events' }, 'For example --events week-01.csv');
+        return await unchanged(db, o.dir, info, rules, skipped);
+      }
+      // 3. read the new files, recording their rows
+      await db.run('BEGIN TRANSACTION');
+      open = true;
+      if (created) for (const sql of SCHEMA_SQL) await db.run(sql);
+      const seq0 = created ? 0 : Number((await db.rows('SELECT coalesce(max(file) + 1, 0)::INTEGER AS n FROM applied_files'))[0].n);
+      const updateNo = Number(info.get('updates') ?? 0) + 1;
+      const read = o.read ?? {};
+      const builder = new RecordingBuilder({ rules, skipBadRows: read.skipBadRows ?? false });
+      const app = await db.appender('events');
+      const limits = { ...DEFAULT_LIMITS, ...o.limits };
+      const applied: (AppliedFile & { shape: import('./record.js').FileShape; usedFrom: number; usedTo: number })[] = [];
+      for (let i = 0; i < fresh.length; i++) {
+        const f = fresh[i];
+        const file = seq0 + i;
+        const usedFrom = builder.rows.used;
+        const { shape, account } = await recordFile(builder, f.path, rules, read, {
+          row: (entry, line, lines, user, ts, event, attrs) => {
+            app.appendInteger(file);
+            app.appendInteger(entry);
+            app.appendInteger(line);
+            app.appendInteger(lines);
+            app.appendNull();
+            app.appendVarchar(user);
+            app.appendVarchar(ts);
+            if (event === undefined) app.appendNull();
+            else app.appendVarchar(event);
+            app.appendVarchar(JSON.stringify(attrs));
+            app.endRow();
+          },
+          reject: (entry, line, lines, reason) => {
+            app.appendInteger(file);
+            app.appendInteger(entry);
+            app.appendInteger(line);
+            app.appendInteger(lines);
+            app.appendVarchar(reason);
+            for (let k = 0; k < 4; k++) app.appendNull();
+            app.endRow();
+          },
+        }, limits);
+        applied.push({ file, path: f.path, sha256: f.sha256, bytes: f.bytes, rows: account, firstPeriod: null, lastPeriod: null, shape, usedFrom, usedTo: builder.rows.used });
+      }
+      app.closeSync();
+      const batch = builder.build();
+      if (created) checkNotEmpty(batch, fresh.map((f) => f.path));
+      const at = now.toISOString();
+      const periodsOf = (log: EventLog, from: number, to: number): [string | null, string | null] => {
+        let lo = Infinity, hi = -Infinity;
+        for (let i = from; i < to; i++) {
+          if (log.period[i] < lo) lo = log.period[i];
+          if (log.period[i] > hi) hi = log.period[i];
+        }
+        return lo === Infinity ? [null, null] : [periodLabel(lo, scheme), periodLabel(hi, scheme)];
+      };
+      for (const f of applied) [f.firstPeriod, f.lastPeriod] = periodsOf(batch, f.usedFrom, f.usedTo);
+      for (const f of applied) {
+        await db.run(`INSERT INTO applied_files VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9::TIMESTAMP, $10, $11, $12, $13, $14, $15, $16, $17::DATE, $18::DATE)`, [
+          f.file, f.path, f.sha256, f.bytes, read.format ?? null, read.delimiter ?? null, read.skipBadRows ?? false, updateNo, at.replace('Z', ''),
+          JSON.stringify(f.shape.attributes), f.shape.hasEvent, f.shape.headerLines, f.shape.blankLines, f.shape.lines, f.shape.entries,
+          JSON.stringify(f.rows), f.firstPeriod, f.lastPeriod,
+        ]);
+      }
+      step('read');
+
+      // 4. extend, or rebuild
+      const oldStart = info.has('start_key') ? Number(info.get('start_key')) : undefined;
+      const oldLast = info.has('last_key') ? Number(info.get('last_key')) : undefined;
+      let minKey = Infinity;
+      for (let i = 0; i < batch.size; i++) if (batch.period[i] < minKey) minKey = batch.period[i];
+      const late = !created && !changed && batch.size > 0 && minKey <= (oldLast as number);
+      let mode: UpdateResult['mode'] = changed ? 'reclassify' : late ? 'rebuild' : 'extend';
+      let restated: Restatement | null = null;
+      let state: Built;
+      if (mode === 'extend' && !created) {
+        state = await extendStored(db, info, rules, plan, batch);
+      } else if (created) {
+        state = fromLog(batch, rules, plan);
+      } else {
+        const files = await storedFiles(db);
+        const skip = files.length > 0 && (read.skipBadRows || (await db.rows('SELECT bool_or(skip_bad_rows) AS s FROM applied_files'))[0].s === true);
+        let hook: StateHook | undefined;
+        let finishHook = () => 0;
+        const restatedFrom = late ? Math.max(minKey, oldStart as number) : 0;
+        if (late) {
+          // the classification before, over the periods the late events restate, user by user
+          const before = await replayLog(files.slice(0, files.length - fresh.length), rules, skip);
+          const span = (oldLast as number) - restatedFrom + 1;
+          const seen = new Map<string, Uint8Array>();
+          const priorUsers = new UserState();
+          fromLog(before.log, rules, plan, (u, key, code) => {
+            if (key < restatedFrom) return;
+            const id = priorUsers.ids[u];
+            let s = seen.get(id);
+            if (!s) seen.set(id, (s = new Uint8Array(span)));
+            s[key - restatedFrom] = code;
+          }, priorUsers);
+          const changedIds = new Set<string>();
+          const nowUsers = new UserState();
+          hook = (u, key, code) => {
+            if (key < restatedFrom || key > (oldLast as number)) return;
+            const id = nowUsers.ids[u];
+            const s = seen.get(id);
+            if (!s || s[key - restatedFrom] !== code) changedIds.add(id);
+          };
+          finishHook = () => changedIds.size;
+          const after = await replayLog(files, rules, skip);
+          state = fromLog(after.log, rules, plan, hook, nowUsers);
+          state.accounts = after.accounts;
+        } else {
+          const after = await replayLog(files, rules, skip);
+          state = fromLog(after.log, rules, plan);
+          state.accounts = after.accounts;
+        }
+        const label = (k: number) => periodLabel(k, scheme);
+        if (late) {
+          const periods: string[] = [];
+          for (let k = restatedFrom; k <= (oldLast as number); k++) periods.push(label(k));
+          const added: string[] = [];
+          for (let k = minKey; k < (oldStart as number); k++) added.push(label(k));
+          restated = { reason: 'late events', periods, added, usersChanged: finishHook() };
+        } else {
+          restated = { reason: 'new rules', periods: [...state.ledger.tables.periods], added: [], usersChanged: null };
+        }
+      }
+      if (created) mode = 'extend';
+      step('classified');
+
+      // 5. write
+      const ledger = state.ledger;
+      const startKey = ledger.startKey as number, lastKey = ledger.lastKey as number;
+      await saveUsers(db, state.users, plan, scheme, lastKey, state.attributes);
+      step('users-written');
+      await writeTotalsTables(db, batch, state.replaced);
+      const counts = new Map<string, number>();
+      for (const r of await db.rows('SELECT name, rows::DOUBLE AS rows FROM event_names')) counts.set(r.name as string, r.rows as number);
+      const attributeValues = new Map<string, number>();
+      for (const r of await db.rows('SELECT attribute, count(*)::INTEGER AS n FROM attribute_values GROUP BY attribute')) attributeValues.set(r.attribute as string, r.n as number);
+      const waist = storeWaist(rules, ledger.tables, state.totals, { startKey, lastKey, users: state.users.activeEver(), events: topEvents(counts, rules), attributeValues });
+      // the files' log: the new ones, and under a rebuild every file's accounting again
+      if (state.accounts && state.log) {
+        let used = 0;
+        for (let i = 0; i < state.accounts.length; i++) {
+          const a = state.accounts[i];
+          const [first, last] = periodsOf(state.log, used, used + a.used);
+          used += a.used;
+          await db.run('UPDATE applied_files SET row_account = $1, first_period = $2::DATE, last_period = $3::DATE WHERE file = $4', [JSON.stringify(a), first, last, i]);
+          const mine = applied.find((f) => f.file === i);
+          if (mine) Object.assign(mine, { rows: a, firstPeriod: first, lastPeriod: last });
+        }
+      }
+      await writeInfo(db, {
+        format: STORE_FORMAT,
+        version: String(STORE_VERSION),
+        rules: rulesText(rules),
+        start_key: String(startKey),
+        last_key: String(lastKey),
+        updates: String(updateNo),
+        tables: JSON.stringify(ledger.tables),
+        manifest: waist ? JSON.stringify(waist.manifest) : 'null',
+        totals: JSON.stringify(state.totals),
+      });
+      const digest = waist ? digestOf(waist) : null;
+      await db.run('INSERT INTO updates VALUES ($1, $2::TIMESTAMP, $3, $4, $5, $6, $7)', [updateNo, at.replace('Z', ''), fresh.length, skipped.length, mode, restated ? JSON.stringify(restated) : null, digest ? JSON.stringify(digest) : null]);
+      step('before-commit');
+      await db.run('COMMIT');
+      open = false;
+      step('committed');
+      return {
+        store: o.dir,
+        created,
+        mode,
+        applied: applied.map(({ file, path, sha256, bytes, rows, firstPeriod, lastPeriod }) => ({ file, path, sha256, bytes, rows, firstPeriod, lastPeriod })),
+        skipped,
+        restated,
+        periods: { first: periodLabel(startKey, scheme), last: periodLabel(lastKey, scheme), count: lastKey - startKey + 1 },
+        waist: waist ?? null,
+        warmup: rules.warmup,
+        digest,
+      };
+    } catch (e) {
+      if (open) {
+        try {
+          await db.run('ROLLBACK');
+        } catch {
+          /* the error below says what went wrong */
+        }
+      }
+      throw e;
+    } finally {
+      db.close();
+      step('closed');
+    }
+  } finally {
+    release();
+  }
+}
+
+/** The state an update writes. */
+interface Built {
+  users: UserState;
+  ledger: Ledger;
+  totals: Totals;
+  /** Latest-period attributes of the users whose latest active period is new. */
+  attributes: Map<number, string>;
+  /** Set when the state was rebuilt from a whole log (its totals replace the stored ones). */
+  replaced?: EventLog;
+  log?: EventLog;
+  /** Each file's row account in a rebuild. */
+  accounts?: RowAccount[];
+}
+
+/** The whole state from one log (a new store, or a rebuild). */
+function fromLog(log: EventLog, rules: Rules, plan: LifecyclePlan, hook?: StateHook, users = new UserState()): Built {
+  const ledger: Ledger = { tables: emptyTables(rules, plan) };
+  let attributes = new Map<number, string>();
+  let minKey = Infinity, maxKey = -Infinity;
+  for (let i = 0; i < log.size; i++) {
+    const k = log.period[i];
+    if (k < minKey) minKey = k;
+    if (k > maxKey) maxKey = k;
+  }
+  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
+  let last = { label: '', coverage: 0, complete: true, rows: 0 };
+  if (log.size > 0) {
+    const { activity, uidOfLogUser } = periodActivity(log, users, rules.activity.minEvents, minKey, maxKey);
+    extend(ledger, users, rules, plan, activity, maxKey, hook);
+    attributes = latestAttributes(log, uidOfLogUser, users);
+    last = lastPeriodOf(log, maxKey, scheme);
+  }
+  const totals: Totals = {
+    rows: copyAccount(log.rows),
+    attributes: log.attributes.map((a) => a.name),
+    extremes: storedExtremes(log.extremes),
+    lastPeriod: { label: last.label, coverage: last.coverage, complete: last.complete },
+    rowsInLastPeriod: last.rows,
+  };
+  return { users, ledger, totals, attributes, replaced: log, log };
+}
+
+/** The state extended by a batch of events that all fall after the last stored period. */
+async function extendStored(db: Db, info: Map<string, string>, rules: Rules, plan: LifecyclePlan, batch: EventLog): Promise<Built> {
+  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
+  const users = await loadUsers(db, plan, scheme);
+  const ledger: Ledger = { startKey: Number(info.get('start_key')), lastKey: Number(info.get('last_key')), tables: JSON.parse(info.get('tables') as string) as WaistTables };
+  const old = JSON.parse(info.get('totals') as string) as Totals;
+  let attributes = new Map<number, string>();
+  const totals: Totals = {
+    rows: accountSum(old.rows, batch.rows),
+    attributes: [...old.attributes, ...batch.attributes.map((a) => a.name).filter((n) => !old.attributes.includes(n))],
+    extremes: mergeExtremes(old.extremes, storedExtremes(batch.extremes)),
+    lastPeriod: old.lastPeriod,
+    rowsInLastPeriod: old.rowsInLastPeriod,
+  };
+  if (batch.size > 0) {
+    let maxKey = -Infinity;
+    for (let i = 0; i < batch.size; i++) if (batch.period[i] > maxKey) maxKey = batch.period[i];
+    const { activity, uidOfLogUser } = periodActivity(batch, users, rules.activity.minEvents, (ledger.lastKey as number) + 1, maxKey);
+    extend(ledger, users, rules, plan, activity, maxKey);
+    attributes = latestAttributes(batch, uidOfLogUser, users);
+    const last = lastPeriodOf(batch, maxKey, scheme);
+    totals.lastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete };
+    totals.rowsInLastPeriod = last.rows;
+  }
+  return { users, ledger, totals, attributes, log: batch };
+}
+
+/** Replay stored files into a fresh log. */
+async function replayLog(files: Awaited<ReturnType<typeof storedFiles>>, rules: Rules, skipBadRows: boolean, detail = false): Promise<{ log: EventLog; accounts: RowAccount[] }> {
+  const builder = new EventLogBuilder({ rules, skipBadRows, detail });
+  const accounts = await replay(builder, files);
+  return { log: builder.build(), accounts };
+}
+
+/** Event names and attribute values: replaced by a rebuilt log's, or merged with a batch's. */
+async function writeTotalsTables(db: Db, batch: EventLog, replaced: EventLog | undefined): Promise<void> {
+  const log = replaced ?? batch;
+  if (replaced) {
+    await db.run('DELETE FROM event_names');
+    await db.run('DELETE FROM attribute_values');
+  }
+  await db.run('CREATE TABLE names_stage (name VARCHAR, rows BIGINT)');
+  let app = await db.appender('names_stage');
+  for (const [name, rows] of log.eventNames) {
+    app.appendVarchar(name);
+    app.appendBigInt(BigInt(rows));
+    app.endRow();
+  }
+  app.closeSync();
+  await db.run('CREATE TABLE names_next AS SELECT name, sum(rows)::BIGINT AS rows FROM (SELECT * FROM event_names UNION ALL SELECT * FROM names_stage) GROUP BY name');
+  await db.run('DROP TABLE event_names');
+  await db.run('DROP TABLE names_stage');
+  await db.run('ALTER TABLE names_next RENAME TO event_names');
+  await db.run('CREATE TABLE values_stage (attribute VARCHAR, value VARCHAR)');
+  app = await db.appender('values_stage');
+  for (const a of log.attributes) {
+    for (let v = 1; v < a.values.length; v++) {
+      app.appendVarchar(a.name);
+      app.appendVarchar(a.values[v]);
+      app.endRow();
+    }
+  }
+  app.closeSync();
+  await db.run('INSERT INTO attribute_values SELECT DISTINCT s.attribute, s.value FROM values_stage s WHERE NOT EXISTS (SELECT 1 FROM attribute_values a WHERE a.attribute = s.attribute AND a.value = s.value)');
+  await db.run('DROP TABLE values_stage');
+}
+
+/** Nothing new to apply: the store as it is. */
+async function unchanged(db: Db, dir: string, info: Map<string, string>, rules: Rules, skipped: SkippedFile[]): Promise<UpdateResult> {
+  const tables = JSON.parse(info.get('tables') as string) as WaistTables;
+  const manifest = JSON.parse(info.get('manifest') as string);
+  const waist: Waist | null = manifest ? { manifest, tables } : null;
+  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
+  const startKey = Number(info.get('start_key')), lastKey = Number(info.get('last_key'));
+  void db;
+  return {
+    store: dir,
+    created: false,
+    mode: 'none',
+    applied: [],
+    skipped,
+    restated: null,
+    periods: { first: periodLabel(startKey, scheme), last: periodLabel(lastKey, scheme), count: lastKey - startKey + 1 },
+    waist,
+    warmup: rules.warmup,
+    digest: waist ? digestOf(waist) : null,
+  };
+}
+
