@@ -39,6 +39,8 @@ export interface ReportOptions {
   droppedPartial?: string;
   /** Sections built from the events by the caller (report/sections/behaviour.ts): the data check first. */
   sections?: ReportSection[];
+  /** A report from a store: what changed in the latest period (store/digest.ts), shown first. */
+  digest?: ReportSection;
 }
 
 export interface Finding {
@@ -104,7 +106,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
 
   warnings.push(...result.warnings);
   // ── hook: sections from the event analyses (report/sections/), built by the caller from the same read ──
-  const sections = o.sections ?? [];
+  const sections = [...(o.digest ? [o.digest] : []), ...(o.sections ?? [])];
   const checkWarnings = sections.filter((s) => s.placement === 'first').reduce((n, s) => n + s.warnings.length, 0);
   if (checkWarnings) warnings.unshift(`The data check found ${checkWarnings} problem${checkWarnings > 1 ? 's' : ''} with the data (see its section, first on the page): read every number below with them in mind.`);
   // ── end of hook ──

@@ -20,8 +20,7 @@ import { openDb, type Db } from './db.js';
 import { digestOf, type Digest } from './digest.js';
 import { replay } from './record.js';
 import { STORE_FILE, sqlString } from './schema.js';
-import { readInfo, storedFiles } from './state.js';
-import { checkFormat } from './update.js';
+import { checkFormat, readInfo, storedFiles } from './state.js';
 
 /** Open a store read-only and check its format. @throws TidemarkError FILE_NOT_FOUND, STORE_INVALID, STORE_BUSY */
 export async function openStore(dir: string): Promise<{ db: Db; info: Map<string, string>; rules: Rules }> {

@@ -15,7 +15,8 @@ import type { Waist } from '../waist/types.js';
 import type { WaistTables } from '../flows/types.js';
 import type { Db } from './db.js';
 import type { StoredFile } from './record.js';
-import type { StoredExtreme, Totals } from './schema.js';
+import { STORE_FORMAT, STORE_VERSION, type StoredExtreme, type Totals } from './schema.js';
+import { TidemarkError } from '../errors.js';
 import { NO_PERIOD, UserState } from './users.js';
 
 const DAY = 86_400_000;
@@ -218,4 +219,12 @@ export function storeWaist(rules: Rules, tables: WaistTables, totals: Totals, o:
 export function topEvents(counts: Iterable<[string, number]>, rules: Rules): WaistManifest['events'] {
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
   return [...counts].sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 50).map(([name, rows]) => ({ name, rows, key: !keySet || keySet.has(name) }));
+}
+
+/** Check the format and version in store_info. */
+export function checkFormat(info: Map<string, string>, file: string): void {
+  if (info.get('format') !== STORE_FORMAT) throw new TidemarkError('STORE_INVALID', 'not a tidemark store', { file }, 'Give a folder written by tidemark update');
+  const v = Number(info.get('version'));
+  if (v > STORE_VERSION) throw new TidemarkError('STORE_INVALID', `this store is format version ${v}, from a newer tidemark; this one reads version ${STORE_VERSION}`, { file }, 'Upgrade tidemark');
+  if (v !== STORE_VERSION) throw new TidemarkError('STORE_INVALID', `store format version ${info.get('version')} is not supported`, { file }, `This tidemark reads version ${STORE_VERSION}`);
 }

@@ -35,7 +35,8 @@ import { emptyTables, extend, periodActivity, type Ledger, type StateHook } from
 import { takeLock, LOCK_FILE } from './lock.js';
 import { accountSum, checkNotEmpty, copyAccount, recordFile, RecordingBuilder, replay, type ReadChoice } from './record.js';
 import { SCHEMA_SQL, STORE_FILE, STORE_FORMAT, STORE_VERSION, type Totals } from './schema.js';
-import { latestAttributes, loadUsers, mergeExtremes, readInfo, saveUsers, storedExtremes, storedFiles, storeWaist, topEvents, writeInfo } from './state.js';
+export { checkFormat };
+import { checkFormat, latestAttributes, loadUsers, mergeExtremes, readInfo, saveUsers, storedExtremes, storedFiles, storeWaist, topEvents, writeInfo } from './state.js';
 import { UserState } from './users.js';
 
 /** Named points of an update, for the kill test (a hook may stop the process there). */
@@ -48,6 +49,8 @@ export interface UpdateOptions {
   files: string[];
   /** The rules: for a new store, the rules it keeps; for a store, they must equal its rules unless `reclassify`. Default: the store's (the packaged weekly rules for a new store). */
   rules?: Rules;
+  /** Column names that replace those of the rules (given or the store's). */
+  columns?: { user?: string; timestamp?: string; event?: string };
   /** Rebuild the store from its events under `rules`. */
   reclassify?: boolean;
   /** How to read the new files. */
@@ -161,14 +164,6 @@ function checkFolder(dir: string): boolean {
   return true;
 }
 
-/** Check the format and version in store_info. */
-export function checkFormat(info: Map<string, string>, file: string): void {
-  if (info.get('format') !== STORE_FORMAT) throw new TidemarkError('STORE_INVALID', 'not a tidemark store', { file }, 'Give a folder written by tidemark update');
-  const v = Number(info.get('version'));
-  if (v > STORE_VERSION) throw new TidemarkError('STORE_INVALID', `this store is format version ${v}, from a newer tidemark; this one reads version ${STORE_VERSION}`, { file }, 'Upgrade tidemark');
-  if (v !== STORE_VERSION) throw new TidemarkError('STORE_INVALID', `store format version ${info.get('version')} is not supported`, { file }, `This tidemark reads version ${STORE_VERSION}`);
-}
-
 const noStep = () => undefined;
 
 /**
@@ -191,7 +186,9 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
       const info = created ? new Map<string, string>() : await readInfo(db);
       if (!created) checkFormat(info, dbFile);
       const stored = info.get('rules') ? parseRules(info.get('rules') as string, 'store rules') : undefined;
-      const rules = o.rules ?? stored ?? resolveRules({});
+      const base = o.rules ?? stored ?? resolveRules({});
+      const c = o.columns ?? {};
+      const rules: Rules = { ...base, columns: { user: c.user ?? base.columns.user, timestamp: c.timestamp ?? base.columns.timestamp, event: c.event ?? base.columns.event } };
       const changed = stored !== undefined && rulesText(rules) !== rulesText(stored);
       if (changed && !o.reclassify) {
         throw new TidemarkError('USAGE', `differ from the rules the store was built with (${rulesDifference(stored, rules)})`, { key: 'rules' },

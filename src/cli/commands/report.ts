@@ -2,6 +2,7 @@
 import type { Command } from 'commander';
 import type { ReportModel } from '../../report/build.js';
 import { reportOf } from '../../report/run.js';
+import { digestSection } from '../../store/digest.js';
 import { analysisWaist } from '../../waist/derive.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
@@ -48,10 +49,10 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const bar = progress(io, o.format !== 'json', 4);
   try {
     bar.step('reading and classifying', 0);
-    const { waist: full, flags } = await waistInput(o as CommonOptions, { by: o.by, sections: true });
+    const { waist: full, flags, digest } = await waistInput(o as CommonOptions, { by: o.by, sections: true });
     bar.step('analysing', 2);
     const hint = periodFlagHint(analysisWaist(full, { includePartial: o.includePartial }), { base, compare });
-    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial }), { ...flags, base: '--base', compare: '--compare' }, hint);
+    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial, ...(digest ? { digest: digestSection(digest) } : {}) }), { ...flags, base: '--base', compare: '--compare' }, hint);
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
