@@ -145,32 +145,31 @@ const pct = (x: number) => `${(x * 100).toFixed(1)}%`;
 const signed = (x: number) => `${x >= 0 ? '+' : '−'}${Math.abs(x * 100).toFixed(0)}%`;
 const pValue = (p: number) => (p < 0.001 ? '< 0.001' : `= ${p.toFixed(3)}`);
 
-/** The digest as at most {@link DIGEST_LINES} lines of text (state names as the rules name them). */
+/** The digest as at most {@link DIGEST_LINES} short lines of text (state names as the rules name them). */
 export function digestLines(d: Digest): string[] {
   const g = d.grain;
-  const incomplete = d.complete ? '' : ` (the data stop ${(d.coverage * 100).toFixed(0)}% of the way through it: its counts may still grow)`;
-  const lines = [`${cap(g)} of ${d.period}${incomplete}: ${n0(d.active)} active users, of whom ${n0(d.arrivals)} arrived and ${n0(d.returns)} returned; ${n0(d.wentQuiet)} went quiet.`];
+  const incomplete = d.complete ? '' : ` (incomplete: the data stop ${(d.coverage * 100).toFixed(0)}% into it)`;
+  const lines = [`${cap(g)} of ${d.period}${incomplete}: ${n0(d.active)} active users (${n0(d.arrivals)} new, ${n0(d.returns)} returned); ${n0(d.wentQuiet)} went quiet.`];
   if (d.previous === null) {
-    lines.push(`This is the first ${g} stored: there is nothing earlier to compare with.`);
+    lines.push(`The first ${g} stored: nothing earlier to compare with.`);
     return lines;
   }
-  const over = d.averageOver === 1 ? `the previous ${g}` : `the average of the previous ${d.averageOver} ${g}s`;
-  const move = (m: DigestMove) => `${m.from} → ${m.to}, ${n0(m.users)} users against ${n0(m.average)}${m.relative === null ? '' : ` (${signed(m.relative)})`}`;
-  if (d.averageOver === 0) lines.push(`No earlier move to compare this ${g}'s moves with.`);
+  const over = d.averageOver === 1 ? `the ${g} before` : `the previous ${d.averageOver} ${g}s`;
+  const move = (m: DigestMove) => `${m.from} → ${m.to}, ${n0(m.users)} users (average ${n0(m.average)}${m.relative === null ? '' : `, ${signed(m.relative)}`})`;
+  if (d.averageOver === 0) lines.push(`No earlier ${g} to compare this ${g}'s moves with.`);
   else {
     lines.push(d.grew ? `Grew most against ${over}: ${move(d.grew)}.` : `No move grew against ${over}.`);
     lines.push(d.shrank ? `Shrank most: ${move(d.shrank)}.` : 'No move shrank.');
   }
   const sig = d.retention.significant;
   if (sig.length === 0) {
-    lines.push(`No change of retention since the ${g} before is significant after Benjamini–Hochberg control (${d.retention.tested} prior state${d.retention.tested === 1 ? '' : 's'} tested, q = ${d.retention.q}).`);
+    lines.push(`No significant retention change since the ${g} before (Benjamini–Hochberg, ${d.retention.tested} tested).`);
     return lines;
   }
   const room = DIGEST_LINES - lines.length;
   const shown = sig.length <= room ? sig : sig.slice(0, room - 1);
   for (const c of shown) {
-    const dir = c.change >= 0 ? 'rose' : 'fell';
-    lines.push(`Retention of ${c.label} ${dir} ${Math.abs(c.change * 100).toFixed(1)} points, ${pct(c.base.rate)} → ${pct(c.compare.rate)} (adjusted p ${pValue(c.pAdjusted)}, Benjamini–Hochberg across ${d.retention.tested}).`);
+    lines.push(`Retention of ${c.label} ${c.change >= 0 ? 'rose' : 'fell'} ${Math.abs(c.change * 100).toFixed(1)} points, ${pct(c.base.rate)} → ${pct(c.compare.rate)} (adjusted p ${pValue(c.pAdjusted)}).`);
   }
   if (shown.length < sig.length) lines.push(`… and ${sig.length - shown.length} more significant retention change${sig.length - shown.length > 1 ? 's' : ''} (--format json lists them).`);
   return lines;

@@ -20,7 +20,7 @@ import { openDb, type Db } from './db.js';
 import { digestOf, type Digest } from './digest.js';
 import { replay } from './record.js';
 import { STORE_FILE, sqlString } from './schema.js';
-import { checkFormat, readInfo, storedFiles } from './state.js';
+import { checkFormat, hasInfo, readInfo, storedFiles } from './state.js';
 
 /** Open a store read-only and check its format. @throws TidemarkError FILE_NOT_FOUND, STORE_INVALID, STORE_BUSY */
 export async function openStore(dir: string): Promise<{ db: Db; info: Map<string, string>; rules: Rules }> {
@@ -36,6 +36,7 @@ export async function openStore(dir: string): Promise<{ db: Db; info: Map<string
   }
   const db = await openDb(file, 'read');
   try {
+    if (!(await hasInfo(db))) throw new TidemarkError('STORE_INVALID', 'the store holds nothing yet: its first update did not finish', { file: dir }, 'Run tidemark update again');
     const info = await readInfo(db);
     checkFormat(info, file);
     return { db, info, rules: parseRules(info.get('rules') as string, 'store rules') };

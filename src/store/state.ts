@@ -21,6 +21,11 @@ import { NO_PERIOD, UserState } from './users.js';
 
 const DAY = 86_400_000;
 
+/** Whether the database holds the info table (a store's first update commits it). */
+export async function hasInfo(db: Db): Promise<boolean> {
+  return (await db.rows("SELECT count(*)::INTEGER AS n FROM duckdb_tables() WHERE table_name = 'store_info'"))[0].n === 1;
+}
+
 /** The store_info table as a map. */
 export async function readInfo(db: Db): Promise<Map<string, string>> {
   const rows = await db.rows('SELECT key, value FROM store_info');

@@ -36,7 +36,7 @@ import { takeLock, LOCK_FILE } from './lock.js';
 import { accountSum, checkNotEmpty, copyAccount, recordFile, RecordingBuilder, replay, type ReadChoice } from './record.js';
 import { SCHEMA_SQL, STORE_FILE, STORE_FORMAT, STORE_VERSION, type Totals } from './schema.js';
 export { checkFormat };
-import { checkFormat, latestAttributes, loadUsers, mergeExtremes, readInfo, saveUsers, storedExtremes, storedFiles, storeWaist, topEvents, writeInfo } from './state.js';
+import { checkFormat, hasInfo, latestAttributes, loadUsers, mergeExtremes, readInfo, saveUsers, storedExtremes, storedFiles, storeWaist, topEvents, writeInfo } from './state.js';
 import { UserState } from './users.js';
 
 /** Named points of an update, for the kill test (a hook may stop the process there). */
@@ -174,7 +174,7 @@ const noStep = () => undefined;
 export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
   const step = o.onStep ?? noStep;
   const now = o.now ?? new Date();
-  const created = checkFolder(o.dir);
+  let created = checkFolder(o.dir);
   const release = takeLock(o.dir, now);
   step('locked');
   try {
@@ -183,6 +183,8 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
     let open = false;
     try {
       step('opened');
+      // a store whose first update never committed holds no info table: it is still new
+      if (!created && !(await hasInfo(db))) created = true;
       const info = created ? new Map<string, string>() : await readInfo(db);
       if (!created) checkFormat(info, dbFile);
       const stored = info.get('rules') ? parseRules(info.get('rules') as string, 'store rules') : undefined;

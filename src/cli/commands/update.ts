@@ -6,7 +6,7 @@ import { Option, type Command } from 'commander';
 import { TidemarkError, escapeControls, showValue } from '../../errors.js';
 import { DEFAULT_RULES, resolveRules } from '../../rules/resolve.js';
 import { rowLine, note } from '../common.js';
-import { emit, json, toCsv, wrapProse, type Format } from '../format.js';
+import { emit, json, terminalText, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
 export interface UpdateCliOptions {
@@ -77,7 +77,7 @@ export async function runUpdate(o: UpdateCliOptions, io: Io): Promise<void> {
     const { waist: _waist, ...rest } = result;
     text = json({ ...rest, lines });
   } else if (o.format === 'csv') text = toCsv(['line'], lines.map((l) => [l]));
-  else text = lines.length ? wrapProse(`${lines.join('\n')}\n`) : '';
+  else text = lines.length ? terminalText(`${lines.join('\n')}\n`) : ''; // one line a digest line: the terminal wraps, the count stays
   emit(text, o.out, io);
 }
 
