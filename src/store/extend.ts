@@ -190,6 +190,7 @@ class Walk {
       const e = ev[u];
       ev[u] = 0;
       const prev = us.code[u];
+      const idleBefore = us.idle[u], prevBefore = us.prevCode[u];
       const level = e === 0 ? 0 : split ? levelOf(plan, true, e) : 1;
       const j = (prev * IDLE_CLASSES + (us.idle[u] < L ? 0 : 1)) * levels + level;
       const next = nextState[j];
@@ -207,6 +208,8 @@ class Walk {
       }
       const before = us.lastActive[u];
       if (e > 0) us.lastActive[u] = p;
+      // changed: the state, the state before, the idle count, the last active or first dormant period
+      if (e > 0 || next !== prev || prev !== prevBefore || us.idle[u] !== idleBefore || us.firstDormant[u] === p) us.dirty[u] = 1;
       if (first >= cohortKeyMin) {
         let row = this.cohortAt.get(first);
         if (!row) {

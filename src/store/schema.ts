@@ -14,9 +14,10 @@
  * - `events`: every row of every applied file as the reader gave it (user id, timestamp as written,
  *   event name, attribute values as a JSON list in the file's attribute order), and the records the
  *   reader rejected (`reject` names why), in file order: what a rebuild replays.
- * - `users`: per-user state after the last period: first active period, state and previous state,
- *   last active period, quiet periods in a row (saturating at the lapse limit), tenure, first dormant
- *   period, and the attributes of the latest active period (a JSON object).
+ * - `user_state`: per-user state after the last period: first active period, state and previous
+ *   state, last active period, quiet periods in a row (saturating at the lapse limit), first dormant
+ *   period, and the attributes of the latest active period (a JSON object); only the users an update
+ *   changes are written. The view `users` adds each user's tenure in the last period.
  * - `event_names` (name, rows), `attribute_values` (attribute, value): the counts and distinct values
  *   behind the manifest's `events` and `attributes`.
  * - `updates`: one row an update: when, files applied and skipped, how (extend, rebuild, reclassify),
@@ -33,8 +34,8 @@ export const SCHEMA_SQL = [
     update_no INTEGER, applied_at TIMESTAMP, attributes VARCHAR, has_event BOOLEAN, header_lines INTEGER, blank_lines INTEGER, lines INTEGER,
     entries INTEGER, row_account VARCHAR, first_period DATE, last_period DATE)`,
   'CREATE TABLE events (file INTEGER, entry INTEGER, line INTEGER, lines INTEGER, reject VARCHAR, user_id VARCHAR, ts VARCHAR, event VARCHAR, attrs VARCHAR)',
-  `CREATE TABLE users (uid INTEGER, id VARCHAR, first_period DATE, state VARCHAR, previous_state VARCHAR, last_active DATE, quiet INTEGER,
-    tenure INTEGER, first_dormant DATE, attributes VARCHAR)`,
+  `CREATE TABLE user_state (uid INTEGER, id VARCHAR, first_period DATE, state VARCHAR, previous_state VARCHAR, last_active DATE, quiet INTEGER,
+    first_dormant DATE, attributes VARCHAR)`,
   'CREATE TABLE event_names (name VARCHAR, rows BIGINT)',
   'CREATE TABLE attribute_values (attribute VARCHAR, value VARCHAR)',
   'CREATE TABLE updates (update_no INTEGER, applied_at TIMESTAMP, files INTEGER, skipped INTEGER, mode VARCHAR, restated VARCHAR, digest VARCHAR)',
@@ -61,4 +62,11 @@ export interface Totals {
 /** Quote a string as an SQL literal. */
 export function sqlString(s: string): string {
   return `'${s.replaceAll("'", "''")}'`;
+}
+
+/** The view `users`: user_state with the tenure (periods since the first active one) in `lastPeriod`. */
+export function usersViewSql(grain: 'day' | 'week' | 'month', lastPeriod: string): string {
+  const last = `DATE ${sqlString(lastPeriod)}`;
+  const tenure = grain === 'month' ? `date_diff('month', first_period, ${last})` : grain === 'week' ? `date_diff('day', first_period, ${last}) // 7` : `date_diff('day', first_period, ${last})`;
+  return `CREATE OR REPLACE VIEW users AS SELECT uid, id, first_period, state, previous_state, last_active, quiet, (${tenure})::INTEGER AS tenure, first_dormant, attributes FROM user_state`;
 }

@@ -7,7 +7,7 @@ import { Extremes, rangeOutliers, EXTREMES_KEPT, type ExtremeRow } from '../inge
 import type { EventLog, RejectReason } from '../ingest/eventLog.js';
 import { outlierWarning } from '../engines/memory/rangeCheck.js';
 import type { LifecyclePlan } from '../lifecycle/plan.js';
-import { periodKeyOfDay, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
+import { periodKeyOfDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
 import { makeManifest } from '../waist/build.js';
 import type { WaistManifest } from '../waist/manifest.js';
@@ -15,7 +15,7 @@ import type { Waist } from '../waist/types.js';
 import type { WaistTables } from '../flows/types.js';
 import type { Db } from './db.js';
 import type { StoredFile } from './record.js';
-import { STORE_FORMAT, STORE_VERSION, type StoredExtreme, type Totals } from './schema.js';
+import { STORE_FORMAT, STORE_VERSION, usersViewSql, type StoredExtreme, type Totals } from './schema.js';
 import { TidemarkError } from '../errors.js';
 import { NO_PERIOD, UserState } from './users.js';
 
@@ -40,16 +40,16 @@ export async function writeInfo(db: Db, entries: Record<string, string>): Promis
   }
 }
 
-/** Per-user state from the users table, uid order. */
+/** Per-user state from the user_state table, uid order; none is dirty. */
 export async function loadUsers(db: Db, plan: LifecyclePlan, scheme: PeriodScheme): Promise<UserState> {
   const users = new UserState();
   const codeOf = new Map(plan.states.map((s, i) => [s, i + 1]));
   const key = (day: unknown) => (day === null ? NO_PERIOD : periodKeyOfDay(day as number, scheme));
-  const [{ n }] = await db.rows('SELECT count(*)::INTEGER AS n FROM users');
+  const [{ n }] = await db.rows('SELECT count(*)::INTEGER AS n FROM user_state');
   users.reserve(n as number);
   await db.chunks(
     `SELECT id, (first_period - DATE '1970-01-01')::INTEGER, state, previous_state, quiet, (last_active - DATE '1970-01-01')::INTEGER,
-       (first_dormant - DATE '1970-01-01')::INTEGER FROM users ORDER BY uid`,
+       (first_dormant - DATE '1970-01-01')::INTEGER FROM user_state ORDER BY uid`,
     (c, rows) => {
       for (let i = 0; i < rows; i++) {
         const u = users.add(c[0][i] as string);
@@ -62,20 +62,24 @@ export async function loadUsers(db: Db, plan: LifecyclePlan, scheme: PeriodSchem
       }
     },
   );
+  users.dirty.fill(0);
   return users;
 }
 
 /**
- * Replace the users table with `users` (those ever active). `attributes`: the JSON of the latest
- * active period's attributes for the users whose latest active period is new; the others keep theirs.
+ * Write per-user state: every user (`replace`: a new store or a rebuild), or the users whose state
+ * changed and the new ones. `attributes`: the JSON of the latest active period's attributes for the
+ * users whose latest active period is new; the others keep theirs. Then the view `users` (with tenure).
  */
-export async function saveUsers(db: Db, users: UserState, plan: LifecyclePlan, scheme: PeriodScheme, lastKey: number, attributes: Map<number, string>): Promise<void> {
-  await db.run('CREATE TABLE users_stage (uid INTEGER, id VARCHAR, first_day INTEGER, state VARCHAR, previous_state VARCHAR, quiet INTEGER, last_day INTEGER, tenure INTEGER, dormant_day INTEGER, attributes VARCHAR)');
+export async function saveUsers(db: Db, users: UserState, plan: LifecyclePlan, scheme: PeriodScheme, lastKey: number, attributes: Map<number, string>, replace: boolean): Promise<void> {
+  const [{ n: stored }] = await db.rows('SELECT count(*)::INTEGER AS n FROM user_state');
+  await db.run('CREATE TABLE users_stage (uid INTEGER, id VARCHAR, first_day INTEGER, state VARCHAR, previous_state VARCHAR, quiet INTEGER, last_day INTEGER, dormant_day INTEGER, attributes VARCHAR)');
   const app = await db.appender('users_stage');
   const day = (k: number) => periodStartDay(k, scheme);
   for (let u = 0; u < users.n; u++) {
     const first = users.first[u];
-    if (first === NO_PERIOD) continue;
+    if (first === NO_PERIOD) throw new Error(`user ${u} was never active`);
+    if (!replace && !users.dirty[u]) continue;
     app.appendInteger(u);
     app.appendVarchar(users.ids[u]);
     app.appendInteger(day(first));
@@ -84,7 +88,6 @@ export async function saveUsers(db: Db, users: UserState, plan: LifecyclePlan, s
     else app.appendNull();
     app.appendInteger(users.idle[u]);
     app.appendInteger(day(users.lastActive[u]));
-    app.appendInteger(lastKey - first);
     if (users.firstDormant[u] !== NO_PERIOD) app.appendInteger(day(users.firstDormant[u]));
     else app.appendNull();
     const a = attributes.get(u);
@@ -93,13 +96,17 @@ export async function saveUsers(db: Db, users: UserState, plan: LifecyclePlan, s
     app.endRow();
   }
   app.closeSync();
-  await db.run(`CREATE TABLE users_next AS SELECT s.uid, s.id, DATE '1970-01-01' + s.first_day AS first_period, s.state, s.previous_state,
-      DATE '1970-01-01' + s.last_day AS last_active, s.quiet, s.tenure, DATE '1970-01-01' + s.dormant_day AS first_dormant,
-      COALESCE(s.attributes, u.attributes) AS attributes
-    FROM users_stage s LEFT JOIN users u ON u.uid = s.uid ORDER BY s.uid`);
-  await db.run('DROP TABLE users');
+  const cols = `s.uid, s.id, DATE '1970-01-01' + s.first_day, s.state, s.previous_state, DATE '1970-01-01' + s.last_day, s.quiet, DATE '1970-01-01' + s.dormant_day`;
+  if (replace) {
+    await db.run('DELETE FROM user_state');
+    await db.run(`INSERT INTO user_state SELECT ${cols}, s.attributes FROM users_stage s ORDER BY s.uid`);
+  } else {
+    await db.run(`UPDATE user_state SET state = s.state, previous_state = s.previous_state, last_active = DATE '1970-01-01' + s.last_day, quiet = s.quiet,
+      first_dormant = DATE '1970-01-01' + s.dormant_day, attributes = coalesce(s.attributes, user_state.attributes) FROM users_stage s WHERE user_state.uid = s.uid`);
+    await db.run(`INSERT INTO user_state SELECT ${cols}, s.attributes FROM users_stage s WHERE s.uid >= $1 ORDER BY s.uid`, [stored as number]);
+  }
   await db.run('DROP TABLE users_stage');
-  await db.run('ALTER TABLE users_next RENAME TO users');
+  await db.run(usersViewSql(scheme.grain, periodLabel(lastKey, scheme)));
 }
 
 /**

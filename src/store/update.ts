@@ -14,7 +14,7 @@
  *    DuckDB's write-ahead log makes a commit durable and replays it on the next open.
  */
 import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, mkdirSync, readdirSync, statSync } from 'node:fs';
+import { createReadStream, existsSync, mkdirSync, readdirSync, rmdirSync, rmSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { TidemarkError } from '../errors.js';
 import { fileError } from '../ingest/source.js';
@@ -148,20 +148,36 @@ export function rulesDifference(a: Rules, b: Rules): string {
 }
 
 /** A folder that may become a store: missing, empty, or holding a store. */
-function checkFolder(dir: string): boolean {
+/**
+ * A folder that may hold a store: missing (made, `made` true), empty, or holding a store (`isNew`
+ * false). @throws TidemarkError STORE_INVALID for a file or a folder holding other files.
+ */
+function checkFolder(dir: string): { isNew: boolean; made: boolean } {
   if (!existsSync(dir)) {
     try {
       mkdirSync(dir, { recursive: true });
     } catch (e) {
       throw new TidemarkError('FILE_UNWRITABLE', `cannot create the store folder (${(e as { code?: string }).code ?? 'error'})`, { file: dir }, 'Check the path and permissions');
     }
-    return true;
+    return { isNew: true, made: true };
   }
   if (!statSync(dir).isDirectory()) throw new TidemarkError('STORE_INVALID', 'a store is a folder, and this is a file', { file: dir }, 'Give a new or empty folder, or a store folder');
-  if (existsSync(join(dir, STORE_FILE))) return false;
+  if (existsSync(join(dir, STORE_FILE))) return { isNew: false, made: false };
   const other = readdirSync(dir).filter((f) => f !== LOCK_FILE);
   if (other.length) throw new TidemarkError('STORE_INVALID', `the folder is not a store and not empty (it holds ${other.length} file${other.length > 1 ? 's' : ''})`, { file: dir }, 'Give a new or empty folder for a new store');
-  return true;
+  return { isNew: true, made: false };
+}
+
+/** Undo a new store that failed: its database files, and the folder when the update made it. */
+function removeNewStore(dir: string, made: boolean): void {
+  for (const f of [STORE_FILE, `${STORE_FILE}.wal`]) rmSync(join(dir, f), { force: true });
+  if (made) {
+    try {
+      rmdirSync(dir);
+    } catch {
+      /* not empty: leave it */
+    }
+  }
 }
 
 const noStep = () => undefined;
@@ -174,9 +190,14 @@ const noStep = () => undefined;
 export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
   const step = o.onStep ?? noStep;
   const now = o.now ?? new Date();
-  let created = checkFolder(o.dir);
+  // the files' hashes first: a missing or unreadable file stops the update before anything is made
+  const hashes: { path: string; sha256: string; bytes: number }[] = [];
+  for (const path of o.files) hashes.push({ path, ...(await fileHash(path)) });
+  const folder = checkFolder(o.dir);
+  let created = folder.isNew;
   const release = takeLock(o.dir, now);
   step('locked');
+  let failedNew = false;
   try {
     const dbFile = join(o.dir, STORE_FILE);
     const db = await openDb(dbFile, 'write');
@@ -207,13 +228,12 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
       }
       const fresh: { path: string; sha256: string; bytes: number }[] = [];
       const skipped: SkippedFile[] = [];
-      for (const path of o.files) {
-        const h = await fileHash(path);
+      for (const h of hashes) {
         const before = known.get(h.sha256);
-        if (before) skipped.push({ path, sha256: h.sha256, appliedAs: before.path, appliedAt: before.at });
+        if (before) skipped.push({ path: h.path, sha256: h.sha256, appliedAs: before.path, appliedAt: before.at });
         else {
-          known.set(h.sha256, { path, at: null });
-          fresh.push({ path, ...h });
+          known.set(h.sha256, { path: h.path, at: null });
+          fresh.push(h);
         }
       }
       step('hashed');
@@ -352,7 +372,7 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
       // 5. write
       const ledger = state.ledger;
       const startKey = ledger.startKey as number, lastKey = ledger.lastKey as number;
-      await saveUsers(db, state.users, plan, scheme, lastKey, state.attributes);
+      await saveUsers(db, state.users, plan, scheme, lastKey, state.attributes, state.replaced !== undefined);
       step('users-written');
       await writeTotalsTables(db, batch, state.replaced);
       const counts = new Map<string, number>();
@@ -402,6 +422,7 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
         digest,
       };
     } catch (e) {
+      failedNew = created;
       if (open) {
         try {
           await db.run('ROLLBACK');
@@ -416,6 +437,7 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
     }
   } finally {
     release();
+    if (failedNew) removeNewStore(o.dir, folder.made);
   }
 }
 

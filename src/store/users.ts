@@ -23,6 +23,8 @@ export class UserState {
   lastActive = new Int32Array(0);
   /** Period key of the first period in the exit state, or NO_PERIOD. */
   firstDormant = new Int32Array(0);
+  /** 1 for a user whose state changed since it was loaded (or who is new): what an update writes. */
+  dirty = new Uint8Array(0);
   private readonly index = new Map<string, number>();
 
   /** The uid of an id, or -1. */
@@ -42,6 +44,7 @@ export class UserState {
     this.idle[u] = 0;
     this.lastActive[u] = NO_PERIOD;
     this.firstDormant[u] = NO_PERIOD;
+    this.dirty[u] = 1;
     return u;
   }
 
@@ -59,6 +62,7 @@ export class UserState {
     this.idle = grow(this.idle, (k) => new Int32Array(k));
     this.lastActive = grow(this.lastActive, (k) => new Int32Array(k));
     this.firstDormant = grow(this.firstDormant, (k) => new Int32Array(k));
+    this.dirty = grow(this.dirty, (k) => new Uint8Array(k));
   }
 
   /** Users that were ever active (every stored user is). */

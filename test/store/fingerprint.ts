@@ -6,7 +6,7 @@ import { join } from 'node:path';
 import { openDb } from '../../src/store/db.js';
 import { STORE_FILE } from '../../src/store/schema.js';
 
-export const TABLES = ['store_info', 'applied_files', 'events', 'users', 'event_names', 'attribute_values', 'updates'];
+export const TABLES = ['store_info', 'applied_files', 'events', 'user_state', 'users', 'event_names', 'attribute_values', 'updates'];
 
 export async function fingerprint(dir: string): Promise<string> {
   const db = await openDb(join(dir, STORE_FILE), 'read');

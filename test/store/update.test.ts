@@ -17,7 +17,7 @@ import { TidemarkError } from '../../src/errors.js';
 import { readEvents } from '../../src/ingest/read.js';
 import { parseRules } from '../../src/rules/load.js';
 import type { Rules } from '../../src/rules/schema.js';
-import { readStore, storeEvents } from '../../src/store/read.js';
+import { openStore, readStore, storeEvents } from '../../src/store/read.js';
 import { updateStore } from '../../src/store/update.js';
 import { refClassify, type RefRules } from '../core/reference.js';
 import { tempDir } from '../core/helpers.js';
@@ -245,4 +245,36 @@ describe('storeEvents', () => {
       cleanup();
     }
   }, 60_000);
+});
+
+describe('per-user state', () => {
+  it('the users view holds what the per-user reference says of each user after the last week, update after update', async () => {
+    const ref: RefRules = { grain: 'week', lapseLimit: 2 };
+    const rules = parseRules('grain: week\nlapseLimit: 2\n', 'rules.yaml');
+    const events = bookings(71, 60, 63);
+    const paths = files(batchesByPeriod(events, 'week'), 'users');
+    const dir = fresh('users');
+    for (const p of paths) await updateStore({ dir, files: [p], rules });
+    const r = refClassify(events.map((e) => ({ user: e.user, timestamp: new Date(e.ms).toISOString(), event: e.event })), ref);
+    const last = r.periods.length - 1;
+    const expected = [...r.states].map(([user, st]) => {
+      const first = st.findIndex((x) => x !== null);
+      const active = (x: string | null) => x === 'fresh' || x === 'engaged' || x === 'returned';
+      let lastActive = last;
+      while (!active(st[lastActive])) lastActive--;
+      const dormant = st.indexOf('dormant');
+      return {
+        id: user, first_period: r.periods[first], state: st[last], previous_state: st[last - 1] ?? null, last_active: r.periods[lastActive],
+        quiet: Math.min(last - lastActive, 2), tenure: last - first, first_dormant: dormant < 0 ? null : r.periods[dormant],
+        attributes: JSON.stringify({ plan: events.find((e) => e.user === user)!.plan }),
+      };
+    }).sort((a, b) => (a.id < b.id ? -1 : 1));
+    const { db } = await openStore(dir);
+    try {
+      const got = (await db.con.runAndReadAll("SELECT id, strftime(first_period, '%Y-%m-%d') AS first_period, state, previous_state, strftime(last_active, '%Y-%m-%d') AS last_active, quiet, tenure, strftime(first_dormant, '%Y-%m-%d') AS first_dormant, attributes FROM users ORDER BY id")).getRowObjectsJson();
+      expect(got).toEqual(expected);
+    } finally {
+      db.close();
+    }
+  }, 120_000);
 });
