@@ -57,7 +57,7 @@ export async function runUpdate(o: UpdateCliOptions, io: Io): Promise<void> {
   for (const s of result.skipped) {
     io.stderr(`${wrapProse(`note: ${s.path} holds the same bytes as ${s.appliedAs}, applied ${s.appliedAt ? `on ${s.appliedAt}` : 'above'} (SHA-256 ${s.sha256.slice(0, 12)}…): skipped, it changes nothing`)}\n`);
   }
-  if (result.mode === 'none') note(io, o, 'note: nothing new to apply: the store is unchanged');
+  if (result.mode === 'none') note(io, o, o.reclassify ? 'note: the rules are the store\'s already and no file is new: the store is unchanged' : 'note: nothing new to apply: the store is unchanged');
   const r = result.restated;
   if (r && r.reason === 'late events') {
     const list = r.periods.length <= 6 ? r.periods.join(', ') : `${r.periods.slice(0, 3).join(', ')}, …, ${r.periods[r.periods.length - 1]}`;
