@@ -13,31 +13,28 @@
  *    at any point leaves the database as it was before (nothing committed) or after (committed);
  *    DuckDB's write-ahead log makes a commit durable and replays it on the next open.
  */
-import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, mkdirSync, readdirSync, rmdirSync, rmSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { TidemarkError } from '../errors.js';
-import { fileError } from '../ingest/source.js';
-import { EventLogBuilder, type EventLog, type RowAccount } from '../ingest/eventLog.js';
-import { lastPeriodOf } from '../ingest/lastPeriod.js';
+import type { EventLog, RowAccount } from '../ingest/eventLog.js';
 import type { ScanLimits } from '../ingest/limits.js';
 import { DEFAULT_LIMITS } from '../ingest/limits.js';
-import { compilePlan, type LifecyclePlan } from '../lifecycle/plan.js';
+import { compilePlan } from '../lifecycle/plan.js';
 import { periodLabel, type PeriodScheme } from '../periods/calendar.js';
 import { parseRules } from '../rules/load.js';
 import { resolveRules } from '../rules/resolve.js';
 import type { Rules } from '../rules/schema.js';
 import type { Waist } from '../waist/types.js';
 import type { WaistTables } from '../flows/types.js';
-import { openDb, type Db } from './db.js';
+import { extendStored, fromLog, rebuild, writeTotalsTables, type Built } from './build.js';
+import { openDb } from './db.js';
 import { digestOf, type Digest } from './digest.js';
-import { emptyTables, extend, periodActivity, type Ledger, type StateHook } from './extend.js';
-import { takeLock, LOCK_FILE } from './lock.js';
-import { accountSum, checkNotEmpty, copyAccount, recordFile, RecordingBuilder, replay, type ReadChoice } from './record.js';
-import { SCHEMA_SQL, STORE_FILE, STORE_FORMAT, STORE_VERSION, type Totals } from './schema.js';
-export { checkFormat };
-import { checkFormat, hasInfo, latestAttributes, loadUsers, mergeExtremes, readInfo, saveUsers, storedExtremes, storedFiles, storeWaist, topEvents, writeInfo } from './state.js';
-import { UserState } from './users.js';
+import { checkFolder, fileHash, removeNewStore, rulesDifference, rulesText } from './files.js';
+import { takeLock } from './lock.js';
+import { checkNotEmpty, recordFile, RecordingBuilder, type FileShape, type ReadChoice } from './record.js';
+import { SCHEMA_SQL, STORE_FILE, STORE_FORMAT, STORE_VERSION } from './schema.js';
+import { checkFormat, hasInfo, readInfo, saveUsers, storeWaist, topEvents, writeInfo } from './state.js';
+
+export { checkFormat, fileHash, rulesDifference, rulesText };
 
 /** Named points of an update, for the kill test (a hook may stop the process there). */
 export type UpdateStep = 'locked' | 'opened' | 'hashed' | 'read' | 'classified' | 'users-written' | 'before-commit' | 'committed' | 'closed';
@@ -106,80 +103,6 @@ export interface UpdateResult {
   digest: Digest | null;
 }
 
-/** SHA-256 of a file's bytes, and its size. */
-export async function fileHash(path: string): Promise<{ sha256: string; bytes: number }> {
-  let st;
-  try {
-    st = statSync(path);
-  } catch (e) {
-    throw fileError(e, path);
-  }
-  if (st.isDirectory()) throw fileError({ code: 'EISDIR' }, path);
-  if (!st.isFile()) {
-    throw new TidemarkError('FILE_UNREADABLE', 'update reads a file twice (to hash it, then its rows), so it needs a regular file, not a pipe or device', { file: path },
-      'Save the events to a file first');
-  }
-  const h = createHash('sha256');
-  let bytes = 0;
-  await new Promise<void>((resolve, reject) => {
-    createReadStream(path)
-      .on('data', (b) => {
-        h.update(b as Buffer);
-        bytes += (b as Buffer).length;
-      })
-      .on('error', (e) => reject(fileError(e, path)))
-      .on('end', () => resolve());
-  });
-  return { sha256: h.digest('hex'), bytes };
-}
-
-/** The canonical text of rules (as the store keeps them). */
-export function rulesText(r: Rules): string {
-  return JSON.stringify(parseRules(JSON.stringify(r), 'rules'));
-}
-
-/** The first keys on which two rules differ, for a message: "lapseLimit 2 → 3". */
-export function rulesDifference(a: Rules, b: Rules): string {
-  const ja = JSON.parse(rulesText(a)) as Record<string, unknown>;
-  const jb = JSON.parse(rulesText(b)) as Record<string, unknown>;
-  const keys = [...new Set([...Object.keys(ja), ...Object.keys(jb)])].filter((k) => JSON.stringify(ja[k]) !== JSON.stringify(jb[k]));
-  const show = (v: unknown) => (v === undefined ? '(none)' : JSON.stringify(v).slice(0, 40));
-  return keys.slice(0, 3).map((k) => `${k} ${show(ja[k])} → ${show(jb[k])}`).join(', ') + (keys.length > 3 ? ', …' : '');
-}
-
-/** A folder that may become a store: missing, empty, or holding a store. */
-/**
- * A folder that may hold a store: missing (made, `made` true), empty, or holding a store (`isNew`
- * false). @throws TidemarkError STORE_INVALID for a file or a folder holding other files.
- */
-function checkFolder(dir: string): { isNew: boolean; made: boolean } {
-  if (!existsSync(dir)) {
-    try {
-      mkdirSync(dir, { recursive: true });
-    } catch (e) {
-      throw new TidemarkError('FILE_UNWRITABLE', `cannot create the store folder (${(e as { code?: string }).code ?? 'error'})`, { file: dir }, 'Check the path and permissions');
-    }
-    return { isNew: true, made: true };
-  }
-  if (!statSync(dir).isDirectory()) throw new TidemarkError('STORE_INVALID', 'a store is a folder, and this is a file', { file: dir }, 'Give a new or empty folder, or a store folder');
-  if (existsSync(join(dir, STORE_FILE))) return { isNew: false, made: false };
-  const other = readdirSync(dir).filter((f) => f !== LOCK_FILE);
-  if (other.length) throw new TidemarkError('STORE_INVALID', `the folder is not a store and not empty (it holds ${other.length} file${other.length > 1 ? 's' : ''})`, { file: dir }, 'Give a new or empty folder for a new store');
-  return { isNew: true, made: false };
-}
-
-/** Undo a new store that failed: its database files, and the folder when the update made it. */
-function removeNewStore(dir: string, made: boolean): void {
-  for (const f of [STORE_FILE, `${STORE_FILE}.wal`]) rmSync(join(dir, f), { force: true });
-  if (made) {
-    try {
-      rmdirSync(dir);
-    } catch {
-      /* not empty: leave it */
-    }
-  }
-}
-
 const noStep = () => undefined;
 
 /**
@@ -241,7 +164,7 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
       const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
       if (fresh.length === 0 && !changed) {
         if (created) throw new TidemarkError('USAGE', 'no event file to start the store with', { key: '--events' }, 'For example --events week-01.csv');
-        return await unchanged(db, o.dir, info, rules, skipped);
+        return unchanged(o.dir, info, rules, skipped);
       }
       // 3. read the new files, recording their rows
       await db.run('BEGIN TRANSACTION');
@@ -253,7 +176,7 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
       const builder = new RecordingBuilder({ rules, skipBadRows: read.skipBadRows ?? false });
       const app = await db.appender('events');
       const limits = { ...DEFAULT_LIMITS, ...o.limits };
-      const applied: (AppliedFile & { shape: import('./record.js').FileShape; usedFrom: number; usedTo: number })[] = [];
+      const applied: (AppliedFile & { shape: FileShape; usedFrom: number; usedTo: number })[] = [];
       for (let i = 0; i < fresh.length; i++) {
         const f = fresh[i];
         const file = seq0 + i;
@@ -314,57 +237,13 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
       const late = !created && !changed && batch.size > 0 && minKey <= (oldLast as number);
       let mode: UpdateResult['mode'] = changed ? 'reclassify' : late ? 'rebuild' : 'extend';
       let restated: Restatement | null = null;
-      let state: Built;
+      let state!: Built;
       if (mode === 'extend' && !created) {
         state = await extendStored(db, info, rules, plan, batch);
       } else if (created) {
         state = fromLog(batch, rules, plan);
       } else {
-        const files = await storedFiles(db);
-        const skip = files.length > 0 && (read.skipBadRows || (await db.rows('SELECT bool_or(skip_bad_rows) AS s FROM applied_files'))[0].s === true);
-        let hook: StateHook | undefined;
-        let finishHook = () => 0;
-        const restatedFrom = late ? Math.max(minKey, oldStart as number) : 0;
-        if (late) {
-          // the classification before, over the periods the late events restate, user by user
-          const before = await replayLog(files.slice(0, files.length - fresh.length), rules, skip);
-          const span = (oldLast as number) - restatedFrom + 1;
-          const seen = new Map<string, Uint8Array>();
-          const priorUsers = new UserState();
-          fromLog(before.log, rules, plan, (u, key, code) => {
-            if (key < restatedFrom) return;
-            const id = priorUsers.ids[u];
-            let s = seen.get(id);
-            if (!s) seen.set(id, (s = new Uint8Array(span)));
-            s[key - restatedFrom] = code;
-          }, priorUsers);
-          const changedIds = new Set<string>();
-          const nowUsers = new UserState();
-          hook = (u, key, code) => {
-            if (key < restatedFrom || key > (oldLast as number)) return;
-            const id = nowUsers.ids[u];
-            const s = seen.get(id);
-            if (!s || s[key - restatedFrom] !== code) changedIds.add(id);
-          };
-          finishHook = () => changedIds.size;
-          const after = await replayLog(files, rules, skip);
-          state = fromLog(after.log, rules, plan, hook, nowUsers);
-          state.accounts = after.accounts;
-        } else {
-          const after = await replayLog(files, rules, skip);
-          state = fromLog(after.log, rules, plan);
-          state.accounts = after.accounts;
-        }
-        const label = (k: number) => periodLabel(k, scheme);
-        if (late) {
-          const periods: string[] = [];
-          for (let k = restatedFrom; k <= (oldLast as number); k++) periods.push(label(k));
-          const added: string[] = [];
-          for (let k = minKey; k < (oldStart as number); k++) added.push(label(k));
-          restated = { reason: 'late events', periods, added, usersChanged: finishHook() };
-        } else {
-          restated = { reason: 'new rules', periods: [...state.ledger.tables.periods], added: [], usersChanged: null };
-        }
+        ({ state, restated } = await rebuild(db, rules, plan, late ? { minKey, oldStart: oldStart as number, oldLast: oldLast as number, newFiles: fresh.length } : undefined, read.skipBadRows === true));
       }
       if (created) mode = 'extend';
       step('classified');
@@ -441,123 +320,13 @@ export async function updateStore(o: UpdateOptions): Promise<UpdateResult> {
   }
 }
 
-/** The state an update writes. */
-interface Built {
-  users: UserState;
-  ledger: Ledger;
-  totals: Totals;
-  /** Latest-period attributes of the users whose latest active period is new. */
-  attributes: Map<number, string>;
-  /** Set when the state was rebuilt from a whole log (its totals replace the stored ones). */
-  replaced?: EventLog;
-  log?: EventLog;
-  /** Each file's row account in a rebuild. */
-  accounts?: RowAccount[];
-}
-
-/** The whole state from one log (a new store, or a rebuild). */
-function fromLog(log: EventLog, rules: Rules, plan: LifecyclePlan, hook?: StateHook, users = new UserState()): Built {
-  const ledger: Ledger = { tables: emptyTables(rules, plan) };
-  let attributes = new Map<number, string>();
-  let minKey = Infinity, maxKey = -Infinity;
-  for (let i = 0; i < log.size; i++) {
-    const k = log.period[i];
-    if (k < minKey) minKey = k;
-    if (k > maxKey) maxKey = k;
-  }
-  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
-  let last = { label: '', coverage: 0, complete: true, rows: 0 };
-  if (log.size > 0) {
-    const { activity, uidOfLogUser } = periodActivity(log, users, rules.activity.minEvents, minKey, maxKey);
-    extend(ledger, users, rules, plan, activity, maxKey, hook);
-    attributes = latestAttributes(log, uidOfLogUser, users);
-    last = lastPeriodOf(log, maxKey, scheme);
-  }
-  const totals: Totals = {
-    rows: copyAccount(log.rows),
-    attributes: log.attributes.map((a) => a.name),
-    extremes: storedExtremes(log.extremes),
-    lastPeriod: { label: last.label, coverage: last.coverage, complete: last.complete },
-    rowsInLastPeriod: last.rows,
-  };
-  return { users, ledger, totals, attributes, replaced: log, log };
-}
-
-/** The state extended by a batch of events that all fall after the last stored period. */
-async function extendStored(db: Db, info: Map<string, string>, rules: Rules, plan: LifecyclePlan, batch: EventLog): Promise<Built> {
-  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
-  const users = await loadUsers(db, plan, scheme);
-  const ledger: Ledger = { startKey: Number(info.get('start_key')), lastKey: Number(info.get('last_key')), tables: JSON.parse(info.get('tables') as string) as WaistTables };
-  const old = JSON.parse(info.get('totals') as string) as Totals;
-  let attributes = new Map<number, string>();
-  const totals: Totals = {
-    rows: accountSum(old.rows, batch.rows),
-    attributes: [...old.attributes, ...batch.attributes.map((a) => a.name).filter((n) => !old.attributes.includes(n))],
-    extremes: mergeExtremes(old.extremes, storedExtremes(batch.extremes)),
-    lastPeriod: old.lastPeriod,
-    rowsInLastPeriod: old.rowsInLastPeriod,
-  };
-  if (batch.size > 0) {
-    let maxKey = -Infinity;
-    for (let i = 0; i < batch.size; i++) if (batch.period[i] > maxKey) maxKey = batch.period[i];
-    const { activity, uidOfLogUser } = periodActivity(batch, users, rules.activity.minEvents, (ledger.lastKey as number) + 1, maxKey);
-    extend(ledger, users, rules, plan, activity, maxKey);
-    attributes = latestAttributes(batch, uidOfLogUser, users);
-    const last = lastPeriodOf(batch, maxKey, scheme);
-    totals.lastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete };
-    totals.rowsInLastPeriod = last.rows;
-  }
-  return { users, ledger, totals, attributes, log: batch };
-}
-
-/** Replay stored files into a fresh log. */
-async function replayLog(files: Awaited<ReturnType<typeof storedFiles>>, rules: Rules, skipBadRows: boolean, detail = false): Promise<{ log: EventLog; accounts: RowAccount[] }> {
-  const builder = new EventLogBuilder({ rules, skipBadRows, detail });
-  const accounts = await replay(builder, files);
-  return { log: builder.build(), accounts };
-}
-
-/** Event names and attribute values: replaced by a rebuilt log's, or merged with a batch's. */
-async function writeTotalsTables(db: Db, batch: EventLog, replaced: EventLog | undefined): Promise<void> {
-  const log = replaced ?? batch;
-  if (replaced) {
-    await db.run('DELETE FROM event_names');
-    await db.run('DELETE FROM attribute_values');
-  }
-  await db.run('CREATE TABLE names_stage (name VARCHAR, rows BIGINT)');
-  let app = await db.appender('names_stage');
-  for (const [name, rows] of log.eventNames) {
-    app.appendVarchar(name);
-    app.appendBigInt(BigInt(rows));
-    app.endRow();
-  }
-  app.closeSync();
-  await db.run('CREATE TABLE names_next AS SELECT name, sum(rows)::BIGINT AS rows FROM (SELECT * FROM event_names UNION ALL SELECT * FROM names_stage) GROUP BY name');
-  await db.run('DROP TABLE event_names');
-  await db.run('DROP TABLE names_stage');
-  await db.run('ALTER TABLE names_next RENAME TO event_names');
-  await db.run('CREATE TABLE values_stage (attribute VARCHAR, value VARCHAR)');
-  app = await db.appender('values_stage');
-  for (const a of log.attributes) {
-    for (let v = 1; v < a.values.length; v++) {
-      app.appendVarchar(a.name);
-      app.appendVarchar(a.values[v]);
-      app.endRow();
-    }
-  }
-  app.closeSync();
-  await db.run('INSERT INTO attribute_values SELECT DISTINCT s.attribute, s.value FROM values_stage s WHERE NOT EXISTS (SELECT 1 FROM attribute_values a WHERE a.attribute = s.attribute AND a.value = s.value)');
-  await db.run('DROP TABLE values_stage');
-}
-
 /** Nothing new to apply: the store as it is. */
-async function unchanged(db: Db, dir: string, info: Map<string, string>, rules: Rules, skipped: SkippedFile[]): Promise<UpdateResult> {
+function unchanged(dir: string, info: Map<string, string>, rules: Rules, skipped: SkippedFile[]): UpdateResult {
   const tables = JSON.parse(info.get('tables') as string) as WaistTables;
   const manifest = JSON.parse(info.get('manifest') as string);
   const waist: Waist | null = manifest ? { manifest, tables } : null;
   const scheme = { grain: rules.grain, weekStart: rules.weekStart };
   const startKey = Number(info.get('start_key')), lastKey = Number(info.get('last_key'));
-  void db;
   return {
     store: dir,
     created: false,
