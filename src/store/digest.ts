@@ -68,8 +68,19 @@ export interface Digest {
 }
 
 /**
- * The digest of the latest period of a waist in full form.
- * @example digestOf(waist).active // users in an active state in the latest period
+ * The digest of the latest period of a waist in full form. Counts: the growth accounting of the latest
+ * transition (flows/growth.ts, common practice). Moves: each cell of the latest transition matrix
+ * against its mean over the previous {@link DIGEST_AVERAGE_OVER} transitions, the largest rise and fall
+ * in users (staying in the exit state left out). Retention: each prior state's retention into the
+ * latest period against the period before by the pooled two-proportion z-test, with Benjamini and
+ * Hochberg's (1995) step-up adjustment across the states tested (explain/retention.ts); a state is
+ * listed when its adjusted p ≤ {@link DIGEST_Q}. Throws nothing for a waist the reader accepts; with
+ * one period only, the moves and retention are empty.
+ * @example // the worked example of test/store/digest.test.ts: the last transition moves 25 users from
+ * // engaged to lapsing against 10, 12, 8, 10 before; newcomers' retention goes from 48/80 to 56/70
+ * digestOf(waist) // { active: 86, arrivals: 12, returns: 7, wentQuiet: 25,
+ *                 //   grew: { from: 'engaged', to: 'lapsing', users: 25, average: 10, change: 15, relative: 1.5 },
+ *                 //   retention: { tested: 3, significant: [{ state: 'fresh', p: 0.00805, pAdjusted: 0.0241, … }] }, … }
  */
 export function digestOf(w: Waist): Digest {
   const t = w.tables;

@@ -5,7 +5,7 @@
 import { createHash } from 'node:crypto';
 import { createReadStream, existsSync, mkdirSync, readdirSync, rmdirSync, rmSync, statSync } from 'node:fs';
 import { join } from 'node:path';
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 import { fileError } from '../ingest/source.js';
 import { parseRules } from '../rules/load.js';
 import type { Rules } from '../rules/schema.js';
@@ -48,7 +48,7 @@ export function rulesDifference(a: Rules, b: Rules): string {
   const ja = JSON.parse(rulesText(a)) as Record<string, unknown>;
   const jb = JSON.parse(rulesText(b)) as Record<string, unknown>;
   const keys = [...new Set([...Object.keys(ja), ...Object.keys(jb)])].filter((k) => JSON.stringify(ja[k]) !== JSON.stringify(jb[k]));
-  const show = (v: unknown) => (v === undefined ? '(none)' : JSON.stringify(v).slice(0, 40));
+  const show = (v: unknown) => (v === undefined ? '(none)' : showValue(JSON.stringify(v), 40));
   return keys.slice(0, 3).map((k) => `${k} ${show(ja[k])} → ${show(jb[k])}`).join(', ') + (keys.length > 3 ? ', …' : '');
 }
 

@@ -8,7 +8,7 @@
  */
 import { closeSync, openSync, readFileSync, statSync, unlinkSync, writeSync } from 'node:fs';
 import { join } from 'node:path';
-import { TidemarkError } from '../errors.js';
+import { TidemarkError, showValue } from '../errors.js';
 
 export const LOCK_FILE = 'update.lock';
 
@@ -63,7 +63,7 @@ export function takeLock(dir: string, now: Date = new Date()): () => void {
       }
       const h = holderOf(file);
       if (h && h.pid !== process.pid && processAlive(h.pid)) {
-        throw new TidemarkError('STORE_BUSY', `another update (pid ${h.pid}, started ${h.startedAt}) is running on this store`, { file },
+        throw new TidemarkError('STORE_BUSY', `another update (pid ${h.pid}, started ${showValue(h.startedAt, 40)}) is running on this store`, { file },
           'Wait for it to finish, then run this update again');
       }
       if (h && h.pid === process.pid) {
