@@ -92,6 +92,11 @@ export { fitCurves, cohortCurves, CURVE_MODEL, type CurveOutput } from './curve/
 export { writeReport } from './report/write.js';
 export { STATE_COLOURS } from './report/palette.js';
 
+// The store: the weekly routine
+export { updateStore, type UpdateOptions, type UpdateResult, type AppliedFile, type SkippedFile, type Restatement, type UpdateStep } from './store/update.js';
+export { readStore, storeEvents, type StoreRead, type StoreEvents } from './store/read.js';
+export { digestOf, digestLines, digestSection, type Digest, type DigestMove, type DigestRetentionChange } from './store/digest.js';
+
 // Output
 export { toCsv, spreadsheetSafe } from './output/csv.js';
 export { writeFileAtomic, replaceFolder, recoverFolder } from './output/atomic.js';

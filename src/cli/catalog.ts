@@ -118,6 +118,12 @@ export const CATALOG: readonly CatalogEntry[] = [
     load: async () => (await import('./commands/waist.js')).waistCommand,
   },
   {
+    name: 'update',
+    term: 'update [options]',
+    description: 'apply new event files to a store (created when missing) and print what changed since the last update',
+    load: async () => (await import('./commands/update.js')).updateCommand,
+  },
+  {
     name: 'demo',
     term: 'demo [options]',
     description: 'simulate a fictional makerspace booking log (about 20,000 members, 30 weeks) and run the main job on it',

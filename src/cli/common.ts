@@ -10,6 +10,7 @@ import type { Rules } from '../rules/schema.js';
 import { analysisWaist, partialPeriodSentence, withoutSplit, type DroppedPeriod } from '../waist/derive.js';
 import { readWaist } from '../waist/read.js';
 import type { Waist } from '../waist/types.js';
+import type { Digest } from '../store/digest.js';
 import { FORMATS, terminalText, type Format } from './format.js';
 import type { Io } from './io.js';
 import { dateOption, flagError, wholeNumber } from './options.js';
@@ -37,6 +38,8 @@ export interface CommonOptions {
   includePartial?: boolean;
   /** A waist folder to read instead of events (analysis commands). */
   waist?: string;
+  /** A store folder (tidemark update) to read instead of events (analysis commands). */
+  store?: string;
   /** The engine that reads the events. */
   engine?: string;
 }
@@ -47,9 +50,11 @@ export function addFormatOptions(cmd: Command, dflt: Format): Command {
     .option('--out <file>', 'write the result to a file instead of standard output');
 }
 
-/** Add --waist: an analysis reads a waist folder instead of events. */
+/** Add --waist and --store: an analysis reads a waist folder or a store instead of events. */
 export function addWaistOption(cmd: Command): Command {
-  return cmd.option('--waist <dir>', 'read a waist folder (tidemark waist, or the SQL of tidemark sql) instead of --events');
+  return cmd
+    .option('--waist <dir>', 'read a waist folder (tidemark waist, or the SQL of tidemark sql) instead of --events')
+    .option('--store <dir>', 'read a store (tidemark update) instead of --events: the same output as the events it applied');
 }
 
 /** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
@@ -160,6 +165,22 @@ const EVENT_ONLY: [keyof CommonOptions, string][] = [
   ['userColumn', '--user-column'], ['timestampColumn', '--timestamp-column'], ['eventColumn', '--event-column'], ['engine', '--engine'],
 ];
 
+/**
+ * The events a store applied, for the commands that need every event rather than its counts
+ * (audience, rules diff): exported to temporary files, read with the store's rules. The event options
+ * are refused (the store applied its events under its rules already); `keep` names options the
+ * command takes for itself; `check` sees the store's rules before any event is exported. Call
+ * `cleanup()` when done.
+ */
+export async function storeEventRun(o: CommonOptions, keep: readonly string[] = [], check?: (rules: Rules) => void): Promise<{ run: EventRun; rules: Rules; cleanup(): void }> {
+  if (o.waist !== undefined) throw new TidemarkError('USAGE', 'give either --store or --waist', { key: '--store' });
+  const given = EVENT_ONLY.filter(([k, f]) => !keep.includes(f) && o[k] !== undefined && o[k] !== false).map(([, f]) => f);
+  if (given.length) throw new TidemarkError('USAGE', `give either --store or ${given.join(', ')}: the store applied its events under its rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --store');
+  const { storeEvents } = await import('../store/read.js');
+  const { source, rules, cleanup } = await storeEvents(o.store as string, check);
+  return { run: { source, range: {}, flags: {} }, rules, cleanup };
+}
+
 /** What an analysis command reads: the waist it analyses (the incomplete last period left out or kept), and what was done. */
 export interface AnalysisInput {
   waist: Waist;
@@ -188,7 +209,19 @@ export async function analysisInput(o: CommonOptions, io: Io, spec: { partial: '
  * The waist in full form, all options checked before anything is read: from --waist DIR, or made by
  * the chosen engine from --events. `by`: the attribute split the command needs.
  */
-export async function waistInput(o: CommonOptions, spec: { by?: string; sections?: boolean } = {}, io?: Io): Promise<{ waist: Waist; flags: Record<string, string | undefined> }> {
+export async function waistInput(o: CommonOptions, spec: { by?: string; sections?: boolean } = {}, io?: Io): Promise<{ waist: Waist; flags: Record<string, string | undefined>; digest?: Digest }> {
+  if (o.store !== undefined) {
+    // ── the store (src/store): its waist so far, as --waist would give it, and its digest ──
+    if (o.waist !== undefined) throw new TidemarkError('USAGE', 'give either --store or --waist', { key: '--store' });
+    const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
+    if (given.length) throw new TidemarkError('USAGE', `give either --store or ${given.join(', ')}: the store applied its events under its rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --store');
+    if (spec.by !== undefined) {
+      throw new TidemarkError('USAGE', `a store holds no split by an attribute, so --by ${showValue(spec.by, 40)} needs events`, { key: '--by' }, 'Give --events');
+    }
+    const { readStore } = await import('../store/read.js');
+    const { waist, digest } = await readStore(o.store, { sections: spec.sections });
+    return { waist, flags: {}, digest };
+  }
   if (o.waist !== undefined) {
     const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
     if (given.length) throw new TidemarkError('USAGE', `give either --waist or ${given.join(', ')}: a waist was made from its events and rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --waist');
@@ -200,7 +233,7 @@ export async function waistInput(o: CommonOptions, spec: { by?: string; sections
     }
     return { waist: spec.by === undefined ? withoutSplit(read) : read, flags: {} };
   }
-  if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log or waist given', { key: '--events' }, 'For example --events events.csv, or --waist DIR');
+  if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log, waist or store given', { key: '--events' }, 'For example --events events.csv, --waist DIR or --store DIR');
   const rules = resolveRules(o);
   const run = eventRun(o, rules, spec.by);
   if (spec.sections && (o.engine ?? 'memory') === 'memory') {

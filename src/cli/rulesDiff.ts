@@ -7,7 +7,8 @@ import { createEngine } from '../engines/index.js';
 import { TidemarkError, escapeControls, showValue } from '../errors.js';
 import { resolveRules as resolveRulesFile } from '../rules/resolve.js';
 import { partialPeriodSentence } from '../waist/derive.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, partialJson, rowLine, type CommonOptions } from './common.js';
+import type { Rules } from '../rules/schema.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, partialJson, rowLine, storeEventRun, type CommonOptions, type EventRun } from './common.js';
 import { emit, json, pct, textTable, toCsv, wrapProse, type Format } from './format.js';
 import type { Io } from './io.js';
 import { flagError } from './options.js';
@@ -117,16 +118,28 @@ export interface RulesDiffOptions extends CommonOptions {}
 
 export async function runRulesDiff(fileA: string, fileB: string, o: RulesDiffOptions, io: Io): Promise<void> {
   if (o.rules !== undefined) throw new TidemarkError('USAGE', 'the two rules files are the arguments A and B', { key: '--rules' }, 'For example: tidemark rules diff rules/weekly.yaml my-rules.yaml --events events.csv');
-  const columns = { user: o.userColumn, timestamp: o.timestampColumn, event: o.eventColumn };
-  const a = { file: fileA, rules: resolveRulesFile({ file: fileA, columns }) };
-  const b = { file: fileB, rules: resolveRulesFile({ file: fileB, columns }) };
-  const run = eventRun(o, a.rules);
-  if (run.source.kind === 'files') checkReadTwice(run.source.files);
+  const sides = (columns: Partial<Rules['columns']>) => ({
+    a: { file: fileA, rules: resolveRulesFile({ file: fileA, columns }) },
+    b: { file: fileB, rules: resolveRulesFile({ file: fileB, columns }) },
+  });
+  let a: ReturnType<typeof sides>['a'], b: ReturnType<typeof sides>['b'];
+  let run: EventRun;
+  let cleanup = () => {};
+  if (o.store !== undefined) {
+    // the store's events, exported under its column names: A and B read them with those names
+    ({ run, cleanup } = await storeEventRun(o, [], (stored) => ({ a, b } = sides(stored.columns))));
+  } else {
+    ({ a, b } = sides({ user: o.userColumn, timestamp: o.timestampColumn, event: o.eventColumn }));
+    run = eventRun(o, a.rules);
+    if (run.source.kind === 'files') checkReadTwice(run.source.files);
+  }
   let result: Awaited<ReturnType<typeof diffRules>>;
   try {
-    result = await diffRules(createEngine(o.engine), run.source, a, b, run.range, { includePartial: o.includePartial });
+    result = await diffRules(createEngine(o.engine), run.source, a!, b!, run.range, { includePartial: o.includePartial });
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    cleanup();
   }
   const { diff, runs } = result;
   const partial = (r: SideRun) => partialJson(r);
@@ -152,5 +165,6 @@ export async function runRulesDiff(fileA: string, fileB: string, o: RulesDiffOpt
 
 /** Give the `rules diff` command (declared in commands/rules.ts) its options and action. */
 export function configureRulesDiff(cmd: Command, io: Io): void {
+  cmd.option('--store <dir>', 'read the events a store (tidemark update) applied instead of --events');
   addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((fa: string, fb: string, opts: RulesDiffOptions) => runRulesDiff(fa, fb, opts, io));
 }

@@ -50,6 +50,8 @@ export interface ReportOptions {
   sections?: ReportSection[];
   /** Named scenarios (`NAME=edits`) compared with the baseline projection. */
   scenarios?: string[];
+  /** A report from a store: what changed in the latest period (store/digest.ts), shown first. */
+  digest?: ReportSection;
 }
 
 export interface Finding {
@@ -123,7 +125,7 @@ export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
 
   warnings.push(...result.warnings);
   // ── hook: sections from the event analyses (report/sections/), built by the caller from the same read ──
-  const sections = o.sections ?? [];
+  const sections = [...(o.digest ? [o.digest] : []), ...(o.sections ?? [])];
   const checkWarnings = sections.filter((s) => s.placement === 'first').reduce((n, s) => n + s.warnings.length, 0);
   if (checkWarnings) warnings.unshift(`The data check found ${plural(checkWarnings, 'problem')} with the data (see its section, first on the page): read every number below with ${checkWarnings === 1 ? 'it' : 'them'} in mind.`);
   // ── end of hook ──

@@ -8,7 +8,7 @@ import { parseWhere } from '../../audience/where.js';
 import type { EventSource, RangeOptions } from '../../engines/types.js';
 import { TidemarkError, showValue } from '../../errors.js';
 import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, partialJson, resolveRules, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, partialJson, resolveRules, storeEventRun, type CommonOptions } from '../common.js';
 import { emit, json, textTable, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 import { asFlags, dateOption, flagError } from '../options.js';
@@ -69,11 +69,16 @@ function asked(entry: EntrySpec, list: Pick<AudienceList, 'period' | 'where'>): 
   return `${entry.entered} at ${list.period}${from}${where}`;
 }
 
-/** What the list is read from: the events and the rules (a state store would give both). */
-function audienceSource(o: AudienceCliOptions): { source: EventSource; rules: Rules; range: RangeOptions; flags: Record<string, string | undefined> } {
+/** What the list is read from: the events and the rules, or a store's events and rules (--store). */
+async function audienceSource(o: AudienceCliOptions, check: (rules: Rules) => void): Promise<{ source: EventSource; rules: Rules; range: RangeOptions; flags: Record<string, string | undefined>; cleanup(): void }> {
+  if (o.store !== undefined) {
+    const { run, rules, cleanup } = await storeEventRun(o, [], check);
+    return { source: run.source, rules, range: run.range, flags: run.flags, cleanup };
+  }
   const rules = resolveRules(o);
   const run = eventRun(o, rules);
-  return { source: run.source, rules, range: run.range, flags: run.flags };
+  check(rules);
+  return { source: run.source, rules, range: run.range, flags: run.flags, cleanup: () => {} };
 }
 
 export async function runAudience(o: AudienceCliOptions, io: Io): Promise<void> {
@@ -84,16 +89,19 @@ export async function runAudience(o: AudienceCliOptions, io: Io): Promise<void> 
   const period = dateOption(o.period, '--period');
   if (period === undefined) throw new TidemarkError('USAGE', 'which period? give a date inside it', { key: '--period' }, 'For example --period 2026-09-14');
   if (o.entered === undefined) throw new TidemarkError('USAGE', 'which state? give the state the users entered', { key: '--entered' }, 'For example --entered dormant');
-  const input = audienceSource(o);
-  const entry = asFlags(() => entrySpec(input.rules, String(o.entered), o.fromState), { entered: '--entered', fromState: '--from-state' });
   const where = asFlags(() => parseWhere(o.where), { where: '--where' });
   const key = o.pseudonymise === undefined ? undefined : readKeyFile(o.pseudonymise);
-
+  let entry!: EntrySpec;
+  const input = await audienceSource(o, (rules) => {
+    entry = asFlags(() => entrySpec(rules, String(o.entered), o.fromState), { entered: '--entered', fromState: '--from-state' });
+  });
   let result: Awaited<ReturnType<typeof audienceFromEvents>>;
   try {
     result = await audienceFromEvents(input.source, input.rules, input.range, { period, entry, where, key, includePartial: o.includePartial });
   } catch (e) {
     throw flagError(e, { ...input.flags, period: '--period', where: '--where' });
+  } finally {
+    input.cleanup();
   }
   const { list, waist, dropped } = result;
   emit(formatAudience(list, o.format, partialJson({ waist, dropped })), o.out, io);
@@ -116,6 +124,7 @@ export function audienceCommand(program: Command, io: Io): void {
     .option('--from-state <state>', 'keep only users whose state the period before was this one')
     .option('--where <column=value>', 'keep users whose value in the period is this one; repeatable (same column: any of the values; different columns: all); "column=" keeps users with no value', (v: string, acc: string[]) => [...acc, v], [] as string[])
     .option('--pseudonymise <key-file>', 'write HMAC-SHA-256 pseudonyms (hex) instead of user ids, keyed by the bytes of this file (at least 32)')
+    .option('--store <dir>', 'list from a store (tidemark update): its events, under its rules, instead of --events')
     .option('--waist <dir>', 'not available: audience lists users and needs events (a waist holds only counts)');
   addFormatOptions(addPartialOption(addEventOptions(cmd)), 'csv').action((opts: AudienceCliOptions) => runAudience(opts, io));
 }

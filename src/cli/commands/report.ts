@@ -3,6 +3,7 @@ import type { Command } from 'commander';
 import type { ReportModel } from '../../report/build.js';
 import { reportOf } from '../../report/run.js';
 import { comparisonText, lineText } from '../../report/story.js';
+import { digestSection } from '../../store/digest.js';
 import { analysisWaist } from '../../waist/derive.js';
 import { writeReport } from '../../report/write.js';
 import { ansiState } from '../../report/palette.js';
@@ -58,12 +59,12 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const bar = progress(io, o.format !== 'json', 4);
   try {
     bar.step('reading and classifying', 0);
-    const { waist: full, flags } = await waistInput(o as CommonOptions, { by: o.by, sections: true });
+    const { waist: full, flags, digest } = await waistInput(o as CommonOptions, { by: o.by, sections: true });
     bar.step('analysing', 2);
     const hint = periodFlagHint(analysisWaist(full, { includePartial: o.includePartial }), { base, compare });
     // with --waist the states and moves a scenario may name come from its manifest
     const scenarios = early ?? scenarioOption(o.scenario ?? [], '--scenario', full.tables.states, horizon, lifecycleMoves(full.manifest.rules));
-    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial, scenarios }), { ...flags, base: '--base', compare: '--compare', scenarios: '--scenario' }, hint);
+    const { model, waist } = asFlags(() => reportOf(full, { base, compare, horizon, seed, includePartial: o.includePartial, scenarios, ...(digest ? { digest: digestSection(digest) } : {}) }), { ...flags, base: '--base', compare: '--compare', scenarios: '--scenario' }, hint);
     bar.step('drawing charts', 3);
     const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
     bar.stop();
