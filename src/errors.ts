@@ -20,7 +20,9 @@ export type ErrorCode =
   | 'RANGE_INVALID' // --from/--to or a period range is wrong
   | 'MATRIX_INVALID' // a transition matrix breaks a precondition
   | 'INPUT_INVALID' // any other bad input value
-  | 'NOT_ENOUGH_DATA'; // the data are valid but too few for the analysis asked for
+  | 'NOT_ENOUGH_DATA' // the data are valid but too few for the analysis asked for
+  | 'STORE_BUSY' // another process is updating the store (src/store)
+  | 'STORE_INVALID'; // a folder that is no store, or a store this tidemark cannot read
 
 /** Where an error was found: any of a file, a 1-based line, a column name, a key path. */
 export interface ErrorLocation {

@@ -3,10 +3,10 @@
  * re-exported are internal.
  *
  * @example
- * import { loadRulesFile, MemoryEngine, summariseFlows, explainRetention } from 'tidemark';
- * const rules = loadRulesFile('rules/weekly.yaml');
- * const { waist } = await new MemoryEngine().run({ files: ['events.csv'] }, rules);
- * summariseFlows(waist).transitions.at(-1)?.retention;
+ * import { resolveRules, createEngine, filesSource, analysisWaist, summariseFlows } from 'tidemark';
+ * const rules = resolveRules({ file: 'rules/weekly.yaml' });
+ * const { waist } = await createEngine('memory').run(filesSource(['events.csv']), rules);
+ * summariseFlows(analysisWaist(waist).waist.tables).transitions.at(-1)?.retention;
  */
 
 // Errors
@@ -18,7 +18,7 @@ export { rulesSchema, rulesJsonSchema, type Rules, type RulesInput, type Grain, 
 
 // Input and periods
 export { readEvents, type EventFormat, type ReadEventsOptions } from './ingest/read.js';
-export type { EventLog, RowAccount } from './ingest/eventLog.js';
+export type { EventLog, LineAccount, RejectReason, RowAccount } from './ingest/eventLog.js';
 export { periodKeyOfDay, periodLabel, periodStartDay, type PeriodScheme } from './periods/calendar.js';
 
 // Lifecycle
@@ -29,9 +29,20 @@ export { columnUniqueness, perPersonColumns, checkSplitColumn, PER_PERSON_SHARE,
 export { lifecycleMoves, type LifecycleMoves, type Move } from './lifecycle/moves.js';
 
 // Engines and the waist tables
-export { MemoryEngine, runOnLog } from './engines/memory.js';
-export type { Engine, EngineResult, EventSource, RangeOptions, ClassifiedRow, LastPeriod } from './engines/types.js';
-export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow } from './flows/types.js';
+export { MemoryEngine, runOnLog, streamClassified } from './engines/memory/index.js';
+export { createEngine, ENGINE_NAMES, type EngineName } from './engines/index.js';
+export { filesSource, type Engine, type EngineRun, type EventSource, type RangeOptions, type ClassifiedSink, type LastPeriod } from './engines/types.js';
+
+// The waist: the published contract between engines and analyses
+export { WAIST_FORMAT, WAIST_VERSION, waistManifestSchema, waistManifestJsonSchema, type WaistManifest, type StateInfo } from './waist/manifest.js';
+export type { Waist } from './waist/types.js';
+export { readWaist, parseManifest } from './waist/read.js';
+export { writeWaist, waistFiles } from './waist/write.js';
+export { analysisWaist, partialPeriodSentence, type DroppedPeriod } from './waist/derive.js';
+export { WAIST_TABLES, type TableSpec } from './waist/tables.js';
+export { makeManifest, type ManifestInput } from './waist/build.js';
+export { resolveRules, DEFAULT_RULES, type RulesChoice } from './rules/resolve.js';
+export type { WaistTables, TransitionCounts, RetentionCell, CohortRow, DurationRow, SegmentFlows } from './flows/types.js';
 
 // Flows
 export { summariseFlows, type FlowsSummary, type TransitionSummary, type PooledSummary } from './flows/summary.js';
@@ -65,10 +76,26 @@ export { survivalCurves, type SurvivalOutput } from './survival/run.js';
 export { fitSbg, sbgSurvival, type SbgFit } from './curve/sbg.js';
 export { cohortSurvivors } from './curve/survivors.js';
 
+// Audience lists (who entered a state) and the rules comparison
+export { entrySpec, entryNames, type EntrySpec, type EntryRules } from './audience/entry.js';
+export { audienceOf, type AudienceList, type AudienceRow, type AudienceQuery } from './audience/list.js';
+export { audienceFromEvents, type AudienceRun } from './audience/run.js';
+export { pseudonym, readKeyFile, MIN_KEY_BYTES } from './audience/pseudonym.js';
+export { parseWhere, type WhereClause } from './audience/where.js';
+export { diffRules, rulesChanges, checkComparable, type RulesDiff, type RulesChange } from './compare/run.js';
+export { headlinesOf, type Headlines } from './compare/headlines.js';
+
 // Report
 export { buildReport, type ReportModel, type ReportOptions } from './report/build.js';
+export { reportOf, type ReportJobOptions } from './report/run.js';
+export { fitCurves, cohortCurves, CURVE_MODEL, type CurveOutput } from './curve/run.js';
 export { writeReport } from './report/write.js';
 export { STATE_COLOURS } from './report/palette.js';
+
+// The store: the weekly routine
+export { updateStore, type UpdateOptions, type UpdateResult, type AppliedFile, type SkippedFile, type Restatement, type UpdateStep } from './store/update.js';
+export { readStore, storeEvents, type StoreRead, type StoreEvents } from './store/read.js';
+export { digestOf, digestLines, digestSection, type Digest, type DigestMove, type DigestRetentionChange } from './store/digest.js';
 
 // Output
 export { toCsv, spreadsheetSafe } from './output/csv.js';

@@ -1,19 +1,24 @@
-/** Options shared by the commands that read events. */
-import { fileURLToPath } from 'node:url';
+/** Options shared by the commands that read events or a waist. */
+import { readFileSync } from 'node:fs';
 import { Command, Option } from 'commander';
 import { TidemarkError, escapeControls, showValue } from '../errors.js';
-import { MemoryEngine } from '../engines/memory.js';
-import type { ClassifiedRow, EngineResult, EventSource, LastPeriod, RangeOptions } from '../engines/types.js';
+import { createEngine, ENGINE_NAMES } from '../engines/index.js';
+import { filesSource, type ClassifiedSink, type EngineRun, type EventSource, type RangeOptions } from '../engines/types.js';
 import type { RowAccount } from '../ingest/eventLog.js';
 import { periodKeyOfDate } from '../periods/calendar.js';
-import { loadRulesFile } from '../rules/load.js';
+import { DEFAULT_RULES, resolveRules as resolveRulesFile } from '../rules/resolve.js';
 import type { Rules } from '../rules/schema.js';
+import { analysisWaist, partialPeriodSentence, withoutSplit, type DroppedPeriod } from '../waist/derive.js';
+import { readWaist } from '../waist/read.js';
+import type { Waist } from '../waist/types.js';
+import type { Digest } from '../store/digest.js';
 import { FORMATS, terminalText, type Format } from './format.js';
 import type { Io } from './io.js';
 import { dateOption, flagError, wholeNumber } from './options.js';
+import { runProgress } from './progress.js';
 
-/** The packaged weekly rules, used when --rules is not given. */
-export const DEFAULT_RULES = fileURLToPath(new URL('../../rules/weekly.yaml', import.meta.url));
+export { DEFAULT_RULES };
+
 
 export interface CommonOptions {
   events: string[];
@@ -24,7 +29,7 @@ export interface CommonOptions {
   to?: string;
   warmup?: string;
   skipBadRows?: boolean;
-  inputFormat?: 'csv' | 'ndjson';
+  inputFormat?: 'csv' | 'ndjson' | 'parquet';
   delimiter?: string;
   userColumn?: string;
   timestampColumn?: string;
@@ -32,6 +37,18 @@ export interface CommonOptions {
   quiet?: boolean;
   /** Keep an incomplete last period (commands with --include-partial). */
   includePartial?: boolean;
+  /** A waist folder to read instead of events (analysis commands). */
+  waist?: string;
+  /** A store folder (tidemark update) to read instead of events (analysis commands). */
+  store?: string;
+  /** The engine that reads the events. */
+  engine?: string;
+  /** A DuckDB database file or a postgres:// URL (engines duckdb and postgres). */
+  db?: string;
+  /** A table or view in --db holding the events. */
+  table?: string;
+  /** A file holding one SELECT on --db whose rows are the events (engine postgres). */
+  query?: string;
 }
 
 export function addFormatOptions(cmd: Command, dflt: Format): Command {
@@ -40,17 +57,28 @@ export function addFormatOptions(cmd: Command, dflt: Format): Command {
     .option('--out <file>', 'write the result to a file instead of standard output');
 }
 
+/** Add --waist and --store: an analysis reads a waist folder or a store instead of events. */
+export function addWaistOption(cmd: Command): Command {
+  return cmd
+    .option('--waist <dir>', 'read a waist folder (tidemark waist, or the SQL of tidemark sql) instead of --events')
+    .option('--store <dir>', 'read a store (tidemark update) instead of --events: the same output as the events it applied');
+}
+
 /** Add the options of commands that read events; `withEvents` false when the command declares --events itself. */
 export function addEventOptions(cmd: Command, withEvents = true): Command {
   // checked in sourceOf rather than as a required option, so that a misspelt option is reported as such
-  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV or NDJSON (by extension); required');
+  if (withEvents) cmd.option('--events <files...>', 'event log(s): CSV, NDJSON (either may be .gz) or Parquet, by extension; required');
   return cmd
+    .addOption(new Option('--engine <name>', 'the engine that reads the events').choices(ENGINE_NAMES as unknown as string[]))
     .option('--rules <file>', 'rules file (YAML); default: the packaged rules/weekly.yaml')
     .option('--from <date>', 'first period to output (YYYY-MM-DD inside it); earlier events still shape states')
     .option('--to <date>', 'last period to analyse (YYYY-MM-DD inside it); later events are ignored')
     .option('--warmup <n>', 'leading periods classified but left out of flows and retention (overrides the rules)')
+    .option('--db <file|url>', 'read the events from a database instead of --events: a DuckDB file (--engine duckdb) or postgres://… (--engine postgres)')
+    .option('--table <name>', 'the table or view in --db holding the events')
+    .option('--query <file>', 'a file holding one SELECT on --db whose rows are the events (--engine postgres)')
     .option('--skip-bad-rows', 'skip and count bad rows instead of stopping at the first')
-    .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell').choices(['csv', 'ndjson']))
+    .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell (gzip is recognised by itself)').choices(['csv', 'ndjson', 'parquet']))
     .option('--delimiter <char>', 'CSV field delimiter (default ","; use "\\t" for tab)')
     .option('--user-column <name>', 'column holding the user id (overrides the rules)')
     .option('--timestamp-column <name>', 'column holding the event time (overrides the rules)')
@@ -60,31 +88,62 @@ export function addEventOptions(cmd: Command, withEvents = true): Command {
 
 /** Rules from --rules (or the default), with column overrides from the command line applied. */
 export function resolveRules(o: CommonOptions): Rules {
-  const rules = loadRulesFile(o.rules ?? DEFAULT_RULES);
-  return {
-    ...rules,
-    columns: {
-      user: o.userColumn ?? rules.columns.user,
-      timestamp: o.timestampColumn ?? rules.columns.timestamp,
-      event: o.eventColumn ?? rules.columns.event,
-    },
-  };
+  return resolveRulesFile({ file: o.rules, columns: { user: o.userColumn, timestamp: o.timestampColumn, event: o.eventColumn } });
 }
 
-export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter'>): EventSource {
+export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter' | 'engine' | 'db' | 'table' | 'query'>): EventSource {
+  if (o.db !== undefined || o.table !== undefined || o.query !== undefined) return databaseSource(o);
+  if ((o.engine ?? 'memory') === 'postgres') {
+    throw new TidemarkError('USAGE', 'reads a table or a query on a PostgreSQL server, not event files', { key: '--engine' }, 'For example --engine postgres --db postgres://user@host/db --table events');
+  }
   if (!o.events || o.events.length === 0) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
   const delimiter = o.delimiter === '\\t' || o.delimiter === 'tab' ? '\t' : o.delimiter;
-  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
-    throw new TidemarkError('USAGE', `must be one character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' }, "For example --delimiter ';' or --delimiter '\\t'");
+  if (delimiter !== undefined && (delimiter.length !== 1 || delimiter.charCodeAt(0) > 127 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
+    throw new TidemarkError('USAGE', `must be one ASCII character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' }, "For example --delimiter ';' or --delimiter '\\t'");
   }
-  return { files: o.events, format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter };
+  return filesSource(o.events, { format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter });
+}
+
+const POSTGRES_URL = /^postgres(ql)?:\/\//i;
+
+/**
+ * A table or query in a database as the source, every option checked before anything is read:
+ * --table or --query (one of them) with --db, an engine that reads databases, a URL for postgres and
+ * a file for duckdb, no --events beside them.
+ */
+function databaseSource(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter' | 'engine' | 'db' | 'table' | 'query'>): EventSource {
+  const engine = o.engine ?? 'memory';
+  if (o.table !== undefined && o.query !== undefined) throw new TidemarkError('USAGE', 'give either --table or --query, not both', { key: '--query' });
+  const what = o.table !== undefined ? '--table' : o.query !== undefined ? '--query' : undefined;
+  if (what === undefined) throw new TidemarkError('USAGE', 'needs --table NAME (or --query FILE with --engine postgres)', { key: '--db' }, 'For example --db events.duckdb --table events --engine duckdb');
+  if (o.db === undefined) throw new TidemarkError('USAGE', 'needs --db: the database to read it from', { key: what }, 'For example --db events.duckdb, or --db postgres://user@host/db');
+  if (o.events !== undefined) throw new TidemarkError('USAGE', 'give either --events or --db, not both', { key: '--db' });
+  const given = ([['inputFormat', '--input-format'], ['delimiter', '--delimiter']] as const).find(([k]) => o[k] !== undefined);
+  if (given) throw new TidemarkError('USAGE', 'applies to event files, not a database', { key: given[1] });
+  if (engine === 'memory') {
+    throw new TidemarkError('USAGE', `${what} needs an engine that reads databases: the memory engine reads event files`, { key: '--engine' }, POSTGRES_URL.test(o.db) ? 'Add --engine postgres' : 'Add --engine duckdb');
+  }
+  const url = POSTGRES_URL.test(o.db);
+  if (engine === 'postgres' && !url) throw new TidemarkError('USAGE', `the postgres engine needs a server URL, not '${showValue(o.db, 60)}'`, { key: '--db' }, 'For example --db postgres://user@host:5432/db');
+  if (engine === 'duckdb' && url) throw new TidemarkError('USAGE', 'the duckdb engine reads a DuckDB database file, not a server', { key: '--db' }, 'Use --engine postgres for a PostgreSQL server');
+  if (o.query !== undefined) {
+    if (engine !== 'postgres') throw new TidemarkError('USAGE', 'needs --engine postgres (with DuckDB, make the query a view and give it as --table)', { key: '--query' });
+    let text: string;
+    try {
+      text = readFileSync(o.query, 'utf8');
+    } catch {
+      throw new TidemarkError('FILE_NOT_FOUND', 'cannot read the query file', { file: o.query }, 'Give a file holding one SELECT');
+    }
+    return { kind: 'query', db: o.db, query: text, skipBadRows: o.skipBadRows };
+  }
+  return { kind: 'table', db: o.db, table: o.table as string, skipBadRows: o.skipBadRows };
 }
 
 /**
  * The range options, checked before reading: --from and --to are dates, in order, --warmup a whole
  * number. Commands with --include-partial leave an incomplete last period out unless it is given.
  */
-export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup' | 'includePartial'>, rules?: Pick<Rules, 'grain' | 'weekStart'>, leaveOutPartial = false): RangeOptions {
+export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup'>, rules?: Pick<Rules, 'grain' | 'weekStart'>): RangeOptions {
   const from = dateOption(o.from, '--from');
   const to = dateOption(o.to, '--to');
   if (from !== undefined && to !== undefined && rules) {
@@ -94,7 +153,7 @@ export function rangeOf(o: Pick<CommonOptions, 'from' | 'to' | 'warmup' | 'inclu
     }
   }
   const warmup = o.warmup === undefined ? undefined : wholeNumber(o.warmup, '--warmup', 0);
-  return { from, to, warmup, partial: leaveOutPartial && !o.includePartial ? 'drop' : 'keep' };
+  return { from, to, warmup };
 }
 
 export function intOption(text: string, name: string, min: number, max?: number): number {
@@ -114,72 +173,153 @@ export interface EventRun {
   flags: Record<string, string | undefined>;
 }
 
+/** Check every shared event option before any event is read. */
+export function eventRun(o: CommonOptions, rules: Rules, by?: string): EventRun {
+  const range = { ...rangeOf(o, rules), by, allowPerPersonColumn: (o as { publishPerPersonValues?: boolean }).publishPerPersonValues };
+  return { source: sourceOf(o), range, flags: rangeFlags(o, { by: by === undefined ? undefined : '--by', engine: '--engine' }) };
+}
+
 /**
- * Check every shared event option before any event is read. `leaveOutPartial`: the command leaves an
- * incomplete last period out unless --include-partial is given.
+ * Run the chosen engine on checked options; a range error that needs the data names its flag. With
+ * `io`, progress goes to standard error while it runs, when that is a terminal and the output is not
+ * JSON (and not --quiet).
  */
-export function eventRun(o: CommonOptions, rules: Rules, leaveOutPartial: boolean, by?: string): EventRun {
-  const range = { ...rangeOf(o, rules, leaveOutPartial), by, allowPerPersonColumn: (o as { publishPerPersonValues?: boolean }).publishPerPersonValues };
-  return { source: sourceOf(o), range, flags: rangeFlags(o, { by: by === undefined ? undefined : '--by' }) };
-}
-
-/** Run the in-memory engine on checked options; a range error that needs the data names its flag. */
-export async function runEngine(run: EventRun, rules: Rules): Promise<EngineResult> {
+export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'quiet'>, run: EventRun, rules: Rules, io?: Io): Promise<EngineRun> {
+  const bar = io ? runProgress(io, o.format !== 'json' && !o.quiet) : undefined;
   try {
-    return await new MemoryEngine().run(run.source, rules, run.range);
+    return await createEngine(o.engine, { onProgress: bar?.onProgress }).run(run.source, rules, run.range);
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    bar?.stop();
   }
 }
 
-/** As {@link runEngine}, with the classified rows. */
-export async function runClassifyEngine(run: EventRun, rules: Rules): Promise<{ rows: ClassifiedRow[]; result: EngineResult }> {
+/** As {@link runEngine}, streaming the classification to `sink`. */
+export async function runClassifyEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'quiet'>, run: EventRun, rules: Rules, sink: ClassifiedSink, io?: Io): Promise<EngineRun> {
+  const bar = io ? runProgress(io, o.format !== 'json' && !o.quiet) : undefined;
   try {
-    return await new MemoryEngine().classify(run.source, rules, run.range);
+    return await createEngine(o.engine, { onProgress: bar?.onProgress }).classify(run.source, rules, run.range, sink);
   } catch (e) {
     throw flagError(e, run.flags);
+  } finally {
+    bar?.stop();
   }
+}
+
+/** The event options that make no sense with --waist (the waist was made with them already). */
+const EVENT_ONLY: [keyof CommonOptions, string][] = [
+  ['events', '--events'], ['rules', '--rules'], ['from', '--from'], ['to', '--to'], ['warmup', '--warmup'],
+  ['skipBadRows', '--skip-bad-rows'], ['inputFormat', '--input-format'], ['delimiter', '--delimiter'],
+  ['userColumn', '--user-column'], ['timestampColumn', '--timestamp-column'], ['eventColumn', '--event-column'], ['engine', '--engine'],
+  ['db', '--db'], ['table', '--table'], ['query', '--query'],
+];
+
+/**
+ * The events a store applied, for the commands that need every event rather than its counts
+ * (audience, rules diff): exported to temporary files, read with the store's rules. The event options
+ * are refused (the store applied its events under its rules already); `keep` names options the
+ * command takes for itself; `check` sees the store's rules before any event is exported. Call
+ * `cleanup()` when done.
+ */
+export async function storeEventRun(o: CommonOptions, keep: readonly string[] = [], check?: (rules: Rules) => void): Promise<{ run: EventRun; rules: Rules; cleanup(): void }> {
+  if (o.waist !== undefined) throw new TidemarkError('USAGE', 'give either --store or --waist', { key: '--store' });
+  const given = EVENT_ONLY.filter(([k, f]) => !keep.includes(f) && o[k] !== undefined && o[k] !== false).map(([, f]) => f);
+  if (given.length) throw new TidemarkError('USAGE', `give either --store or ${given.join(', ')}: the store applied its events under its rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --store');
+  const { storeEvents } = await import('../store/read.js');
+  const { source, rules, cleanup } = await storeEvents(o.store as string, check);
+  return { run: { source, range: {}, flags: {} }, rules, cleanup };
+}
+
+/** What an analysis command reads: the waist it analyses (the incomplete last period left out or kept), and what was done. */
+export interface AnalysisInput {
+  waist: Waist;
+  /** The incomplete last period that was left out. */
+  dropped?: DroppedPeriod;
+  /** Library keys of the options, and their flags, for errors found after reading. */
+  flags: Record<string, string | undefined>;
+}
+
+/**
+ * The waist an analysis reads, all options checked before anything is read: from --waist DIR, or
+ * made by the engine from --events. `partial`: 'drop' leaves an incomplete last period out unless
+ * --include-partial; 'keep' keeps it (flows, classify). `by`: the attribute split the command needs.
+ * Prints the row accounting, data warnings and the partial-period note on standard error.
+ */
+export async function analysisInput(o: CommonOptions, io: Io, spec: { partial: 'drop' | 'keep'; by?: string }): Promise<AnalysisInput> {
+  const { waist: full, flags } = await waistInput(o, spec, io);
+  const { waist, dropped } = analysisWaist(full, { includePartial: spec.partial === 'keep' || o.includePartial });
+  noteRun(io, o, waist.manifest);
+  const s = partialPeriodSentence(waist, dropped, { leaveOut: spec.partial === 'drop', asked: Boolean(o.includePartial) });
+  if (s) note(io, o, `note: ${s.charAt(0).toLowerCase()}${s.slice(1)}`);
+  return { waist, dropped, flags };
+}
+
+/**
+ * The waist in full form, all options checked before anything is read: from --waist DIR, or made by
+ * the chosen engine from --events. `by`: the attribute split the command needs.
+ */
+export async function waistInput(o: CommonOptions, spec: { by?: string; sections?: boolean } = {}, io?: Io): Promise<{ waist: Waist; flags: Record<string, string | undefined>; digest?: Digest }> {
+  if (o.store !== undefined) {
+    // ── the store (src/store): its waist so far, as --waist would give it, and its digest ──
+    if (o.waist !== undefined) throw new TidemarkError('USAGE', 'give either --store or --waist', { key: '--store' });
+    const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
+    if (given.length) throw new TidemarkError('USAGE', `give either --store or ${given.join(', ')}: the store applied its events under its rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --store');
+    if (spec.by !== undefined) {
+      throw new TidemarkError('USAGE', `a store holds no split by an attribute, so --by ${showValue(spec.by, 40)} needs events`, { key: '--by' }, 'Give --events');
+    }
+    const { readStore } = await import('../store/read.js');
+    const { waist, digest } = await readStore(o.store, { sections: spec.sections });
+    return { waist, flags: {}, digest };
+  }
+  if (o.waist !== undefined) {
+    const given = EVENT_ONLY.filter(([k]) => o[k] !== undefined && o[k] !== false).map(([, f]) => f);
+    if (given.length) throw new TidemarkError('USAGE', `give either --waist or ${given.join(', ')}: a waist was made from its events and rules already`, { key: given[0] }, 'Drop those options, or give --events instead of --waist');
+    const read = readWaist(o.waist);
+    const m = read.manifest;
+    if (spec.by !== undefined && m.by !== spec.by) {
+      throw new TidemarkError('USAGE', m.by === null ? `the waist holds no split by an attribute, so --by ${showValue(spec.by, 40)} needs events` : `the waist is split by '${showValue(m.by, 40)}', not '${showValue(spec.by, 40)}': another split needs events`,
+        { key: '--by' }, `Rebuild it with tidemark waist --by ${showValue(spec.by, 40)}, or give --events`);
+    }
+    return { waist: spec.by === undefined ? withoutSplit(read) : read, flags: {} };
+  }
+  if (o.events === undefined && o.db === undefined && o.table === undefined && o.query === undefined) throw new TidemarkError('USAGE', 'no event log, waist or store given', { key: '--events' }, 'For example --events events.csv, --waist DIR or --store DIR');
+  const rules = resolveRules(o);
+  const run = eventRun(o, rules, spec.by);
+  if (spec.sections && (o.engine ?? 'memory') === 'memory') {
+    // the report's behaviour sections need every event: read once, with detail
+    const { waistWithSections } = await import('../report/sections/fromEvents.js');
+    try {
+      return { waist: await waistWithSections(run.source, rules, run.range), flags: run.flags };
+    } catch (e) {
+      throw flagError(e, run.flags);
+    }
+  }
+  return { waist: (await runEngine(o, run, rules, io)).waist, flags: run.flags };
 }
 
 /** The incomplete last period, as the JSON outputs report it (absent when the last period is complete). */
-export function partialJson(result: Pick<EngineResult, 'lastPeriod' | 'rows'>): { lastPeriod?: LastPeriod & { rowsLeftOut: number } } {
-  const lp = result.lastPeriod;
-  return lp.complete ? {} : { lastPeriod: { ...lp, rowsLeftOut: result.rows.partial } };
-}
-
-/**
- * One sentence on an incomplete last period: left out (with its rows), or kept and why, and how to
- * change that. `range` is what the command asked the engine for.
- */
-export function partialSentence(result: Pick<EngineResult, 'lastPeriod' | 'rows'>, range: Pick<RangeOptions, 'partial'>): string | undefined {
-  const lp = result.lastPeriod;
-  if (lp.complete) return undefined;
-  const f = (n: number) => n.toLocaleString('en-US');
-  const looks = `The last period, ${lp.label}, looks incomplete (the data stop ${(lp.coverage * 100).toFixed(0)}% of the way through it)`;
-  if (lp.leftOut) return `${looks}, so it is left out of every rate (${f(result.rows.partial)} rows); pass --include-partial to keep it.`;
-  const why = range.partial === 'drop' ? 'as too few periods would remain without it' : 'as asked';
-  return `${looks}; it is kept, ${why}, so its rates miss users who may still be active later in it.`;
-}
-
-/** The note on stderr about an incomplete last period. */
-export function notePartial(io: Io, o: { quiet?: boolean }, result: Pick<EngineResult, 'lastPeriod' | 'rows'>, range: Pick<RangeOptions, 'partial'>): void {
-  const s = partialSentence(result, range);
-  if (s) note(io, o, `note: ${s.charAt(0).toLowerCase()}${s.slice(1)}`);
+export function partialJson(input: Pick<AnalysisInput, 'waist' | 'dropped'>): { lastPeriod?: { label: string; coverage: number; complete: false; leftOut: boolean; rowsLeftOut: number } } {
+  const d = input.dropped;
+  if (d) return { lastPeriod: { label: d.label, coverage: d.coverage, complete: false, leftOut: true, rowsLeftOut: d.rows } };
+  const lp = input.waist.manifest.lastPeriod;
+  return lp.complete ? {} : { lastPeriod: { label: lp.label, coverage: lp.coverage, complete: false, leftOut: false, rowsLeftOut: 0 } };
 }
 
 /**
  * A hint for a period flag naming the incomplete last period that was left out: say so, and how to
  * keep it. `values`: library key → the flag's value.
  */
-export function periodFlagHint(result: Pick<EngineResult, 'lastPeriod'>, rules: Pick<Rules, 'grain' | 'weekStart'>, values: Record<string, string | undefined>): (e: TidemarkError) => string | undefined {
-  const lp = result.lastPeriod;
-  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
-  const lastKey = periodKeyOfDate(lp.label, scheme);
+export function periodFlagHint(input: Pick<AnalysisInput, 'waist' | 'dropped'>, values: Record<string, string | undefined>): (e: TidemarkError) => string | undefined {
+  const d = input.dropped;
+  const r = input.waist.manifest.rules;
+  const scheme = { grain: r.grain, weekStart: r.weekStart as Rules['weekStart'] };
   return (e) => {
     const v = e.where.key === undefined ? undefined : values[e.where.key.split(/[.[]/)[0]];
-    if (!lp.leftOut || v === undefined) return undefined;
-    const inLast = v.split('..').some((d) => d !== '' && periodKeyOfDate(d, scheme) === lastKey);
-    return inLast ? `${lp.label} is the incomplete last period, left out; pass --include-partial to keep it` : undefined;
+    if (!d || v === undefined) return undefined;
+    const lastKey = periodKeyOfDate(d.label, scheme);
+    const inLast = v.split('..').some((x) => x !== '' && periodKeyOfDate(x, scheme) === lastKey);
+    return inLast ? `${d.label} is the incomplete last period, left out; pass --include-partial to keep it` : undefined;
   };
 }
 
@@ -188,8 +328,12 @@ export function addPartialOption(cmd: Command): Command {
   return cmd.option('--include-partial', 'keep an incomplete last period (left out by default: its users have not had the whole period to be active)');
 }
 
-/** One line of row accounting, e.g. "rows: 1,204 read, 1,190 used, 10 not key events, 4 rejected (bad timestamp 4)". */
-export function rowLine(r: RowAccount): string {
+/**
+ * One line of row accounting, e.g. "rows: 1,204 read, 1,190 used, 10 not key events, 4 rejected (bad
+ * timestamp 4)", with the physical lines when they differ from the rows ("; lines: 1,212 read = 1 header
+ * + 2 blank + 1,200 in rows + 9 in rejected rows").
+ */
+export function rowLine(r: Omit<RowAccount, 'lines'> & { lines?: RowAccount['lines'] }): string {
   const f = (n: number) => n.toLocaleString('en-US');
   const rejected = Object.entries(r.rejected);
   const nRej = rejected.reduce((a, [, n]) => a + (n ?? 0), 0);
@@ -198,7 +342,12 @@ export function rowLine(r: RowAccount): string {
   if (r.afterRange) parts.push(`${f(r.afterRange)} after --to`);
   if (r.partial) parts.push(`${f(r.partial)} in the incomplete last period`);
   if (nRej) parts.push(`${f(nRej)} rejected (${rejected.map(([k, n]) => `${k} ${f(n ?? 0)}`).join(', ')})`);
-  return `rows: ${parts.join(', ')}`;
+  const l = r.lines;
+  // lines are shown when they tell more than the rows: blank lines, records over several lines, stray quotes
+  const lines = l && l.read !== l.header + r.read
+    ? `; lines: ${f(l.read)} read = ${[l.header && `${f(l.header)} header`, l.blank && `${f(l.blank)} blank`, `${f(l.records)} in rows`, l.rejected && `${f(l.rejected)} in rejected rows`].filter(Boolean).join(' + ')}`
+    : '';
+  return `rows: ${parts.join(', ')}${lines}`;
 }
 
 export function note(io: Io, o: { quiet?: boolean }, text: string): void {
@@ -206,7 +355,7 @@ export function note(io: Io, o: { quiet?: boolean }, text: string): void {
 }
 
 /** After an engine run: the row accounting (unless --quiet), then each data warning (always), on standard error. */
-export function noteRun(io: Io, o: { quiet?: boolean }, r: Pick<EngineResult, 'rows' | 'warnings'>): void {
+export function noteRun(io: Io, o: { quiet?: boolean }, r: { rows: Parameters<typeof rowLine>[0]; warnings: readonly string[] }): void {
   note(io, o, rowLine(r.rows));
   for (const w of r.warnings) io.stderr(`warning: ${escapeControls(w)}\n`);
 }

@@ -6,7 +6,7 @@
 import { DateTime } from 'luxon';
 import { TidemarkError, showValue, suggestion } from '../errors.js';
 import { parseSelection, type TransitionSelection } from '../flows/select.js';
-import { parseScenario } from '../markov/scenario.js';
+import { parseNamedScenario, parseScenario } from '../markov/scenario.js';
 import { checkEdits, type MoveRules } from '../markov/whatif.js';
 
 function usage(flag: string, message: string, hint?: string): TidemarkError {
@@ -76,6 +76,25 @@ export function stateOption(text: string, flag: string, states: readonly string[
  */
 export function whatIfOption(texts: readonly string[], flag: string, states: readonly string[], moves?: MoveRules): string[] {
   asFlags(() => checkEdits(parseScenario(texts), states, moves), { scenario: flag });
+  return [...texts];
+}
+
+/**
+ * Named scenarios `NAME=edits`: their names, syntax, state names, possible moves (`moves`) and
+ * campaign periods within `horizon`. Returns the texts unchanged.
+ */
+export function scenarioOption(texts: readonly string[], flag: string, states: readonly string[], horizon: number, moves?: MoveRules): string[] {
+  asFlags(() => {
+    for (const [i, s] of parseNamedScenario(texts).entries()) {
+      try {
+        checkEdits(s.edits, states, moves);
+      } catch (e) {
+        throw e instanceof TidemarkError ? new TidemarkError(e.code, `${s.name}: ${e.message}`, { key: `scenarios[${i}]` }, e.hint) : e;
+      }
+      const late = s.edits.find((e) => e.target === 'campaign' && e.step > horizon);
+      if (late) throw new TidemarkError('INPUT_INVALID', `${s.name}: "${showValue(late.text, 60)}" is beyond the horizon of ${horizon}`, { key: `scenarios[${i}]` }, `use a period from +1 to +${horizon}, or a longer --horizon`);
+    }
+  }, { scenarios: flag });
   return [...texts];
 }
 

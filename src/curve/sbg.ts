@@ -84,9 +84,9 @@ export function checkSurvivors(survivors: readonly number[]): void {
   if (survivors.length < 2) throw new TidemarkError('NOT_ENOUGH_DATA', `a fit needs survivors at two ages or more, got ${survivors.length}`);
   const n0 = survivors[0];
   const nT = survivors[survivors.length - 1];
-  if (n0 === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'the cohort has no members at age 0 (n0 = 0)');
-  if (nT === n0) throw new TidemarkError('NOT_ENOUGH_DATA', 'no member was lost, so the churn cannot be estimated');
-  if (survivors[1] === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'every member was lost in the first period, so the spread of churn cannot be estimated');
+  if (n0 === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'the cohort has no users at age 0 (n0 = 0)');
+  if (nT === n0) throw new TidemarkError('NOT_ENOUGH_DATA', 'no user was lost, so the churn cannot be estimated');
+  if (survivors[1] === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'every user was lost in the first period, so the spread of churn cannot be estimated');
 }
 
 /**

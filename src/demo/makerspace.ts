@@ -13,7 +13,7 @@
  * - An inactive member comes back with probability 0.18 · 0.75^(k−1) after k inactive weeks.
  * - A promotion brings 3,500 extra newcomers in the week of 2026-09-07 (week 18), shifting the mix.
  */
-import { mulberry32, type Rng } from '../markov/random.js';
+import { mulberry32, type Rng } from '../numerics/random.js';
 
 export const DEMO_START = Date.UTC(2026, 4, 4); // Monday 2026-05-04
 export const DEMO_WEEKS = 30;

@@ -20,6 +20,8 @@ export interface ExplainOptions {
   minCell: number;
   /** False discovery rate for the significance flags; default 0.05. */
   q?: number;
+  /** Plural nouns for the states in sentences (the waist's state labels); default the base states' own. */
+  stateLabels?: Readonly<Record<string, string>>;
 }
 
 export interface GroupRow {
@@ -100,6 +102,17 @@ function checkPeriod(label: string, periods: string[], key: 'base' | 'compare'):
 }
 
 /**
+ * The plural noun of a tenure band for sentences, from its label (flows/tenure.ts `bandLabels`) and
+ * the grain: '0' → 'users in their first week', '1-3' → 'users 1–3 weeks in', '12+' → 'users 12+
+ * weeks in', '1' → 'users 1 week in'.
+ */
+export function tenureLabel(band: string, grain: string): string {
+  if (band === '0') return `users in their first ${grain}`;
+  const one = band === '1';
+  return `users ${band.replace('-', '–')} ${one ? grain : `${grain}s`} in`;
+}
+
+/**
  * Explain the change of retention from `base` to `compare`.
  * @throws TidemarkError NOT_ENOUGH_DATA with fewer than two transitions; RANGE_INVALID for an unknown period (with "did you mean").
  */
@@ -116,13 +129,13 @@ export function explainRetention(w: WaistTables, o: ExplainOptions): ExplainOutp
   const byStateCells = collapseCells(w.tenureCells, 'state');
   const opts = { base, compare };
   const main = decomposeRetention(byStateCells, { ...opts, by: 'state' });
-  const sentence = decompositionSentence(main, { grain: o.grainWord });
+  const sentence = decompositionSentence(main, { grain: o.grainWord, labels: o.stateLabels });
   const tenure = decomposeRetention(w.tenureCells, { ...opts, by: 'segment' });
-  const labelsTenure = Object.fromEntries(tenure.groups.map((g) => [g.key, `tenure ${g.key} members`]));
+  const labelsTenure = Object.fromEntries(tenure.groups.map((g) => [g.key, tenureLabel(g.key, o.grainWord.replace(/^one-/, ''))]));
   const out: ExplainOutput = {
     base,
     compare,
-    definition: 'Retention into P is the share of users in an active state (fresh, engaged, returned) in the period before P who are active in P.',
+    definition: `Retention into P is the share of users in an active state (${w.activeStates.join(', ')}) in the period before P who are active in P.`,
     overall: { base: main.base, compare: main.compare, change: main.change },
     rateEffect: main.rateEffect,
     mixEffect: main.mixEffect,

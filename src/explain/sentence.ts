@@ -14,13 +14,10 @@
  * `behaviouralGroups: true` and the sentence says so.
  */
 import type { KitagawaResult } from './kitagawa.js';
+import { BASE_STATES } from '../lifecycle/states.js';
 
-/** Display names for the default active states. */
-export const DEFAULT_STATE_LABELS: Readonly<Record<string, string>> = {
-  fresh: 'newcomers',
-  engaged: 'regulars',
-  returned: 'returners',
-};
+/** Display names of the base active states (the table of states in src/lifecycle/states.ts). */
+export const DEFAULT_STATE_LABELS: Readonly<Record<string, string>> = Object.fromEntries(BASE_STATES.filter((s) => s.active).map((s) => [s.name, s.label]));
 
 export interface SentenceOptions {
   /** The grain word, e.g. 'one-week', 'one-day', 'one-month'. */
@@ -62,7 +59,7 @@ export function decompositionSentence(result: KitagawaResult, options: SentenceO
   const subject = `Overall ${options.grain} ${measure}`;
   if (result.change === null || result.rateEffect === null || result.mixEffect === null) {
     const empty = result.totalBase > 0 ? 'the later period' : result.totalCompare > 0 ? 'the earlier period' : 'either period';
-    return `${subject} cannot be compared: there are no members in ${empty}.`;
+    return `${subject} cannot be compared: there are no users in ${empty}.`;
   }
 
   const mix = result.mixEffect;

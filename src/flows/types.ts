@@ -72,8 +72,12 @@ export interface DurationRow {
 
 export interface WaistTables {
   states: string[];
-  /** The states that mean "active in this period" (default: fresh, engaged, returned). */
+  /** The states that mean "active in this period" (they come first in `states`). */
   activeStates: string[];
+  /** The state new users arrive in (their first active period). */
+  arrivalState: string;
+  /** The state of users gone quiet for longer than the lapse limit. */
+  exitState: string;
   /** All analysis periods in order. */
   periods: string[];
   /** Number of leading periods that are warm-up: classified, but left out of flows and retention. */
@@ -95,4 +99,20 @@ export interface WaistTables {
   segmentCells?: { by: string; cells: RetentionCell[]; perPerson?: boolean };
   /** Time-to-dormant durations grouped by that attribute's value in each user's first active period. */
   segmentDurations?: { by: string; rows: DurationRow[]; perPerson?: boolean };
+  /**
+   * Optional: the flows of each segment when asked for (`--by`), users split by the attribute's value
+   * in their first active period (as `segmentDurations`), so the segments partition the users and
+   * their tables add up to the unsplit ones. `stateCounts` is aligned with `periods`, `transitions`
+   * with `transitions` (same from/to); `fresh` is the segment's own newcomers.
+   */
+  segmentTransitions?: { by: string; perPerson?: boolean; segments: SegmentFlows[] };
+}
+
+/** The flows of one segment (see WaistTables.segmentTransitions). */
+export interface SegmentFlows {
+  /** The attribute's value; '(none)' for users without one. */
+  segment: string;
+  /** stateCounts[p][s]: the segment's users in states[s] in periods[p]. */
+  stateCounts: number[][];
+  transitions: TransitionCounts[];
 }

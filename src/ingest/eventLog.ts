@@ -6,21 +6,65 @@
  * about 16 bytes each plus 4 per attribute column.
  */
 import { TidemarkError, showValue } from '../errors.js';
-import { periodKeyOfDay, type PeriodScheme } from '../periods/calendar.js';
+import { periodKeyer, type PeriodScheme } from '../periods/calendar.js';
 import { ZoneClock } from '../periods/zone.js';
 import type { Rules } from '../rules/schema.js';
-import { parseTimestamp } from './timestamp.js';
-import { Dictionary, GrowableFloat64, GrowableInt32 } from './growable.js';
-import { Extremes } from './extremes.js';
+import { parseTimestamp, parseTimestampBytes } from './timestamp.js';
+import { GrowableFloat64, GrowableInt32, ownCopy } from './growable.js';
+import { IdDictionary, type DictionaryBytes } from './idDictionary.js';
+import { Extremes, type ExtremeRow } from './extremes.js';
+import { DetailColumns, type EventDetail } from './detail.js';
+
+const DAY = 86_400_000;
+const MIN_MS = Date.UTC(1900, 0, 1);
+const MAX_MS = Date.UTC(2200, 0, 1);
+
+function inRange(wall: number): number | undefined {
+  return wall >= MIN_MS && wall < MAX_MS ? wall : undefined;
+}
+
+/** The code of `s` through a string cache in front of a byte dictionary (a cache holds at most 100,000 strings). */
+function cached(cache: Map<string, number>, s: string, d: IdDictionary): number {
+  let c = cache.get(s);
+  if (c === undefined) {
+    c = d.code(s);
+    if (cache.size < 100_000) cache.set(ownCopy(s), c);
+  }
+  return c;
+}
+
+/** UTF-8 text of `b[s, e)`: a dictionary's new value (decoded once, when first seen). */
+export function utf8Text(b: Uint8Array, s: number, e: number): string {
+  return Buffer.from(b.buffer, b.byteOffset + s, e - s).toString('utf8');
+}
 
 /** Why a row was rejected. */
 export type RejectReason =
   | 'missing user id'
+  | 'bad user id'
   | 'bad timestamp'
   | 'missing event name'
   | 'wrong number of fields'
   | 'not valid JSON'
-  | 'unclosed quote';
+  | 'unclosed quote'
+  | 'stray quote'
+  | 'invalid UTF-8';
+
+/**
+ * Where every physical line of the input went (a line ends with LF or CRLF; a last line without one
+ * counts). read = header + blank + records + rejected, always: a record with a quoted line break
+ * spans several lines, and the lines a stray quote swallowed are counted where they went.
+ */
+export interface LineAccount {
+  read: number;
+  /** Header lines (CSV: one a file, more when a header name holds a line break). */
+  header: number;
+  blank: number;
+  /** Lines of records that were read as rows and not rejected (used, not key events, after --to…). */
+  records: number;
+  /** Lines of rejected records. */
+  rejected: number;
+}
 
 /** Where every input row went. read = used + notKeyEvent + afterRange + partial + Σ rejected. */
 export interface RowAccount {
@@ -31,8 +75,7 @@ export interface RowAccount {
   /** Rows of an incomplete last period that the engine left out (RangeOptions.partial 'drop'). */
   partial: number;
   rejected: Partial<Record<RejectReason, number>>;
-  /** Blank lines, not counted as rows. */
-  blankLines: number;
+  lines: LineAccount;
 }
 
 export interface AttributeColumn {
@@ -61,11 +104,17 @@ export interface EventLog {
   eventNames: Map<string, number>;
   /** The earliest and latest used rows, with their lines (see extremes.ts). */
   extremes: Extremes;
+  /**
+   * Per-row detail, only when read with `detail: true` (detail.ts). Such a log also holds the rows
+   * that are not key events (flagged in `detail.key`); pass it through {@link keyEventsOnly} before
+   * the engine.
+   */
+  detail?: EventDetail;
 }
 
 /**
- * Where a row came from: a number that the current file's line resolver turns into a 1-based line
- * (the line itself for NDJSON; a character offset for CSV, resolved only when a message needs it).
+ * Where a row came from: a number that the current file's line resolver turns into a 1-based line.
+ * Both readers pass the physical line the record starts on, so the resolver is the identity.
  */
 export type LineRef = number;
 
@@ -75,29 +124,64 @@ export interface BuilderOptions {
   skipBadRows: boolean;
   /** Drop (and count) events in periods after this key. */
   toKey?: number;
+  /** Keep per-row detail and the rows that are not key events (detail.ts); off by default. */
+  detail?: boolean;
+}
+
+/** An extreme row as data (its file and line resolver are the merging builder's). */
+export interface PartialExtreme {
+  wallMs: number;
+  text: string;
+  ref: LineRef;
+}
+
+/** A builder's rows and accounts as transferable data ({@link EventLogBuilder.toPartial}). */
+export interface PartialLog {
+  user: Int32Array;
+  period: Int32Array;
+  wall: Float64Array;
+  attrNames: string[];
+  attrs: Int32Array[];
+  users: DictionaryBytes;
+  attrValues: DictionaryBytes[];
+  events: DictionaryBytes;
+  eventRows: Int32Array;
+  rows: RowAccount;
+  earliest: PartialExtreme[];
+  latest: PartialExtreme[];
 }
 
 /** Accumulates rows into an {@link EventLog}. */
 export class EventLogBuilder {
-  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, blankLines: 0 };
+  readonly rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, lines: { read: 0, header: 0, blank: 0, records: 0, rejected: 0 } };
   private readonly user = new GrowableInt32();
   private readonly period = new GrowableInt32();
   private readonly wall = new GrowableFloat64();
-  private readonly users = new Dictionary();
+  private readonly users = new IdDictionary();
   private attrNames: string[] = [];
   private attrCodes: GrowableInt32[] = [];
-  private attrDicts: Dictionary[] = [];
+  private attrDicts: IdDictionary[] = [];
+  /** String → code caches in front of the byte dictionaries, for rows given as strings (NDJSON, Parquet). */
+  private attrCaches: Map<string, number>[] = [];
+  private readonly eventCache = new Map<string, number>();
   private readonly clock: ZoneClock;
   private readonly keyEvents: Set<string> | undefined;
   private readonly scheme: PeriodScheme;
+  private readonly keyOfDay: (day: number) => number;
   private readonly files: string[] = [];
-  private readonly eventNames = new Map<string, number>();
+  /** Event names by their bytes, rows read per name, and whether each is a key event (1) or not (0). */
+  private readonly events = new IdDictionary();
+  private eventRows: number[] = [];
+  private eventIsKey: number[] = [];
   private readonly extremes = new Extremes();
+  private readonly detail: DetailColumns | undefined;
 
   constructor(private readonly opts: BuilderOptions) {
     this.clock = new ZoneClock(opts.rules.timezone);
     this.keyEvents = opts.rules.activity.keyEvents ? new Set(opts.rules.activity.keyEvents) : undefined;
     this.scheme = { grain: opts.rules.grain, weekStart: opts.rules.weekStart };
+    this.keyOfDay = periodKeyer(this.scheme);
+    this.detail = opts.detail ? new DetailColumns() : undefined;
   }
 
   /** For the current file: slots[a] is the position of the log's a-th attribute among the file's, or -1. */
@@ -110,24 +194,27 @@ export class EventLogBuilder {
    */
   startFile(file: string, names: string[], lineOf: (ref: LineRef) => number = (ref) => ref): void {
     this.files.push(file);
+    this.detail?.startFile(this.user.length);
     this.lineOf = lineOf;
     for (const n of names) {
       if (!this.attrNames.includes(n)) {
         this.attrNames.push(n);
         const g = new GrowableInt32();
-        const d = new Dictionary();
+        const d = new IdDictionary();
         d.code(''); // code 0: no value
-        for (let i = 0; i < this.user.length; i++) g.push(0);
+        g.pushRepeated(0, this.user.length);
         this.attrCodes.push(g);
         this.attrDicts.push(d);
+        this.attrCaches.push(new Map());
       }
     }
     this.slots = this.attrNames.map((n) => names.indexOf(n));
   }
 
-  /** Record a bad row: throw by default, count when skipping. */
-  reject(reason: RejectReason, file: string, line: LineRef, column: string | undefined, value: string | undefined, hint?: string): void {
+  /** Record a bad row spanning `lines` physical lines: throw by default, count when skipping. */
+  reject(reason: RejectReason, file: string, line: LineRef, column: string | undefined, value: string | undefined, hint?: string, lines = 1): void {
     this.rows.read++;
+    this.rows.lines.rejected += lines;
     if (!this.opts.skipBadRows) {
       const shown = value === undefined ? '' : `: '${showValue(value)}'`;
       throw new TidemarkError('EVENTS_BAD_ROW', `${reason}${shown}`, { file, line: this.lineOf(line), column },
@@ -136,42 +223,232 @@ export class EventLogBuilder {
     this.rows.rejected[reason] = (this.rows.rejected[reason] ?? 0) + 1;
   }
 
-  /** Add one row; `attrs` holds the values of the attribute columns named in {@link startFile}, in that order. */
-  add(file: string, line: LineRef, userId: string, ts: string, event: string | undefined, attrs: readonly string[]): void {
+  /**
+   * The code of a user id already seen, found from its UTF-8 bytes `b[s, e)` with no string made, or
+   * -1. A reader passes the code to {@link add} in place of the id.
+   */
+  knownUser(b: Uint8Array, s: number, e: number): number {
+    return this.users.find(b, s, e);
+  }
+
+  /**
+   * Add one row spanning `lines` physical lines. `userId` is the id, or the code {@link knownUser}
+   * gave for it; `attrs` holds the values of the attribute columns named in {@link startFile}, in that
+   * order (the array may be reused by the caller).
+   */
+  add(file: string, line: LineRef, userId: string | number, ts: string, event: string | undefined, attrs: readonly string[], lines = 1): void {
+    this.addTimed(file, line, userId, parseTimestamp(ts, this.clock), ts, event, attrs, lines);
+  }
+
+  /**
+   * {@link add} with the timestamp already read: `wall` is its wall-clock ms, or undefined when it is no
+   * valid timestamp; `ts` is its text as shown in messages (made only when needed).
+   */
+  addTimed(file: string, line: LineRef, userId: string | number, wall: number | undefined, ts: string | (() => string), event: string | undefined, attrs: readonly string[], lines = 1): void {
     const cols = this.opts.rules.columns;
-    if (userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId);
-    const wall = parseTimestamp(ts, this.clock);
+    if (typeof userId === 'string' && userId.trim() === '') return this.reject('missing user id', file, line, cols.user, userId, undefined, lines);
     if (wall === undefined) {
-      return this.reject('bad timestamp', file, line, cols.timestamp, ts, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows');
+      return this.reject('bad timestamp', file, line, cols.timestamp, typeof ts === 'string' ? ts : ts(), 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows', lines);
     }
-    if (event !== undefined) this.eventNames.set(event, (this.eventNames.get(event) ?? 0) + 1);
+    const ev = event === undefined ? -1 : this.countEvent(cached(this.eventCache, event, this.events));
+    let isKey = true;
     if (this.keyEvents) {
-      if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '');
-      if (!this.keyEvents.has(event)) {
-        this.rows.read++;
-        this.rows.notKeyEvent++;
-        return;
+      if (event === undefined || event === '') return this.reject('missing event name', file, line, cols.event, event ?? '', undefined, lines);
+      if (!this.eventIsKey[ev]) {
+        if (!this.detail) return this.notKey(lines);
+        isKey = false; // detail: kept and flagged, counted as not a key event wherever it falls
       }
     }
-    const key = periodKeyOfDay(Math.floor(wall / 86_400_000), this.scheme);
+    const key = this.keyOfDay(Math.floor(wall / DAY));
     this.rows.read++;
+    this.rows.lines.records += lines;
+    if (!isKey) this.rows.notKeyEvent++;
+    if (this.opts.toKey !== undefined && key > this.opts.toKey) {
+      if (isKey) this.rows.afterRange++;
+      return;
+    }
+    if (isKey) {
+      this.rows.used++;
+      if (this.extremes.wants(wall)) this.extremes.add(wall, typeof ts === 'string' ? ts : ts(), file, line, this.lineOf);
+    }
+    this.detail?.add(event, isKey, typeof ts === 'string' ? ts : ts(), this.lineOf(line));
+    this.user.push(typeof userId === 'number' ? userId : this.users.code(userId));
+    this.period.push(key);
+    this.wall.push(wall);
+    for (let a = 0; a < this.attrCodes.length; a++) {
+      const pos = this.slots[a];
+      this.attrCodes[a].push(pos >= 0 ? cached(this.attrCaches[a], attrs[pos] ?? '', this.attrDicts[a]) : 0);
+    }
+  }
+
+  /** Wall-clock ms of an instant given as ms since the epoch, or undefined outside years 1900–2199. */
+  instantWall(ms: number): number | undefined {
+    return inRange(Number.isFinite(ms) ? this.clock.wallMs(Math.floor(ms)) : NaN);
+  }
+
+  /** Wall-clock ms given directly (a local date-time or date), or undefined outside years 1900–2199. */
+  localWall(ms: number): number | undefined {
+    return inRange(Math.floor(ms));
+  }
+
+  /** Wall-clock ms of an epoch number by the CSV rule: milliseconds when |v| ≥ 1e11, else seconds. */
+  epochWall(v: number): number | undefined {
+    return this.instantWall(Math.abs(v) >= 1e11 ? v : v * 1000);
+  }
+
+  /** The code of a user id already given a code, or -1. */
+  userCodeOf(id: string): number {
+    const b = Buffer.from(id, 'utf8');
+    return this.users.find(b, 0, b.length);
+  }
+
+  /** Count a row of event code `ev` (a new code learns whether it is a key event); returns `ev`. */
+  private countEvent(ev: number): number {
+    if (ev === this.eventRows.length) {
+      this.eventRows.push(0);
+      this.eventIsKey.push(!this.keyEvents || this.keyEvents.has(this.events.values[ev]) ? 1 : 0);
+    }
+    this.eventRows[ev]++;
+    return ev;
+  }
+
+  private notKey(lines: number): void {
+    this.rows.read++;
+    this.rows.lines.records += lines;
+    this.rows.notKeyEvent++;
+  }
+
+  /**
+   * {@link add} for a row whose fields are byte ranges `b[starts[k], ends[k])` (the CSV reader's hot
+   * path: no string is made for a known user, a timestamp in a common form, a known event name or
+   * attribute value). The fields must be well-formed UTF-8 with nothing to unescape. `user`, `ts` and
+   * `event` are field positions (`event` -1 when the file has none); `attrFields[j]` is the field of the
+   * file's j-th attribute (as named in {@link startFile}). Same checks, codes and accounting as add.
+   */
+  addFields(file: string, line: LineRef, lines: number, b: Buffer, starts: Int32Array, ends: Int32Array, user: number, ts: number, event: number, attrFields: readonly number[]): void {
+    if (this.detail) {
+      // detail keeps each row's texts: the plain path
+      const text = (k: number) => utf8Text(b, starts[k], ends[k]);
+      return this.add(file, line, text(user), text(ts), event >= 0 ? text(event) : undefined, attrFields.map((f) => (f >= 0 ? text(f) : '')), lines);
+    }
+    const us = starts[user], ue = ends[user];
+    const known = this.users.find(b, us, ue);
+    if (known < 0) {
+      const id = utf8Text(b, us, ue);
+      if (id.trim() === '') return this.reject('missing user id', file, line, this.opts.rules.columns.user, id, undefined, lines);
+    }
+    const ts0 = starts[ts], ts1 = ends[ts];
+    let wall = parseTimestampBytes(b, ts0, ts1, this.clock);
+    let tsText: string | undefined;
+    if (wall !== wall) {
+      tsText = utf8Text(b, ts0, ts1);
+      const parsed = parseTimestamp(tsText, this.clock);
+      if (parsed === undefined) {
+        return this.reject('bad timestamp', file, line, this.opts.rules.columns.timestamp, tsText, 'Use ISO 8601 (2026-05-04T18:30:00Z) or epoch seconds/milliseconds, years 1900-2199, or pass --skip-bad-rows', lines);
+      }
+      wall = parsed;
+    }
+    if (event >= 0) {
+      const es = starts[event], ee = ends[event];
+      const ev = this.countEvent(this.events.codeBytes(b, es, ee, utf8Text));
+      if (this.keyEvents) {
+        if (es === ee) return this.reject('missing event name', file, line, this.opts.rules.columns.event, '', undefined, lines);
+        if (!this.eventIsKey[ev]) return this.notKey(lines);
+      }
+    } else if (this.keyEvents) return this.reject('missing event name', file, line, this.opts.rules.columns.event, '', undefined, lines);
+    const key = this.keyOfDay(Math.floor(wall / DAY));
+    this.rows.read++;
+    this.rows.lines.records += lines;
     if (this.opts.toKey !== undefined && key > this.opts.toKey) {
       this.rows.afterRange++;
       return;
     }
     this.rows.used++;
-    this.extremes.add(wall, ts, file, line, this.lineOf);
-    this.user.push(this.users.code(userId));
+    if (this.extremes.wants(wall)) this.extremes.add(wall, tsText ?? utf8Text(b, ts0, ts1), file, line, this.lineOf);
+    this.user.push(known >= 0 ? known : this.users.codeBytes(b, us, ue, utf8Text));
     this.period.push(key);
     this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {
       const pos = this.slots[a];
-      this.attrCodes[a].push(pos >= 0 ? this.attrDicts[a].code(attrs[pos] ?? '') : 0);
+      const f = pos >= 0 ? attrFields[pos] : -1;
+      this.attrCodes[a].push(f >= 0 ? this.attrDicts[a].codeBytes(b, starts[f], ends[f], utf8Text) : 0);
     }
   }
 
+  /**
+   * Everything read so far, as transferable data, for a reader on another thread that read a later part
+   * of the current file: the main builder takes it in with {@link merge}. Lines in it are counted from
+   * the part's first line.
+   */
+  toPartial(): PartialLog {
+    const plain = (r: ExtremeRow): PartialExtreme => ({ wallMs: r.wallMs, text: r.text, ref: r.ref });
+    return {
+      user: this.user.view().slice(),
+      period: this.period.view().slice(),
+      wall: this.wall.view().slice(),
+      attrNames: [...this.attrNames],
+      attrs: this.attrCodes.map((g) => g.view().slice()),
+      users: this.users.toBytes(),
+      attrValues: this.attrDicts.map((d) => d.toBytes()),
+      events: this.events.toBytes(),
+      eventRows: Int32Array.from(this.eventRows),
+      rows: this.rows,
+      earliest: this.extremes.earliest.map(plain),
+      latest: this.extremes.latest.map(plain),
+    };
+  }
+
+  /**
+   * Take in a later part of the current file read by another builder ({@link toPartial}), whose first
+   * line is line `lineOffset + 1` of the file: codes are those one reader would have given (values new
+   * in the part get the next codes in the part's order), lines become file lines, accounts add up.
+   */
+  merge(p: PartialLog, file: string, lineOffset: number): void {
+    const userMap = this.users.merge(p.users, utf8Text);
+    const n = p.user.length;
+    this.user.pushMapped(p.user, userMap);
+    this.period.pushAll(p.period);
+    this.wall.pushAll(p.wall);
+    for (let a = 0; a < this.attrNames.length; a++) {
+      const j = p.attrNames.indexOf(this.attrNames[a]);
+      if (j < 0) this.attrCodes[a].pushRepeated(0, n);
+      else this.attrCodes[a].pushMapped(p.attrs[j], this.attrDicts[a].merge(p.attrValues[j], utf8Text));
+    }
+    const evMap = this.events.merge(p.events, utf8Text);
+    for (let c = 0; c < evMap.length; c++) {
+      this.countEvent(evMap[c]);
+      this.eventRows[evMap[c]] += p.eventRows[c] - 1;
+    }
+    const r = this.rows, q = p.rows;
+    r.read += q.read;
+    r.used += q.used;
+    r.notKeyEvent += q.notKeyEvent;
+    r.afterRange += q.afterRange;
+    r.partial += q.partial;
+    for (const [reason, k] of Object.entries(q.rejected) as [RejectReason, number][]) r.rejected[reason] = (r.rejected[reason] ?? 0) + k;
+    r.lines.read += q.lines.read;
+    r.lines.header += q.lines.header;
+    r.lines.blank += q.lines.blank;
+    r.lines.records += q.lines.records;
+    r.lines.rejected += q.lines.rejected;
+    const lineOf = this.lineOf;
+    const row = (x: PartialExtreme): ExtremeRow => ({ wallMs: x.wallMs, text: x.text, file, ref: x.ref + lineOffset, lineOf });
+    this.extremes.merge(p.earliest.map(row), p.latest.map(row));
+  }
+
+  /** A blank line (not a row). */
   blank(): void {
-    this.rows.blankLines++;
+    this.rows.lines.blank++;
+  }
+
+  /** The current file's header took `lines` physical lines. */
+  header(lines: number): void {
+    this.rows.lines.header += lines;
+  }
+
+  /** The current file ended after `lines` physical lines. */
+  endFile(lines: number): void {
+    this.rows.lines.read += lines;
   }
 
   build(): EventLog {
@@ -185,8 +462,31 @@ export class EventLogBuilder {
       rows: this.rows,
       scheme: this.scheme,
       files: this.files,
-      eventNames: this.eventNames,
+      eventNames: new Map(this.events.values.map((name, c) => [name, this.eventRows[c]])),
       extremes: this.extremes,
+      ...(this.detail ? { detail: this.detail.build() } : {}),
     };
   }
+}
+
+/**
+ * The key-event rows of a log read with detail, as a log without detail, for the engine (which
+ * counts every row as activity). A log without detail, or whose rows are all key events, is returned
+ * as it is. One pass; copies the columns only when some row is not a key event.
+ */
+export function keyEventsOnly(log: EventLog): EventLog {
+  const d = log.detail;
+  if (!d || d.keyRows === log.size) return log;
+  const n = d.keyRows;
+  const user = new Int32Array(n), period = new Int32Array(n), wallMs = new Float64Array(n);
+  const attrs = log.attributes.map(() => new Int32Array(n));
+  for (let i = 0, j = 0; i < log.size; i++) {
+    if (!d.key[i]) continue;
+    user[j] = log.user[i];
+    period[j] = log.period[i];
+    wallMs[j] = log.wallMs[i];
+    for (let a = 0; a < attrs.length; a++) attrs[a][j] = log.attributes[a].codes[i];
+    j++;
+  }
+  return { ...log, size: n, user, period, wallMs, attributes: log.attributes.map((a, k) => ({ ...a, codes: attrs[k] })), detail: undefined };
 }

@@ -6,6 +6,7 @@
  * the data ({@link rangeOutliers}), and which rows to name when a range is too large to classify.
  */
 import type { LineRef } from './eventLog.js';
+import { ownCopy } from './growable.js';
 
 /** Rows kept at each end: one more than the largest handful, so that the bulk's edge is known. */
 export const EXTREMES_KEPT = 6;
@@ -28,13 +29,29 @@ export class Extremes {
   /** Descending by time. */
   readonly latest: ExtremeRow[] = [];
 
+  /** Whether a used row at `wallMs` would be kept: {@link add} it then (its text is made only for such rows). */
+  wants(wallMs: number): boolean {
+    const low = this.earliest, high = this.latest;
+    return low.length < EXTREMES_KEPT || wallMs < low[low.length - 1].wallMs || high.length < EXTREMES_KEPT || wallMs > high[high.length - 1].wallMs;
+  }
+
+  /**
+   * Take in the extremes of rows read after every row seen so far (a later part of the same file,
+   * read by another thread), each end in its order: the result is what one pass over all the rows keeps.
+   */
+  merge(earliest: readonly ExtremeRow[], latest: readonly ExtremeRow[]): void {
+    for (const row of earliest) if (this.earliest.length < EXTREMES_KEPT || row.wallMs < this.earliest[this.earliest.length - 1].wallMs) insert(this.earliest, row, (a, b) => a.wallMs < b.wallMs);
+    for (const row of latest) if (this.latest.length < EXTREMES_KEPT || row.wallMs > this.latest[this.latest.length - 1].wallMs) insert(this.latest, row, (a, b) => a.wallMs > b.wallMs);
+  }
+
   /** Offer a used row. Costs two comparisons unless the row is among the extremes so far. */
   add(wallMs: number, text: string, file: string, ref: LineRef, lineOf: (ref: LineRef) => number): void {
     const low = this.earliest, high = this.latest;
     const isLow = low.length < EXTREMES_KEPT || wallMs < low[low.length - 1].wallMs;
     const isHigh = high.length < EXTREMES_KEPT || wallMs > high[high.length - 1].wallMs;
     if (!isLow && !isHigh) return;
-    const row: ExtremeRow = { wallMs, text, file, ref, lineOf };
+    // a copy: the reader's field text may be a view that keeps its whole read buffer alive
+    const row: ExtremeRow = { wallMs, text: ownCopy(text), file, ref, lineOf };
     if (isLow) insert(low, row, (a, b) => a.wallMs < b.wallMs);
     if (isHigh) insert(high, row, (a, b) => a.wallMs > b.wallMs);
   }

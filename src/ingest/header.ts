@@ -8,6 +8,8 @@ export interface HeaderPlan {
   event: number;
   attributeNames: string[];
   attributePositions: number[];
+  /** Positions of every field a row uses (user, timestamp, event, attributes). */
+  used: number[];
 }
 
 /** Find the mapped columns in a header row; the other columns are kept as attributes. */
@@ -36,5 +38,6 @@ export function headerPlan(header: string[], columns: { user: string; timestamp:
   const timestamp = find(columns.timestamp, 'timestamp', true);
   const event = find(columns.event, 'event', needEvent);
   const attributePositions = names.map((_, i) => i).filter((i) => i !== user && i !== timestamp && i !== event);
-  return { width: names.length, user, timestamp, event, attributeNames: attributePositions.map((i) => names[i]), attributePositions };
+  const used = [user, timestamp, ...(event >= 0 ? [event] : []), ...attributePositions];
+  return { width: names.length, user, timestamp, event, attributeNames: attributePositions.map((i) => names[i]), attributePositions, used };
 }

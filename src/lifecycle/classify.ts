@@ -6,7 +6,8 @@
  * `outStart` still feed the states (history before --from is used, not shown).
  */
 import type { ActivePeriods } from './activity.js';
-import { applyIdle, IDLE_ADD, IDLE_CLASSES, IDLE_KEEP, IDLE_RESET, type LifecyclePlan } from './plan.js';
+import { applyIdle, IDLE_ADD, IDLE_CLASSES, IDLE_KEEP, IDLE_RESET, levelOf, type LifecyclePlan } from './plan.js';
+import { baseState } from './states.js';
 
 export interface Classified {
   /** Number of rows. */
@@ -66,7 +67,8 @@ export function classify(active: ActivePeriods, plan: LifecyclePlan, users: numb
     firstDormant: new Int32Array(users).fill(-2),
     firstActive,
   };
-  const dormantCode = plan.states.indexOf('dormant') + 1;
+  const dormantCode = plan.states.indexOf(baseState('exit')) + 1;
+  const split = plan.thresholds.length > 0;
   const walker: Walker = { code: 0, idle: 0, dormantAt: -1 };
   let row = 0;
   let i = 0;
@@ -87,10 +89,11 @@ export function classify(active: ActivePeriods, plan: LifecyclePlan, users: numb
         p = stop;
         continue;
       }
+      const level = !isActive ? 0 : split ? levelOf(plan, true, active.events[i]) : 1;
       if (isActive) i++;
       const prevCode = walker.code;
       // one period through the plan (inlined planStep)
-      const j = (prevCode * IDLE_CLASSES + (walker.idle < L ? 0 : 1)) * levels + (isActive ? 1 : 0);
+      const j = (prevCode * IDLE_CLASSES + (walker.idle < L ? 0 : 1)) * levels + level;
       const code = nextState[j];
       walker.code = code;
       walker.idle = applyIdle(idleEffect[j], walker.idle, L);

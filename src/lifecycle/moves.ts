@@ -12,7 +12,7 @@
  */
 import { didYouMean } from '../errors.js';
 import type { Rules } from '../rules/schema.js';
-import { compilePlan, IDLE_ADD, IDLE_CLASSES, IDLE_RESET, PERIOD_LEVELS } from './plan.js';
+import { compilePlan, IDLE_ADD, IDLE_CLASSES, IDLE_RESET, periodLevels } from './plan.js';
 import { UNSEEN } from './states.js';
 
 export interface Move {
@@ -44,7 +44,7 @@ export interface LifecycleMoves {
  * @example lifecycleMoves({ lapseLimit: 2 }).why('lapsing', 'engaged')
  *   // 'a lapsing user who is active the next period becomes returned'
  */
-export function lifecycleMoves(rules: Pick<Rules, 'lapseLimit'>): LifecycleMoves {
+export function lifecycleMoves(rules: Pick<Rules, 'lapseLimit'> & { splits?: Rules['splits'] }): LifecycleMoves {
   const plan = compilePlan(rules);
   const names = [UNSEEN, ...plan.states];
   const L = plan.lapseLimit;
@@ -66,7 +66,7 @@ export function lifecycleMoves(rules: Pick<Rules, 'lapseLimit'>): LifecycleMoves
     const code = Math.floor(node / IDLE_CLASSES);
     const cls = node % IDLE_CLASSES;
     const from = names[code];
-    PERIOD_LEVELS.forEach((features, level) => {
+    periodLevels(rules).forEach((features, level) => {
       const j = node * plan.levels + level;
       const nextCode = plan.nextState[j];
       const to = names[nextCode];

@@ -11,16 +11,33 @@
  * class). Each entry is asked of the machine at both ends of its class, and a disagreement (a
  * machine whose guards read idle in some other way) throws rather than tabulating a wrong answer.
  *
- * The feature tuple is (active). A later split of an active state by events in the period adds
- * levels to {@link PERIOD_LEVELS} (say, active with few / with many events); nothing else changes.
+ * The feature tuple is the period's level: 0 inactive, 1 active, and one more level per distinct
+ * threshold of the rules' splits (an active period with at least that many key events), see
+ * {@link periodLevels}. Without splits there are two levels.
  */
 import { transition } from 'xstate';
 import type { Rules } from '../rules/schema.js';
 import { lifecycleMachine, type LifecycleEvent } from './machine.js';
-import { STATES, UNSEEN } from './states.js';
+import { splitThresholds, stateNames, UNSEEN, type StateRules } from './states.js';
 
-/** The period's features, one level each: level 0 is an inactive period, level 1 an active one. */
-export const PERIOD_LEVELS: readonly Omit<LifecycleEvent, 'type'>[] = [{ active: false }, { active: true }];
+/** The period's features without splits: level 0 is an inactive period, level 1 an active one. */
+export const PERIOD_LEVELS: readonly Omit<LifecycleEvent, 'type'>[] = [{ active: false, events: 0 }, { active: true, events: 0 }];
+
+/**
+ * The period's features for these rules, one level each: inactive; active; and active with at least
+ * each split threshold of key events (ascending). A period's level is found with {@link levelOf}.
+ */
+export function periodLevels(rules: Pick<StateRules, 'splits'>): Omit<LifecycleEvent, 'type'>[] {
+  return [...PERIOD_LEVELS, ...splitThresholds({ lapseLimit: 0, activity: { minEvents: 1 }, splits: rules.splits }).map((t) => ({ active: true, events: t }))];
+}
+
+/** The level of a period: 0 when inactive, else 1 + the thresholds its key events reach. */
+export function levelOf(plan: Pick<LifecyclePlan, 'thresholds'>, active: boolean, events: number): number {
+  if (!active) return 0;
+  let level = 1;
+  for (let i = 0; i < plan.thresholds.length && events >= plan.thresholds[i]; i++) level++;
+  return level;
+}
 /** Idle classes: 0 while idle < lapseLimit (one more quiet period is still within the lapse), 1 beyond. */
 export const IDLE_CLASSES = 2;
 /** What a transition does to the idle count. */
@@ -32,7 +49,9 @@ export interface LifecyclePlan {
   /** Output states, in matrix order. Code 0 is `unseen`; code c ≥ 1 is STATES[c − 1]. */
   states: readonly string[];
   lapseLimit: number;
-  /** Levels of the period feature (PERIOD_LEVELS.length). */
+  /** Split thresholds, ascending (levels 2, 3, … are at least these many key events). */
+  thresholds: Int32Array;
+  /** Levels of the period feature (periodLevels(rules).length). */
   levels: number;
   /** nextState[(code · IDLE_CLASSES + idleClass) · levels + level]: the next state's code. */
   nextState: Uint8Array;
@@ -56,12 +75,14 @@ export function applyIdle(effect: number, idle: number, lapseLimit: number): num
   return effect === IDLE_RESET ? 0 : effect === IDLE_ADD ? (idle < lapseLimit ? idle + 1 : lapseLimit) : idle;
 }
 
-/** Tabulate the machine for these rules: 6 states × 2 idle classes × 2 levels entries, each asked twice. */
-export function compilePlan(rules: Pick<Rules, 'lapseLimit'>): LifecyclePlan {
+/** Tabulate the machine for these rules: (states + 1) × 2 idle classes × levels entries, each asked twice. */
+export function compilePlan(rules: Pick<Rules, 'lapseLimit'> & { splits?: StateRules['splits'] }): LifecyclePlan {
   const machine = lifecycleMachine(rules);
-  const names = [UNSEEN, ...STATES];
+  const states = stateNames({ lapseLimit: rules.lapseLimit, activity: { minEvents: 1 }, splits: rules.splits });
+  const names = [UNSEEN, ...states];
   const L = rules.lapseLimit;
-  const levels = PERIOD_LEVELS.length;
+  const LEVELS = periodLevels(rules);
+  const levels = LEVELS.length;
   const size = names.length * IDLE_CLASSES * levels;
   const nextState = new Uint8Array(size);
   const idleEffect = new Uint8Array(size);
@@ -72,7 +93,7 @@ export function compilePlan(rules: Pick<Rules, 'lapseLimit'>): LifecyclePlan {
       for (let level = 0; level < levels; level++) {
         const answers = members[cls].map((idle) => {
           const snapshot = machine.resolveState({ value: names[code], context: { idle } });
-          const [after] = transition(machine, snapshot, { type: 'PERIOD', ...PERIOD_LEVELS[level] });
+          const [after] = transition(machine, snapshot, { type: 'PERIOD', ...LEVELS[level] });
           return { idle, code: names.indexOf(String(after.value)), after: after.context.idle };
         });
         const effect = [IDLE_RESET, IDLE_ADD, IDLE_KEEP].find((e) => answers.every((a) => a.after === (e === IDLE_RESET ? 0 : e === IDLE_ADD ? a.idle + 1 : a.idle)));
@@ -85,5 +106,5 @@ export function compilePlan(rules: Pick<Rules, 'lapseLimit'>): LifecyclePlan {
       }
     }
   }
-  return { states: STATES, lapseLimit: L, levels, nextState, idleEffect };
+  return { states, lapseLimit: L, thresholds: Int32Array.from(LEVELS.slice(2).map((l) => l.events)), levels, nextState, idleEffect };
 }

@@ -1,42 +1,67 @@
 /**
- * Rolling-origin backtest of the projection (Tashman 2000, "Out-of-sample tests of forecasting
- * accuracy", International Journal of Forecasting 16(4)). For each origin t with at least `minFit`
- * transitions up to it:
- * 1. fit P on the transitions up to t (all of them, or the last `window`), with the fitted mean fresh
- *    inflow of those transitions — the forecast uses only what was known at t, never the later actual
- *    fresh counts;
- * 2. project h = 1 … H steps from the actual state counts at t;
+ * Rolling-origin backtest of the projection and its bands (Tashman 2000, "Out-of-sample tests of
+ * forecasting accuracy", International Journal of Forecasting 16(4)). For each origin t with at least
+ * `minFit` transitions up to it:
+ * 1. fit P, the rates' variation and the inflow on the transitions up to t (all of them, or the last
+ *    `window`) — only what was known at t;
+ * 2. project h = 1 … H steps from the actual state counts at t, and simulate the bands
+ *    (`simulate.ts`);
  * 3. score against the actual state mix at t + h.
  *
- * Scores per horizon h, averaged over states and origins: MAE of shares; the same MAE for the naive
- * forecast "the mix stays as at the origin"; and coverage, the fraction of (origin, state) shares
- * that fall inside the [lo, hi] percentile band (default 10–90) of {@link projectionBands}.
+ * Scores per horizon h, over (origin, state) cells: the mean absolute error of shares; the empirical
+ * coverage of the inner (25th–75th percentile, 50%) and outer (`band`, 80% by default) bands; and the
+ * mean interval score of each band (Gneiting & Raftery 2007, "Strictly proper scoring rules,
+ * prediction, and estimation", JASA 102:359–378, §6.2: for a central (1 − α) interval [l, u] and the
+ * outcome x, (u − l) + (2/α)(l − x)·[x < l] + (2/α)(x − u)·[x > u]; lower is better), for the model and
+ * two baselines with the usual normal intervals (Hyndman & Athanasopoulos, *Forecasting: Principles
+ * and Practice*, 3rd ed., §5.5): no change (the share stays as at t; σ_h = σ√h, σ the root mean square
+ * of one-period changes over the fit window) and seasonal naive (the share one season earlier;
+ * σ_h = σ√(k + 1), k = ⌊(h − 1)/m⌋, σ from the changes over one season). The seasonal baseline needs a
+ * season of history before the origin; without one it is left out and the reason given.
+ *
+ * Periods where the outer band missed at least half of the cells aimed at them (10 cells or more) are
+ * listed: the flows changed there beyond their past variation (a structural break).
  */
 import { TidemarkError } from '../errors.js';
 import type { WaistTables } from '../flows/types.js';
-import { projectionBands, type BandOptions } from './bands.js';
+import { normalQuantile } from '../stats/normal.js';
 import { fitPooled, freshIndex, startAt } from './fit.js';
 import { assertInteger, assertNonNegativeSquare } from './guards.js';
-import { projectUnchecked } from './project.js';
+import { estimateInflow, inflowAt, type InflowMethod } from './inflow.js';
+import { projectVarying } from './project.js';
+import { pathPercentiles, simulatePaths } from './simulate.js';
 import type { Vector } from './types.js';
+import { rateVariation } from './variation.js';
 
-export interface BacktestOptions extends Pick<BandOptions, 'prior' | 'allowed'> {
-  /** Steps ahead H (default 3). */
+export interface BacktestOptions {
+  /** Steps ahead H (default 8). */
   horizon?: number;
   /** Transitions needed up to an origin before it is scored (default 4). */
   minFit?: number;
   /** Fit on the last N transitions up to the origin (default: all of them). */
   window?: number;
-  /** Sampled matrices per origin for the bands (default 100; kept small for speed). */
+  /** Sampled paths per origin for the bands (default 100). */
   samples?: number;
   /** Seed; origin number k uses seed + k (default 1). */
   seed?: number;
   /** Score only the latest N origins (default: every origin). */
   maxOrigins?: number;
-  /** Band percentiles [lo, hi] (default [10, 90]). */
+  /** Outer band percentiles [lo, hi] (default [10, 90]); the inner band is always [25, 75]. */
   band?: [number, number];
-  /** The state new users arrive in (default 'fresh'). */
+  /** The state new users arrive in (default: the tables' arrival state). */
   freshState?: string;
+  /** How the inflow is estimated (default median). */
+  inflowMethod?: InflowMethod;
+  /** Periods in a season, for the seasonal-naive baseline (none: the baseline is left out). */
+  season?: number;
+}
+
+/** The inner band's percentiles (a 50% band). */
+export const INNER_BAND: [number, number] = [25, 75];
+
+export interface IntervalScores {
+  inner: number;
+  outer: number;
 }
 
 export interface BacktestRow {
@@ -45,39 +70,58 @@ export interface BacktestRow {
   origins: number;
   mae: number;
   naiveMae: number;
-  /** Fraction of actual shares inside the band. */
+  /** MAE of the seasonal-naive forecast; null when no origin had a season of history. */
+  seasonalMae: number | null;
+  /** Fraction of actual shares inside the outer band. */
   coverage: number;
+  /** Fraction of actual shares inside the inner (50%) band. */
+  innerCoverage: number;
+  /** Mean interval scores of shares (lower is better). */
+  intervalScore: { model: IntervalScores; noChange: IntervalScores; seasonalNaive: IntervalScores | null };
 }
 
 export interface Backtest {
   rows: BacktestRow[];
   /** Labels of the origin periods scored, in order. */
   origins: string[];
+  bands: { inner: [number, number]; outer: [number, number] };
+  /** Coverage the bands aim at: their nominal width ± 10 points. */
+  target: { inner: [number, number]; outer: [number, number] };
+  /** Transitions each origin's fit pooled (null: all up to the origin). */
+  window: number | null;
+  samples: number;
+  season: number | null;
+  /** Why the seasonal-naive baseline is missing, when it is. */
+  seasonalNote?: string;
+  /** Periods whose actual mix the outer band missed in at least half of the cells aimed at them. */
+  missed: { period: string; cells: number; outside: number }[];
 }
 
 /**
  * Backtests the projection on waist tables.
  *
  * @throws TidemarkError `INPUT_INVALID` for bad options (horizon 1 to 1000, minFit ≥ 1, window ≥ minFit, maxOrigins ≥ 1,
- *   band lo < hi in [0, 100]); `NOT_ENOUGH_DATA` when no origin has `minFit` transitions before it and a
+ *   band lo < hi in [0, 100], season ≥ 1); `NOT_ENOUGH_DATA` when no origin has `minFit` transitions before it and a
  *   later period to score against (the message gives the counts); as {@link fitChain}.
- * @example backtest(tables, { horizon: 2 }).rows // [{ horizon: 1, mae, naiveMae, coverage, … }, { horizon: 2, … }]
+ * @example backtest(tables, { horizon: 2 }).rows // [{ horizon: 1, mae, coverage, innerCoverage, intervalScore, … }, { horizon: 2, … }]
  */
 export function backtest(tables: WaistTables, options: BacktestOptions = {}): Backtest {
-  const { horizon = 3, minFit = 4, window, samples = 100, seed = 1, band = [10, 90] } = options;
+  const { horizon = 8, minFit = 4, window, samples = 100, seed = 1, band = [10, 90], season } = options;
   assertInteger(horizon, 'horizon', 1, 1000);
   assertInteger(minFit, 'minFit', 1);
+  assertInteger(samples, 'samples', 1, 100000);
   if (window !== undefined) assertInteger(window, 'window', minFit);
   if (options.maxOrigins !== undefined) assertInteger(options.maxOrigins, 'maxOrigins', 1);
+  if (season !== undefined) assertInteger(season, 'season', 1, 1000);
   assertInteger(seed, 'seed', 0, 0xffffffff);
   if (!(band[0] >= 0 && band[0] < band[1] && band[1] <= 100)) {
     throw new TidemarkError('INPUT_INVALID', `band must be [lo, hi] with 0 ≤ lo < hi ≤ 100 (got [${band.join(', ')}])`, { key: 'band' });
   }
   const { transitions, periods, stateCounts, states } = tables;
-  const fi = freshIndex(states, options.freshState);
+  const fi = freshIndex(states, options.freshState ?? tables.arrivalState);
   const S = states.length;
   // prefix sums over the transitions (each checked once): the counts pooled over lo..k are
-  // cum[k + 1] − cum[lo], so each origin's fit costs states², not the number of transitions before it
+  // cum[k + 1] − cum[lo], so each origin's point fit costs states², not the number of transitions before it
   const cum: Float64Array[] = [new Float64Array(S * S)];
   const cumFresh = [0];
   transitions.forEach((t, k) => {
@@ -87,31 +131,68 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
     cum.push(next);
     cumFresh.push(cumFresh[k] + t.fresh);
   });
+  const share = stateCounts.map(shares);
   const periodAt = new Map(periods.map((label, i) => [label, i]));
-  const sums = Array.from({ length: horizon }, () => ({ n: 0, mae: 0, naive: 0, inside: 0, cells: 0 }));
+  const levels = [INNER_BAND[0], INNER_BAND[1], band[0], band[1]];
+  const alphaInner = 1 - (INNER_BAND[1] - INNER_BAND[0]) / 100;
+  const alphaOuter = 1 - (band[1] - band[0]) / 100;
+  const zInner = normalQuantile(1 - alphaInner / 2);
+  const zOuter = normalQuantile(1 - alphaOuter / 2);
+  const blank = () => ({ n: 0, cells: 0, mae: 0, naive: 0, inside: 0, insideInner: 0, is: [0, 0], isNaive: [0, 0], sCells: 0, sMae: 0, isSeason: [0, 0] });
+  const sums = Array.from({ length: horizon }, blank);
+  const targets = new Map<number, { cells: number; outside: number }>();
   const origins: string[] = [];
-  // the last transition ends in the last period and has nothing after it to score: origins are k ≤ T − 2
   const firstK = Math.max(minFit - 1, options.maxOrigins === undefined ? 0 : transitions.length - 1 - options.maxOrigins);
   for (let k = firstK; k < transitions.length; k++) {
     const p = periodAt.get(transitions[k].to) ?? -1;
     const steps = Math.min(horizon, periods.length - 1 - p);
     if (steps < 1) continue;
     const lo = window === undefined ? 0 : Math.max(0, k + 1 - window);
+    const win = transitions.slice(lo, k + 1);
     const pooled = states.map((_, i) => states.map((_, j) => cum[k + 1][i * S + j] - cum[lo][i * S + j]));
     const fit = fitPooled(states, fi, pooled, cumFresh[k + 1] - cumFresh[lo], startAt(tables, p, transitions[k], fi), { from: transitions[lo].from, to: transitions[k].to, transitions: k + 1 - lo });
-    const point = projectUnchecked(fit.matrix, fit.start, fit.inflow, steps);
-    const bands = projectionBands(fit.counts, fit.start, fit.inflow, steps, { samples, seed: (seed + k) % 2 ** 32, percentiles: band, prior: options.prior, allowed: options.allowed, withCounts: false });
-    const naive = shares(fit.start);
+    const inflow = estimateInflow(win.map((t) => t.fresh), win.map((t) => t.to), options.inflowMethod);
+    const split = states.map((_, i) => (i === fi ? 1 : 0));
+    const point = projectVarying(fit.matrix, fit.start, (h) => split.map((f) => f * inflowAt(inflow, h)), steps);
+    const sim = simulatePaths({ rows: rateVariation(win, states), inflow, split }, fit.start, steps, { samples, seed: (seed + k) % 2 ** 32 });
+    const q = states.map((_, s) => pathPercentiles(sim, levels, (c, b) => shareAt(c, b, S, s)));
+    // baselines: root mean square of one-period (and one-season) changes of each share over the window
+    const first = periodAt.get(transitions[lo].from) ?? 0;
+    const naiveSd = states.map((_, s) => rms(range(first + 1, p).map((t) => share[t][s] - share[t - 1][s])));
+    const seasonSd = season === undefined ? undefined : states.map((_, s) => rms(range(Math.max(first, season), p).map((t) => share[t][s] - share[t - season][s])));
+    const seasonal = season !== undefined && p - season >= 0 && range(Math.max(first, season), p).length >= 2;
     origins.push(transitions[k].to);
     for (let h = 1; h <= steps; h++) {
-      const actual = shares(stateCounts[p + h]);
+      const actual = share[p + h];
       const acc = sums[h - 1];
       acc.n += 1;
-      acc.mae += meanAbs(point.shares[h], actual);
-      acc.naive += meanAbs(naive, actual);
-      actual.forEach((a, s) => {
+      const target = targets.get(p + h) ?? { cells: 0, outside: 0 };
+      targets.set(p + h, target);
+      states.forEach((_, s) => {
+        const a = actual[s];
+        const [il, iu, ol, ou] = q[s].map((row) => row[h]);
         acc.cells += 1;
-        if (a >= bands.shares[0][h][s] - 1e-9 && a <= bands.shares[1][h][s] + 1e-9) acc.inside += 1;
+        acc.mae += Math.abs(point.shares[h][s] - a);
+        acc.naive += Math.abs(share[p][s] - a);
+        const inOuter = a >= ol - 1e-9 && a <= ou + 1e-9;
+        if (inOuter) acc.inside += 1;
+        if (a >= il - 1e-9 && a <= iu + 1e-9) acc.insideInner += 1;
+        target.cells += 1;
+        if (!inOuter) target.outside += 1;
+        acc.is[0] += intervalScore(il, iu, a, alphaInner);
+        acc.is[1] += intervalScore(ol, ou, a, alphaOuter);
+        const w = naiveSd[s] * Math.sqrt(h);
+        acc.isNaive[0] += intervalScore(share[p][s] - zInner * w, share[p][s] + zInner * w, a, alphaInner);
+        acc.isNaive[1] += intervalScore(share[p][s] - zOuter * w, share[p][s] + zOuter * w, a, alphaOuter);
+        if (seasonal && seasonSd) {
+          const back = season * (Math.floor((h - 1) / season) + 1);
+          const f = share[p + h - back][s];
+          const ws = seasonSd[s] * Math.sqrt(Math.floor((h - 1) / season) + 1);
+          acc.sCells += 1;
+          acc.sMae += Math.abs(f - a);
+          acc.isSeason[0] += intervalScore(f - zInner * ws, f + zInner * ws, a, alphaInner);
+          acc.isSeason[1] += intervalScore(f - zOuter * ws, f + zOuter * ws, a, alphaOuter);
+        }
       });
     }
   }
@@ -119,9 +200,47 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
     throw new TidemarkError('NOT_ENOUGH_DATA', `a backtest needs ${minFit} transitions before an origin and a later period to score, but the data have ${transitions.length} transitions`, { key: 'minFit' }, 'lower minFit or use a longer span of data');
   }
   const rows = sums
-    .map((a, i) => ({ horizon: i + 1, origins: a.n, mae: a.mae / a.n, naiveMae: a.naive / a.n, coverage: a.inside / a.cells }))
-    .filter((r) => r.origins > 0);
-  return { rows, origins };
+    .filter((a) => a.n > 0)
+    .map((a, i) => ({
+      horizon: i + 1,
+      origins: a.n,
+      mae: a.mae / a.cells,
+      naiveMae: a.naive / a.cells,
+      seasonalMae: a.sCells > 0 ? a.sMae / a.sCells : null,
+      coverage: a.inside / a.cells,
+      innerCoverage: a.insideInner / a.cells,
+      intervalScore: {
+        model: { inner: a.is[0] / a.cells, outer: a.is[1] / a.cells },
+        noChange: { inner: a.isNaive[0] / a.cells, outer: a.isNaive[1] / a.cells },
+        seasonalNaive: a.sCells > 0 ? { inner: a.isSeason[0] / a.sCells, outer: a.isSeason[1] / a.sCells } : null,
+      },
+    }));
+  const nominal = (band[1] - band[0]) / 100;
+  const out: Backtest = {
+    rows,
+    origins,
+    bands: { inner: [...INNER_BAND], outer: [band[0], band[1]] },
+    target: { inner: [0.4, 0.6], outer: [round2(nominal - 0.1), round2(nominal + 0.1)] },
+    window: window ?? null,
+    samples,
+    season: season ?? null,
+    missed: [...targets.entries()].filter(([, v]) => v.cells >= 10 && v.outside * 2 >= v.cells).sort((a, b) => a[0] - b[0]).map(([t, v]) => ({ period: periods[t], cells: v.cells, outside: v.outside })),
+  };
+  if (rows.every((r) => r.seasonalMae === null)) {
+    out.seasonalNote = season === undefined ? 'no season length was given' : `it needs ${season + 2} periods of history before an origin (a season and two changes over it); the data have ${periods.length}`;
+  }
+  return out;
+}
+
+/** The interval score of a central (1 − α) interval [l, u] for the outcome x (Gneiting & Raftery 2007, eq. 43). */
+export function intervalScore(l: number, u: number, x: number, alpha: number): number {
+  return u - l + (x < l ? (2 / alpha) * (l - x) : 0) + (x > u ? (2 / alpha) * (x - u) : 0);
+}
+
+function shareAt(c: Float64Array, base: number, S: number, s: number): number {
+  let total = 0;
+  for (let j = 0; j < S; j++) total += c[base + j];
+  return total > 0 ? c[base + s] / total : 0;
 }
 
 function shares(counts: Vector): Vector {
@@ -129,6 +248,13 @@ function shares(counts: Vector): Vector {
   return counts.map((v) => (total > 0 ? v / total : 0));
 }
 
-function meanAbs(a: Vector, b: Vector): number {
-  return a.reduce((s, v, i) => s + Math.abs(v - b[i]), 0) / a.length;
+/** lo … hi inclusive (empty when hi < lo). */
+function range(lo: number, hi: number): number[] {
+  return hi < lo ? [] : Array.from({ length: hi - lo + 1 }, (_, i) => lo + i);
 }
+
+function rms(v: number[]): number {
+  return v.length ? Math.sqrt(v.reduce((a, x) => a + x * x, 0) / v.length) : 0;
+}
+
+const round2 = (x: number) => Math.round(x * 100) / 100;

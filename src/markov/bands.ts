@@ -4,13 +4,17 @@
  * percentiles of every step's counts and shares across the S projections (Hyndman & Fan definition 7,
  * see {@link quantileSorted}). The bands show the uncertainty of the transition probabilities only:
  * start and inflow are held fixed. Same seed and options → identical output.
+ *
+ * This is the sampling error of the pooled rates alone, a floor on the uncertainty; the projection's
+ * own bands (`simulate.ts`) add how the rates and arrivals move and the audience's binomial noise.
+ * Kept in the library API for callers that want that floor.
  */
 import { TidemarkError } from '../errors.js';
 import { dirichletParameters, sampleFromParameters, type DirichletOptions } from './dirichlet.js';
 import { assertCounts, assertInteger, assertNonNegativeSquare } from './guards.js';
 import { projectUnchecked } from './project.js';
-import { quantileSorted } from './quantile.js';
-import { mulberry32 } from './random.js';
+import { quantileSorted } from '../numerics/quantile.js';
+import { mulberry32 } from '../numerics/random.js';
 import type { Matrix, Projection, Vector } from './types.js';
 
 export interface BandOptions extends DirichletOptions {

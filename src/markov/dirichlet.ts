@@ -1,7 +1,6 @@
 /**
- * Posterior samples of a transition matrix: each row independently from Dirichlet(counts + prior),
- * drawn as normalised Gamma variables (a Dirichlet(α) vector is (g₁ … g_k)/Σg with g_j ~ Gamma(α_j);
- * e.g. Gelman et al., *Bayesian Data Analysis*, appendix A).
+ * Posterior samples of a transition matrix: each row independently from Dirichlet(counts + prior)
+ * (the Dirichlet sampler is in `numerics/dirichlet.ts`).
  *
  * Decisions:
  * - prior: `prior` (default 0.5, the Jeffreys prior of a multinomial) is added to every cell of a row's
@@ -12,9 +11,9 @@
  * - a row with no observed users (total 0) stays absorbing, P[i][i] = 1, in every sample, as in the fit.
  */
 import { TidemarkError } from '../errors.js';
+import { sampleDirichlet } from '../numerics/dirichlet.js';
+import type { Rng } from '../numerics/random.js';
 import { assertNonNegativeSquare } from './guards.js';
-import { gamma } from './gamma.js';
-import type { Rng } from './random.js';
 import type { Matrix, Vector } from './types.js';
 
 export interface DirichletOptions {
@@ -22,21 +21,6 @@ export interface DirichletOptions {
   prior?: number;
   /** allowed[i][j] true: the cell is in the support even when unobserved. */
   allowed?: boolean[][];
-}
-
-/**
- * One Dirichlet(α) draw; components with α_j = 0 are 0.
- *
- * @throws TidemarkError `INPUT_INVALID` when an α is negative or not finite, or all are 0.
- * @example sampleDirichlet(mulberry32(1), [2, 0, 3]) // [p, 0, 1 − p], mean p = 0.4
- */
-export function sampleDirichlet(rng: Rng, alpha: Vector): Vector {
-  if (alpha.some((a) => !(a >= 0) || !Number.isFinite(a)) || !alpha.some((a) => a > 0)) {
-    throw new TidemarkError('INPUT_INVALID', `Dirichlet parameters must be finite, ≥ 0 and not all 0 (got ${alpha.join(', ')})`, { key: 'alpha' });
-  }
-  const g = alpha.map((a) => (a > 0 ? gamma(rng, a) : 0));
-  const sum = g.reduce((x, y) => x + y, 0);
-  return g.map((x) => x / sum);
 }
 
 /**

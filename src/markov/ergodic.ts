@@ -9,7 +9,7 @@
 import { TidemarkError } from '../errors.js';
 import { assertStochastic } from './guards.js';
 import { communicatingClasses } from './classes.js';
-import { inverse } from './linalg.js';
+import { inverse } from '../numerics/linalg.js';
 import { classDistribution } from './stationary.js';
 import type { Chain, Matrix, Vector } from './types.js';
 

@@ -27,7 +27,7 @@ export interface FittedChain extends MarkovModel {
 export interface FitOptions {
   /** Which transitions to pool (default: all). */
   selection?: TransitionSelection;
-  /** The state new users arrive in (default `'fresh'`). */
+  /** The state new users arrive in (default: the tables' arrival state). */
   freshState?: string;
 }
 
@@ -42,7 +42,7 @@ export interface FitOptions {
  */
 export function fitChain(tables: WaistTables, options: FitOptions = {}): FittedChain {
   const { states } = tables;
-  const fi = freshIndex(states, options.freshState);
+  const fi = freshIndex(states, options.freshState ?? tables.arrivalState);
   const picked = selectTransitions(tables, options.selection);
   const counts = states.map(() => states.map(() => 0));
   for (const t of picked) {
@@ -64,7 +64,7 @@ export function startAt(tables: Pick<WaistTables, 'stateCounts'>, at: number, la
  * The index of the arrival state.
  * @throws TidemarkError `INPUT_INVALID` when it is not one of `states` (with "did you mean").
  */
-export function freshIndex(states: readonly string[], freshState = 'fresh'): number {
+export function freshIndex(states: readonly string[], freshState: string): number {
   const fi = states.indexOf(freshState);
   if (fi < 0) {
     throw new TidemarkError('INPUT_INVALID', `the arrival state '${freshState}' is not a state of the tables`, { key: 'freshState' }, suggestion(freshState, states) ?? `states are: ${states.join(', ')}`);

@@ -31,15 +31,26 @@ export { reweightRow } from './reweight.js';
 export { applyScenario, checkEdits, whatIf, type AppliedScenario, type MoveRules, type ScenarioModel, type WhatIf } from './whatif.js';
 
 // Uncertainty and backtest
-export { mulberry32, normal, type Rng } from './random.js';
-export { gamma } from './gamma.js';
-export { sampleDirichlet, sampleTransitionMatrix, dirichletParameters, type DirichletOptions } from './dirichlet.js';
-export { quantileSorted } from './quantile.js';
+// (the generic samplers and percentiles live in src/numerics; re-exported here for the library API)
+export { mulberry32, normal, type Rng } from '../numerics/random.js';
+export { gamma } from '../numerics/gamma.js';
+export { sampleDirichlet } from '../numerics/dirichlet.js';
+export { quantileSorted } from '../numerics/quantile.js';
+export { sampleTransitionMatrix, dirichletParameters, type DirichletOptions } from './dirichlet.js';
 export { projectionBands, type BandOptions, type Bands } from './bands.js';
-export { backtest, type BacktestOptions, type BacktestRow, type Backtest } from './backtest.js';
+export { rateVariation, type RowVariation } from './variation.js';
+export { estimateInflow, inflowAt, INFLOW_METHODS, type InflowEstimate, type InflowMethod } from './inflow.js';
+export { simulatePaths, type PathModel, type PathEdits, type Simulation } from './simulate.js';
+export { forecastWindow, type Forecast } from './forecast.js';
+export { backtest, intervalScore, type BacktestOptions, type BacktestRow, type Backtest } from './backtest.js';
+
+// Scenarios side by side, segments
+export { parseNamedScenario, type NamedScenario } from './scenario.js';
+export { type ScenarioOutput } from './scenarios.js';
+export { projectSegments, type SegmentsOutput } from './segments.js';
 
 // The whole projection job
 export { computeProjection, type ProjectOutput, type ProjectionOptions, type ProjectionStep } from './run.js';
 
-// Linear algebra (small dense helpers, exported for tests and other modules)
-export { identity, transpose, vecMat, matVec, matMul, solve, solveMany, inverse } from './linalg.js';
+// Linear algebra (the shared dense helpers of src/numerics, re-exported for the library API)
+export { identity, transpose, vecMat, matVec, matMul, solve, solveMany, inverse } from '../numerics/linalg.js';

@@ -16,7 +16,7 @@
 import { TidemarkError, suggestion } from '../errors.js';
 import { assertStochastic } from './guards.js';
 import { communicatingClasses } from './classes.js';
-import { identityMinus, inverse, matVec, pick, solveMany } from './linalg.js';
+import { identityMinus, inverse, matVec, pick, solveMany } from '../numerics/linalg.js';
 import { fmt, nameSet } from './names.js';
 import type { Chain, Matrix, Vector } from './types.js';
 

@@ -5,7 +5,7 @@
  * Bartholomew, *Stochastic Models for Social Processes*).
  */
 import { assertCounts, assertInteger, assertStochastic } from './guards.js';
-import { vecMat } from './linalg.js';
+import { vecMat } from '../numerics/linalg.js';
 import type { Matrix, Projection, Vector } from './types.js';
 
 /**
@@ -31,6 +31,24 @@ export function projectUnchecked(matrix: Matrix, start: Vector, inflow: Vector, 
   const counts: Matrix = [start.slice()];
   for (let t = 0; t < horizon; t++) {
     counts.push(vecMat(counts[t], matrix).map((v, j) => v + inflow[j]));
+  }
+  const totals = counts.map((row) => row.reduce((a, b) => a + b, 0));
+  const shares = counts.map((row, t) => row.map((v) => (totals[t] > 0 ? v / totals[t] : 0)));
+  return { counts, shares, totals };
+}
+
+/**
+ * {@link projectUnchecked} with an inflow that may change with the step: x(t+1) = x(t)·P + f(t + 1),
+ * plus `extra[t]` (users added at step t, e.g. a campaign) when given.
+ *
+ * @example projectVarying([[1]], [10], (t) => [t], 2).counts // [[10], [11], [13]]
+ */
+export function projectVarying(matrix: Matrix, start: Vector, inflowAt: (step: number) => Vector, horizon: number, extra?: (step: number) => Vector | undefined): Projection {
+  const counts: Matrix = [start.slice()];
+  for (let t = 1; t <= horizon; t++) {
+    const f = inflowAt(t);
+    const e = extra?.(t);
+    counts.push(vecMat(counts[t - 1], matrix).map((v, j) => v + f[j] + (e?.[j] ?? 0)));
   }
   const totals = counts.map((row) => row.reduce((a, b) => a + b, 0));
   const shares = counts.map((row, t) => row.map((v) => (totals[t] > 0 ? v / totals[t] : 0)));

@@ -11,7 +11,7 @@
  */
 import { assertStochastic } from './guards.js';
 import { communicatingClasses } from './classes.js';
-import { pick, solve, transpose } from './linalg.js';
+import { pick, solve, transpose } from '../numerics/linalg.js';
 import { nameSet } from './names.js';
 import type { Chain, Matrix, Vector } from './types.js';
 

@@ -12,7 +12,7 @@
  */
 import { assertCounts, assertStochastic } from './guards.js';
 import { communicatingClasses } from './classes.js';
-import { identityMinus, pick, solve, transpose, vecMat } from './linalg.js';
+import { identityMinus, pick, solve, transpose, vecMat } from '../numerics/linalg.js';
 import { fmt, nameSet } from './names.js';
 import type { Chain, Vector } from './types.js';
 

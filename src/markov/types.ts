@@ -26,6 +26,8 @@ export interface MarkovModel extends Chain {
   start: Vector | undefined;
   /** New users arriving in each state every period (zeros when the document gave none). */
   inflow: Vector;
+  /** The audience size when the document gave the start as shares (start is then shares × audience). */
+  audience?: number;
 }
 
 /** A projection x(t+1) = x(t)·P + f; row t of each matrix is step t (row 0 is the start). */

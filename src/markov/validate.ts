@@ -9,6 +9,8 @@
  *   "start": { "engaged": 120, "lapsing": 40 },
  *   "inflow": { "engaged": 15 } }
  * ```
+ * With `"audience": N` the start is read as shares of N users (they must sum to 1 within 1e-6):
+ * `"start": { "engaged": 0.6, "lapsing": 0.4 }, "audience": 2000` starts from 1,200 and 800.
  * `matrix` is row-stochastic (rows sum to 1). A column-stochastic matrix (columns sum to 1, as in
  * many linear-algebra texts) must be converted with {@link columnToRow} first.
  */
@@ -16,7 +18,7 @@ import { TidemarkError, suggestion } from '../errors.js';
 import { assertStochastic } from './guards.js';
 import type { Matrix, MarkovModel, Vector } from './types.js';
 
-const KEYS = ['states', 'matrix', 'start', 'inflow'] as const;
+const KEYS = ['states', 'matrix', 'start', 'inflow', 'audience'] as const;
 
 /**
  * Validates a matrix document and returns the typed model. States missing from `start`/`inflow` get
@@ -26,7 +28,9 @@ const KEYS = ['states', 'matrix', 'start', 'inflow'] as const;
  * @throws TidemarkError `INPUT_INVALID` for a document that is not an object, an unknown top-level key
  *   (with "did you mean"), or a `start`/`inflow` entry naming an unknown state or holding a count that
  *   is not a finite number ≥ 0; `MATRIX_INVALID` for empty, non-string or duplicate state names, a
- *   ragged or wrongly sized matrix, a non-finite or negative entry, or a row not summing to 1 (1e-6).
+ *   ragged or wrongly sized matrix, a non-finite or negative entry, or a row not summing to 1 (1e-6);
+ *   `INPUT_INVALID` for an audience that is not a finite number > 0, or given without a start, or with
+ *   start shares that do not sum to 1.
  * @example validateModel({ states: ['a', 'b'], matrix: [[0.9, 0.1], [0, 1]], inflow: { a: 5 } })
  *   // { states: ['a','b'], matrix: [[0.9,0.1],[0,1]], start: undefined, inflow: [5, 0] }
  */
@@ -43,9 +47,20 @@ export function validateModel(doc: unknown): MarkovModel {
   const states = readStates(obj.states);
   const matrix = readMatrix(obj.matrix, states);
   assertStochastic(matrix, states);
-  const start = obj.start === undefined ? undefined : readCounts(obj.start, states, 'start');
+  let start = obj.start === undefined ? undefined : readCounts(obj.start, states, 'start');
   const inflow = obj.inflow === undefined ? states.map(() => 0) : readCounts(obj.inflow, states, 'inflow');
-  return { states, matrix, start, inflow };
+  if (obj.audience === undefined) return { states, matrix, start, inflow };
+  const audience = obj.audience;
+  if (typeof audience !== 'number' || !Number.isFinite(audience) || !(audience > 0)) {
+    throw new TidemarkError('INPUT_INVALID', `"audience" must be a number of users > 0 (got ${JSON.stringify(audience)})`, { key: 'audience' });
+  }
+  if (!start) throw new TidemarkError('INPUT_INVALID', '"audience" sizes the start shares, but the document has no "start"', { key: 'audience' }, 'add "start": {"state": share, ...} with shares summing to 1');
+  const sum = start.reduce((a, b) => a + b, 0);
+  if (Math.abs(sum - 1) > 1e-6) {
+    throw new TidemarkError('INPUT_INVALID', `with "audience", "start" gives shares, which must sum to 1 (they sum to ${Number(sum.toPrecision(6))})`, { key: 'start' }, 'give shares of the audience, or leave "audience" out to give counts');
+  }
+  start = start.map((v) => v * audience);
+  return { states, matrix, start, inflow, audience };
 }
 
 function readStates(v: unknown): string[] {

@@ -13,14 +13,15 @@
  * - `inflow*k` scales every state's inflow; `inflow=N` sets the total and keeps the split across
  *   states (refused when the inflow is 0 everywhere: there is no split to keep, name the state with
  *   `inflow.STATE=N`); `inflow.STATE*k` needs that state's inflow > 0, `inflow.STATE=N` any N ≥ 0;
+ * - `+N STATE at +k` adds N users to STATE in the k-th period ahead (k within the horizon);
  * - with {@link MoveRules} (a chain of lifecycle states: `lifecycle/moves.ts`), an edit of a move the
- *   rules make impossible is refused with the reason, inflow goes only into the arrival states, no
- *   rescaled row may put weight on an impossible move, and every suggestion is a possible move.
+ *   rules make impossible is refused with the reason, inflow and campaigns go only into the arrival
+ *   states, no rescaled row may put weight on an impossible move, and every suggestion is a possible move.
  */
 import { TidemarkError, showValue, suggestion } from '../errors.js';
 import { assertCounts, assertInteger, assertStochastic } from './guards.js';
 import { fmt } from './names.js';
-import { projectUnchecked } from './project.js';
+import { projectUnchecked, projectVarying } from './project.js';
 import { reweightRow } from './reweight.js';
 import { parseScenario, type Edit } from './scenario.js';
 import type { Chain, Matrix, Projection, Vector } from './types.js';
@@ -71,15 +72,18 @@ export function checkEdits(edits: readonly Edit[], states: readonly string[], mo
     } else if (e.state !== undefined) {
       if (!states.includes(e.state)) throw refuse(e.text, `'${showValue(e.state)}' is not a state of the model`, suggestion(e.state, moves ? moves.arrivals : states) ?? `states are: ${states.join(', ')}`);
       if (moves && !moves.arrivals.includes(e.state)) {
-        throw refuse(e.text, `new users arrive only in ${moves.arrivals.join(' or ')}, not in ${e.state}`, `did you mean 'inflow.${moves.arrivals[0]}${e.text.slice(Math.max(e.text.lastIndexOf('*'), e.text.lastIndexOf('=')))}'?`);
+        const instead = e.target === 'campaign' ? e.text.replace(/\s\S+(\s+at\s)/i, ` ${moves.arrivals[0]}$1`) : `inflow.${moves.arrivals[0]}${e.text.slice(Math.max(e.text.lastIndexOf('*'), e.text.lastIndexOf('=')))}`;
+        throw refuse(e.text, `new users arrive only in ${moves.arrivals.join(' or ')}, not in ${e.state}`, `did you mean '${instead}'?`);
       }
     }
   }
 }
 
 export interface AppliedScenario extends ScenarioModel {
-  /** One line per edit: the text, the entry's value before and after. */
+  /** One line per edit: the text, the entry's value before and after (a campaign: 0 and its users). */
   changes: { text: string; before: number; after: number }[];
+  /** Extra users arriving in `state` (an index) at `step`. */
+  campaigns: { state: number; count: number; step: number }[];
 }
 
 /**
@@ -87,11 +91,12 @@ export interface AppliedScenario extends ScenarioModel {
  *
  * @throws TidemarkError `INPUT_INVALID` for an unknown state (with "did you mean"), a probability
  *   outside [0, 1], a negative factor or count, scaling an entry or inflow that is 0, or a row that
- *   cannot sum to 1 (see {@link reweightRow}); every message names the edit and the state.
+ *   cannot sum to 1 (see {@link reweightRow}), a campaign beyond `horizon`; every message names the edit
+ *   and the state.
  * @example applyScenario(model, parseScenario(['lapsing->dormant=0.3'])).matrix[3]
  *   // row 'lapsing' with 0.3 to dormant, the other entries scaled to fill 0.7
  */
-export function applyScenario(model: ScenarioModel, edits: readonly Edit[]): AppliedScenario {
+export function applyScenario(model: ScenarioModel, edits: readonly Edit[], horizon?: number): AppliedScenario {
   const { states } = model;
   assertStochastic(model.matrix, states);
   assertCounts(model.inflow, states.length, 'inflow', states);
@@ -99,8 +104,13 @@ export function applyScenario(model: ScenarioModel, edits: readonly Edit[]): App
   const pins = new Map<number, Map<number, number>>();
   let inflow = model.inflow.slice();
   const changes: AppliedScenario['changes'] = [];
+  const campaigns: AppliedScenario['campaigns'] = [];
   for (const e of edits) {
-    if (e.target === 'transition') {
+    if (e.target === 'campaign') {
+      if (horizon !== undefined && e.step > horizon) throw refuse(e.text, `period +${e.step} is beyond the horizon of ${horizon}`, `use a period from +1 to +${horizon}, or a longer horizon`);
+      campaigns.push({ state: stateIndex(states, e.state, e.text), count: e.count, step: e.step });
+      changes.push({ text: e.text, before: 0, after: e.count });
+    } else if (e.target === 'transition') {
       const i = stateIndex(states, e.from, e.text);
       const j = stateIndex(states, e.to, e.text);
       const row = pins.get(i) ?? new Map<number, number>();
@@ -125,7 +135,7 @@ export function applyScenario(model: ScenarioModel, edits: readonly Edit[]): App
       }
     }));
   }
-  return { states, matrix, inflow, changes };
+  return { states, matrix, inflow, changes, campaigns };
 }
 
 export interface WhatIf {
@@ -144,11 +154,11 @@ export interface WhatIf {
  * @example whatIf(model, ['inflow*1.2'], start, 3).difference.totals // [0, 0.2·Σf, 0.4·Σf, 0.6·Σf]
  */
 export function whatIf(model: ScenarioModel, scenarios: readonly string[], start: Vector, horizon: number): WhatIf {
-  const scenario = applyScenario(model, parseScenario(scenarios));
-  assertCounts(start, model.states.length, 'start', model.states);
   assertInteger(horizon, 'horizon', 0, 10000);
+  const scenario = applyScenario(model, parseScenario(scenarios), horizon);
+  assertCounts(start, model.states.length, 'start', model.states);
   const baseline = projectUnchecked(model.matrix, start, model.inflow, horizon);
-  const projected = projectUnchecked(scenario.matrix, start, scenario.inflow, horizon);
+  const projected = projectVarying(scenario.matrix, start, () => scenario.inflow, horizon, (t) => campaignAt(scenario.campaigns, t, start.length));
   const minus = (a: Matrix, b: Matrix): Matrix => a.map((row, t) => row.map((v, s) => v - b[t][s]));
   return {
     scenario,
@@ -160,6 +170,15 @@ export function whatIf(model: ScenarioModel, scenarios: readonly string[], start
       totals: projected.totals.map((v, t) => v - baseline.totals[t]),
     },
   };
+}
+
+/** The campaign users arriving at step t, per state (undefined when none). */
+export function campaignAt(campaigns: AppliedScenario['campaigns'], t: number, n: number): Vector | undefined {
+  const due = campaigns.filter((c) => c.step === t);
+  if (due.length === 0) return undefined;
+  const v = new Array<number>(n).fill(0);
+  for (const c of due) v[c.state] += c.count;
+  return v;
 }
 
 function stateIndex(states: readonly string[], name: string, text: string): number {

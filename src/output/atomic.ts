@@ -26,7 +26,30 @@ import { TidemarkError, showValue } from '../errors.js';
 
 /** Written into every report folder; its presence lets the next run replace the folder. */
 export const REPORT_MARKER = '.tidemark-report';
-const MARKER_TEXT = 'This folder was written by tidemark report. The next tidemark report into it replaces the whole folder.\n';
+
+/** What kind of folder {@link replaceFolder} writes: its marker file, its name in messages, and the files it may replace. */
+export interface FolderKind {
+  marker: string;
+  markerText: string;
+  /** "the report folder" */
+  what: string;
+  /** What a folder of this kind written before the marker existed holds. */
+  looksLike(names: readonly string[], dir: string): boolean;
+}
+
+export const REPORT_FOLDER: FolderKind = {
+  marker: REPORT_MARKER,
+  markerText: 'This folder was written by tidemark report. The next tidemark report into it replaces the whole folder.\n',
+  what: 'the report folder',
+  looksLike: (names, dir) => names.includes('index.html') && names.includes('summary.md') && names.every((n) => /^[\w.-]+\.(html|md|csv|json)$/.test(n) && lstatSync(join(dir, n)).isFile()),
+};
+
+export const WAIST_FOLDER: FolderKind = {
+  marker: '.tidemark-waist',
+  markerText: 'This folder was written by tidemark waist. The next tidemark waist into it replaces the whole folder.\n',
+  what: 'the waist folder',
+  looksLike: (names, dir) => names.includes('manifest.json') && names.every((n) => /^[\w.-]+\.(csv|json|parquet|md|sql)$/.test(n) && lstatSync(join(dir, n)).isFile()),
+};
 
 /** Test hooks: `step` is called after each step of a write (a test may throw or kill the process there). */
 export interface WriteHooks {
@@ -62,13 +85,85 @@ export function writeFileAtomic(file: string, data: string | Uint8Array, hooks: 
   syncDir(dir);
 }
 
+/** A file written piece by piece, atomically: nothing is at `file` until {@link commit}. */
+export interface AtomicFile {
+  write(text: string): void;
+  /** Flush, close and rename into place. */
+  commit(): void;
+  /** Close and remove the temporary file (after an error). */
+  abort(): void;
+}
+
+/**
+ * Open `file` for a streamed atomic write: a temporary file beside it, renamed over it on commit. A
+ * device or FIFO is written directly. Writes are buffered in 1 MiB pieces.
+ */
+export function openAtomicFile(file: string): AtomicFile {
+  let target = resolve(file);
+  const st = statOrUndefined(target);
+  if (st?.isDirectory()) throw new TidemarkError('FILE_UNWRITABLE', 'cannot write the output: it is a folder', { file }, 'Give a file name');
+  const direct = st !== undefined && !st.isFile();
+  if (st && !direct) target = realpathSync(target);
+  const dir = dirname(target);
+  const prefix = `.${basename(target)}.tidemark-`;
+  let tmp = target;
+  if (!direct) {
+    makeFolder(dir, file, 'the output file');
+    removeDeadLeftovers(dir, prefix);
+    tmp = join(dir, `${prefix}${process.pid}-${randomBytes(4).toString('hex')}.tmp`);
+  }
+  const fd = guard(file, 'the output file', () => openSync(tmp, direct ? 'w' : 'wx', st?.mode === undefined ? 0o666 : st.mode & 0o7777));
+  let pending: string[] = [];
+  let size = 0;
+  let closed = false;
+  const flush = () => {
+    if (pending.length === 0) return;
+    const buf = Buffer.from(pending.join(''), 'utf8');
+    pending = [];
+    size = 0;
+    let off = 0;
+    while (off < buf.length) off += writeSync(fd, buf, off, buf.length - off);
+  };
+  const close = () => {
+    if (closed) return;
+    closed = true;
+    closeSync(fd);
+  };
+  return {
+    write(text) {
+      pending.push(text);
+      size += text.length;
+      if (size >= 1 << 20) guard(file, 'the output file', flush);
+    },
+    commit() {
+      guard(file, 'the output file', () => {
+        try {
+          flush();
+          if (!direct) fsyncSync(fd);
+          close();
+          if (!direct) renameSync(tmp, target);
+        } catch (err) {
+          close();
+          if (!direct) rmSync(tmp, { force: true });
+          throw err;
+        }
+      });
+      if (!direct) syncDir(dir);
+    },
+    abort() {
+      close();
+      if (!direct) rmSync(tmp, { force: true });
+    },
+  };
+}
+
 /**
  * Replace folder `dir` by a folder holding exactly `files` (name → content) and the marker file,
  * atomically as described above. Returns the names written (the marker left out).
  * @throws TidemarkError FILE_UNWRITABLE when the disk is full, the folder is not writable, or `dir`
  *   holds files that are not a report's (nothing is written or removed then).
  */
-export function replaceFolder(dir: string, files: ReadonlyMap<string, string | Uint8Array>, hooks: WriteHooks = {}): string[] {
+export function replaceFolder(dir: string, files: ReadonlyMap<string, string | Uint8Array>, hooks: WriteHooks = {}, kind: FolderKind = REPORT_FOLDER): string[] {
   const target = resolve(dir);
   const parent = dirname(target);
   const base = basename(target);
@@ -76,25 +171,25 @@ export function replaceFolder(dir: string, files: ReadonlyMap<string, string | U
     if (name !== basename(name) || name === '.' || name === '..' || name.startsWith('.tidemark')) throw new TidemarkError('INPUT_INVALID', `'${showValue(name)}' is not a plain file name`, { key: 'files' });
   }
   if (!base || target === parent) throw new TidemarkError('FILE_UNWRITABLE', 'cannot replace the root folder', { file: dir }, 'Give a folder for the report');
-  makeFolder(parent, dir, 'the report folder');
+  makeFolder(parent, dir, kind.what);
   recoverFolder(target);
   const st = statOrUndefined(target);
   if (st && !st.isDirectory()) throw new TidemarkError('FILE_UNWRITABLE', 'cannot write the report there: it is a file, not a folder', { file: dir }, 'Give a folder name');
-  if (st && !replaceable(target)) {
-    throw new TidemarkError('FILE_UNWRITABLE', 'the folder holds files that are not part of a tidemark report; it is left as it is', { file: dir },
-      'Give a new or empty folder (the report replaces the whole folder on each run)');
+  if (st && !replaceable(target, kind)) {
+    throw new TidemarkError('FILE_UNWRITABLE', `the folder holds files that are not part of ${kind === REPORT_FOLDER ? 'a tidemark report' : 'a tidemark waist'}; it is left as it is`, { file: dir },
+      'Give a new or empty folder (the whole folder is replaced on each run)');
   }
   const tag = `${process.pid}-${randomBytes(4).toString('hex')}`;
   const fresh = join(parent, `.${base}.tidemark-new-${tag}`);
   const aside = join(parent, `.${base}.tidemark-old-${tag}`);
-  guard(dir, 'the report folder', () => {
+  guard(dir, kind.what, () => {
     try {
       mkdirSync(fresh);
       for (const [name, text] of files) {
         writeAll(join(fresh, name), text, 'wx');
         hooks.step?.(`wrote ${name}`);
       }
-      writeAll(join(fresh, REPORT_MARKER), MARKER_TEXT, 'wx');
+      writeAll(join(fresh, kind.marker), kind.markerText, 'wx');
       syncDir(fresh);
       hooks.step?.('written');
     } catch (err) {
@@ -102,7 +197,7 @@ export function replaceFolder(dir: string, files: ReadonlyMap<string, string | U
       throw err;
     }
   });
-  guard(dir, 'the report folder', () => {
+  guard(dir, kind.what, () => {
     try {
       if (!st) return renameSync(fresh, target);
       renameSync(target, aside);
@@ -144,11 +239,11 @@ export function recoverFolder(dir: string): void {
 }
 
 /** True when `dir` is empty, holds the marker, or holds only what a report writes (index.html, summary.md, *.csv, *.json). */
-export function replaceable(dir: string): boolean {
+export function replaceable(dir: string, kind: FolderKind = REPORT_FOLDER): boolean {
   const names = readdirSync(dir);
-  if (names.length === 0 || names.includes(REPORT_MARKER)) return true;
-  // a report written before the marker existed
-  return names.includes('index.html') && names.includes('summary.md') && names.every((n) => /^[\w.-]+\.(html|md|csv|json)$/.test(n) && lstatSync(join(dir, n)).isFile());
+  if (names.length === 0 || names.includes(kind.marker)) return true;
+  // a folder of this kind written before the marker existed (or, for a waist, by the printed SQL)
+  return kind.looksLike(names, dir);
 }
 
 interface Leftover {

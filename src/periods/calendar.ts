@@ -81,3 +81,29 @@ export function periodKeyOfDate(text: string, scheme: PeriodScheme): number | un
   if (!/^\d{4}-\d{2}-\d{2}$/.test(text) || !dt.isValid) return undefined;
   return periodKeyOfDay(civilToDays(dt.year, dt.month, dt.day), scheme);
 }
+
+/**
+ * {@link periodKeyOfDay} for one scheme, for the readers' hot path: day and week keys by integer
+ * arithmetic (the weekday offset fixed once), month keys from a table filled as days are met (the civil
+ * calendar is asked once per distinct day). Same keys as periodKeyOfDay for every day.
+ * @example periodKeyer({ grain: 'week', weekStart: 'monday' })(20_815) // 2974 (the week of 2026-12-28)
+ */
+export function periodKeyer(scheme: PeriodScheme): (day: number) => number {
+  if (scheme.grain === 'day') return (day) => day;
+  if (scheme.grain === 'week') {
+    const shift = 3 - weekdayIndex(scheme.weekStart);
+    return (day) => Math.floor((day + shift) / 7);
+  }
+  // days 1899-12-31 to 2200-01-01 (the timestamps' range, with a day either side for offsets)
+  const first = civilToDays(1899, 12, 31);
+  const table = new Int32Array(civilToDays(2200, 1, 2) - first + 1);
+  return (day) => {
+    const i = day - first;
+    if (i < 0 || i >= table.length) return periodKeyOfDay(day, scheme);
+    const k = table[i];
+    if (k !== 0) return k - 1;
+    const key = periodKeyOfDay(day, scheme);
+    table[i] = key + 1;
+    return key;
+  };
+}

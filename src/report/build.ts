@@ -2,27 +2,38 @@
  * The Monday report's content: every analysis run on one set of waist tables, turned into findings,
  * charts and data tables. Pure: no I/O (see write.ts for the files).
  */
-import type { EngineResult } from '../engines/types.js';
 import { showValue } from '../errors.js';
+import { baseState } from '../lifecycle/states.js';
 import { cohortReport, type CohortsOutput } from '../explain/cohortReport.js';
 import { explainRetention, type ExplainOutput } from '../explain/run.js';
 import { summariseFlows, type FlowsSummary } from '../flows/summary.js';
 import { computeProjection, type ProjectOutput } from '../markov/run.js';
-import { GRAIN_NOUN } from '../periods/calendar.js';
-import type { Rules } from '../rules/schema.js';
+import { GRAIN_NOUN, type PeriodScheme } from '../periods/calendar.js';
+import type { Weekday } from '../rules/schema.js';
+import { noun, plural } from '../text/plural.js';
+import type { Waist } from '../waist/types.js';
+import { stateLabelsOf, type StateInfo } from '../waist/manifest.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../survival/run.js';
 import { cohortTriangleChart } from './charts/cohortTriangle.js';
 import { decompositionChart } from './charts/decomposition.js';
 import { flowRibbons } from './charts/flowRibbons.js';
-import { backtestChart, projectionChart } from './charts/projection.js';
+import { backtestChart, coverageChart, projectionChart, scenarioChart } from './charts/projection.js';
+import { lifecycleMoves } from '../lifecycle/moves.js';
 import { rateHeatmap } from './charts/rateHeatmap.js';
 import { retentionBands } from './charts/retentionBands.js';
 import { stateMix } from './charts/stateMix.js';
 import { survivalChart } from './charts/survival.js';
 import type { Chart, DataTable } from './charts/types.js';
+import { stateColours } from './palette.js';
+import type { ReportSection } from './sections/types.js';
+import { storyLines, storyTerms, type Comparison, type StoryLine, type Term } from './story.js';
 
 export interface ReportOptions {
-  /** Chosen comparison for the decomposition: periods retained into. Default: latest against `lookback` earlier. */
+  /**
+   * The one comparison of the findings: retention into `compare` against retention into `base`
+   * (periods retained into). Default: the latest period against the one before; `compare` alone:
+   * that period against the one before it.
+   */
   base?: string;
   compare?: string;
   /** Periods to project ahead (default 12). */
@@ -31,10 +42,16 @@ export interface ReportOptions {
   seed?: number;
   /** Sampled chains for the bands. */
   samples?: number;
-  /** Transitions the projection is fitted on (default: the last 8, or all when fewer). */
+  /** Transitions the projection is fitted on (default: the last 8, or all when fewer; the backtest uses the same window). */
   fit?: string;
   /** A note when the last, incomplete period was left out. */
   droppedPartial?: string;
+  /** Sections built from the events by the caller (report/sections/behaviour.ts): the data check first. */
+  sections?: ReportSection[];
+  /** Named scenarios (`NAME=edits`) compared with the baseline projection. */
+  scenarios?: string[];
+  /** A report from a store: what changed in the latest period (store/digest.ts), shown first. */
+  digest?: ReportSection;
 }
 
 export interface Finding {
@@ -43,13 +60,22 @@ export interface Finding {
 }
 
 export interface ReportModel {
+  /** The states of the rules, with roles, labels, colours and definitions (the waist's manifest). */
+  states: StateInfo[];
   title: string;
   subtitle: string;
   grainWord: string;
-  rules: { name?: string; version?: string; grain: string; timezone: string; lapseLimit: number; minEvents: number; keyEvents: string[] | null };
+  rules: { name?: string; version?: string; grain: string; weekStart: string; timezone: string; lapseLimit: number; minEvents: number; keyEvents: string[] | null };
   periods: { first: string; last: string; count: number };
   users: number;
-  rows: EngineResult['rows'];
+  rows: Waist['manifest']['rows'];
+  /** The comparison every finding uses (null when the data hold fewer than two periods retained into). */
+  comparison: Comparison | null;
+  /** The story: at most five short lines, each naming the periods it compares (story.ts). */
+  story: StoryLine[];
+  /** Terms of the trade used on the page, each with a one-line meaning. */
+  terms: Term[];
+  /** The longer findings behind the story, on the same comparison. */
   findings: Finding[];
   warnings: string[];
   cautions: string[];
@@ -58,6 +84,8 @@ export interface ReportModel {
   tables: (DataTable & { title: string; note?: string })[];
   /** Full results as JSON files (flows.json, explain.json, …). */
   documents: { name: string; value: unknown }[];
+  /** Sections from analyses of the events (the data check, behaviour); see report/sections/. */
+  sections: ReportSection[];
 }
 
 
@@ -79,9 +107,14 @@ export const CAUTIONS = [
 ];
 
 /** Build the report from one engine run. */
-export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions = {}): ReportModel {
-  const w = result.waist;
+export function buildReport(waist: Waist, o: ReportOptions = {}): ReportModel {
+  const w = waist.tables;
+  const m = waist.manifest;
+  const rules = m.rules;
+  const result = { rows: m.rows, lastPeriod: m.lastPeriod, warnings: m.warnings, events: m.events, users: m.users };
   const grainWord = GRAIN_NOUN[rules.grain];
+  const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart as Weekday };
+  const stateLabels = stateLabelsOf(m.states);
   const oneGrain = `one-${grainWord}`;
   const flows: FlowsSummary = summariseFlows(w);
   const charts: Chart[] = [];
@@ -91,56 +124,69 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   const last = flows.transitions[flows.transitions.length - 1];
 
   warnings.push(...result.warnings);
+  // ── hook: sections from the event analyses (report/sections/), built by the caller from the same read ──
+  const sections = [...(o.digest ? [o.digest] : []), ...(o.sections ?? [])];
+  const checkWarnings = sections.filter((s) => s.placement === 'first').reduce((n, s) => n + s.warnings.length, 0);
+  if (checkWarnings) warnings.unshift(`The data check found ${plural(checkWarnings, 'problem')} with the data (see its section, first on the page): read every number below with ${checkWarnings === 1 ? 'it' : 'them'} in mind.`);
+  // ── end of hook ──
   if (o.droppedPartial) warnings.push(o.droppedPartial);
-  if (w.warmup > 0) warnings.push(`The first ${w.warmup} ${grainWord}${w.warmup > 1 ? 's' : ''} (${w.periods.slice(0, w.warmup).join(', ')}) are a warm-up: classified, but left out of flows and retention.`);
-  const censoring = leftCensoringHint(flows, grainWord);
+  if (w.warmup > 0) warnings.push(`${w.warmup === 1 ? `The first ${grainWord}` : `The first ${plural(w.warmup, grainWord)}`} (${w.periods.slice(0, w.warmup).join(', ')}) ${w.warmup === 1 ? 'is' : 'are'} a warm-up: classified, but left out of flows and retention.`);
+  const censoring = leftCensoringHint(flows, grainWord, { arrival: w.arrivalState, continuing: m.states.find((s) => s.role === 'continuing')?.name });
   if (censoring) warnings.push(censoring);
+
+  // the one comparison of every finding: the user's, else the latest period retained into against the one before
+  const into = flows.transitions.map((t) => t.to);
+  let comparison: Comparison | null = null;
+  if (into.length >= 2 || (o.base && o.compare)) {
+    const compare = o.compare ?? into[into.length - 1];
+    const base = o.base ?? into[into.indexOf(compare) - 1];
+    // an unknown period, or nothing before it: explain throws the located error ("did you mean")
+    if (base === undefined) explainRetention(w, { compare, grainWord: oneGrain, minCell: rules.minCell });
+    comparison = { base: base as string, compare, chosen: Boolean(o.base || o.compare) };
+  }
 
   // flows
   if (last) {
-    charts.push(flowRibbons({ states: w.states, from: last.from, to: last.to, counts: last.counts, fresh: last.fresh }));
+    charts.push(flowRibbons({ states: w.states, from: last.from, to: last.to, counts: last.counts, fresh: last.fresh, arrival: w.arrivalState, colours: stateColours(w.states, m.states) }));
+    // the moves over the comparison: every transition into a period after its base, up to its compare
+    const iBase = comparison ? w.periods.indexOf(comparison.base) : w.periods.indexOf(last.from);
+    const iCompare = comparison ? w.periods.indexOf(comparison.compare) : w.periods.indexOf(last.to);
+    const span = flows.transitions.filter((t) => w.periods.indexOf(t.to) > iBase && w.periods.indexOf(t.to) <= iCompare);
+    const moved = w.states.map((_, i) => w.states.map((_, j) => span.reduce((a, t) => a + t.counts[i][j], 0)));
     const moves: { from: string; to: string; n: number; share: number }[] = [];
     w.states.forEach((a, i) => w.states.forEach((b, j) => {
-      const n = last.counts[i][j];
-      const rowN = last.counts[i].reduce((x, y) => x + y, 0);
+      const n = moved[i][j];
+      const rowN = moved[i].reduce((x, y) => x + y, 0);
       if (i !== j && n > 0) moves.push({ from: a, to: b, n, share: n / rowN });
     }));
     moves.sort((x, y) => y.n - x.n);
     const top = moves.slice(0, 3).map((m) => `${m.from} → ${m.to} ${n0(m.n)} (${p1(m.share)} of ${m.from})`);
-    findings.push({ kind: 'flow', text: `Biggest moves into ${last.to}: ${top.join('; ')}; ${n0(last.fresh)} new users arrived and ${n0(last.growth.returned)} came back, against ${n0(last.growth.newlyInactive)} who went quiet (quick ratio ${last.growth.quickRatio === null ? '–' : last.growth.quickRatio.toFixed(2)}).` });
+    const between = `${w.periods[iBase]} → ${w.periods[iCompare]}${span.length > 1 ? `, ${span.length} transitions added up` : ''}`;
+    findings.push({ kind: 'flow', text: `Biggest moves between states (${between}): ${top.length ? top.join('; ') : 'none'}.` });
     const recent = flows.transitions.slice(-4);
     const pooled = w.states.map((_, i) => w.states.map((_, j) => recent.reduce((a, t) => a + t.counts[i][j], 0)));
-    charts.push(rateHeatmap({ states: w.states, from: recent[0].from, to: recent[recent.length - 1].to, transitions: recent.length, counts: pooled, minCell: rules.minCell }));
+    charts.push(rateHeatmap({ states: w.states, from: recent[0].from, to: recent[recent.length - 1].to, transitions: recent.length, counts: pooled, minCell: rules.minCell, grain: grainWord }));
     const small = w.states.filter((_, i) => last.counts[i].reduce((a, b) => a + b, 0) > 0 && last.counts[i].reduce((a, b) => a + b, 0) < rules.minCell);
-    if (small.length) warnings.push(`Small cells: in the latest transition, ${small.join(', ')} had fewer than ${rules.minCell} users; their rates are shown faded and should not be read alone.`);
+    if (small.length) warnings.push(`Small cells: in the latest transition, ${small.join(', ')} had fewer than ${plural(rules.minCell, 'user')}; their rates are shown faded and should not be read alone.`);
   }
-  charts.push(stateMix(w.states, w.periods, w.stateCounts, grainWord));
-  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, grainWord, rules.minCell));
+  charts.push(stateMix({ states: w.states, periods: w.periods, stateCounts: w.stateCounts, grain: rules.grain, activeStates: w.activeStates, colours: stateColours(w.states, m.states) }));
+  if (flows.transitions.length > 0) charts.push(retentionBands(flows.transitions.flatMap((t) => w.activeStates.map((s) => ({ to: t.to, state: s, n: t.retention[s].n, retained: t.retention[s].retained }))), w.activeStates, rules.grain, rules.minCell, stateColours(w.activeStates, m.states)));
 
-  // explanation: latest change, and the chosen comparison
-  if (flows.transitions.length >= 2) {
-    const latest: ExplainOutput = explainRetention(w, { grainWord: oneGrain, minCell: rules.minCell });
-    documents.push({ name: 'explain-latest', value: latest });
-    const sig = latest.changes.filter((c) => c.significant && c.change !== null);
+  // explanation: why retention moved, on the comparison
+  let explained: ExplainOutput | undefined;
+  if (comparison) {
+    explained = explainRetention(w, { base: comparison.base, compare: comparison.compare, grainWord: oneGrain, minCell: rules.minCell, stateLabels });
+    documents.push({ name: 'explain', value: explained });
+    const sig = explained.changes.filter((c) => c.significant && c.change !== null);
     findings.push({
       kind: 'change',
       text: sig.length
-        ? `Significant changes in retention into ${latest.compare} against ${latest.base}: ${sig.map((c) => `${c.state} ${p1(c.base.rate)} → ${p1(c.compare.rate)} (${pts(c.change!)} points, 95% interval ${pts(c.lower!)} to ${pts(c.upper!)})`).join('; ')}; tested with two-proportion z-tests, Benjamini–Hochberg at 5%.`
-        : `No state's retention into ${latest.compare} changed significantly from ${latest.base} (two-proportion z-tests, Benjamini–Hochberg at 5%).`,
+        ? `Significant changes in retention by prior state (${explained.base} → ${explained.compare}): ${sig.map((c) => `${c.state} ${p1(c.base.rate)} → ${p1(c.compare.rate)} (${pts(c.change!)} points, 95% interval ${pts(c.lower!)} to ${pts(c.upper!)})`).join('; ')}; two-proportion z-tests, Benjamini–Hochberg at 5%.`
+        : `No state's retention changed significantly (${explained.base} → ${explained.compare}; two-proportion z-tests, Benjamini–Hochberg at 5%).`,
     });
-    charts.push(decompositionChart(latest, 'decomposition-latest', `${latest.base} to ${latest.compare}`));
-    const into = flows.transitions.map((t) => t.to);
-    const compare = o.compare ?? into[into.length - 1];
-    const base = o.base ?? into[Math.max(0, into.indexOf(compare) - 4)];
-    if (base !== latest.base || compare !== latest.compare) {
-      const chosen = explainRetention(w, { base, compare, grainWord: oneGrain, minCell: rules.minCell });
-      documents.push({ name: 'explain-chosen', value: chosen });
-      charts.push(decompositionChart(chosen, 'decomposition-chosen', `${chosen.base} to ${chosen.compare}`));
-      findings.push({ kind: 'decomposition', text: `${chosen.sentence.replace(/\.$/, '')} (retention into ${chosen.compare} against ${chosen.base}).` });
-    } else {
-      findings.push({ kind: 'decomposition', text: latest.sentence });
-    }
-    if (latest.simpson) warnings.push("Simpson's paradox in the latest change: overall retention moved against every state's own retention, because the mix shifted.");
+    charts.push(decompositionChart(explained, 'decomposition', `${explained.base} to ${explained.compare}`));
+    findings.push({ kind: 'decomposition', text: `${explained.sentence.replace(/\.$/, '')} (${explained.base} → ${explained.compare}).` });
+    if (explained.simpson) warnings.push(`Simpson's paradox (${explained.base} → ${explained.compare}): overall retention moved against every state's own retention, because the mix shifted.`);
   }
 
   // cohorts and survival
@@ -152,41 +198,59 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
     cohorts = cohortReport(recent, { ages: [1, 4, 12], window: [4, 8], groupBy: 'month', minN: rules.minCell });
     if (w.cohorts.length > recent.length) warnings.push(`The cohort analyses read the latest ${REPORT_COHORTS} of ${n0(w.cohorts.length)} acquisition cohorts (from ${recent[0].cohort}); tidemark cohorts gives every one.`);
     documents.push({ name: 'cohorts', value: cohorts });
-    charts.push(cohortTriangleChart(cohorts, grainWord, rules.minCell));
+    // a daily log's triangle is drawn by week (charts/cohortTriangle.ts): a year of weeks of daily cohorts
+    const drawn = rules.grain === 'day' ? w.cohorts.slice(-REPORT_COHORTS * 7) : recent;
+    charts.push(cohortTriangleChart(drawn, cohorts, { grain: grainWord, weekStart: scheme.weekStart, minCell: rules.minCell }));
   }
   if (w.durations.some((d) => d.observed === 1)) {
     const blocks = Math.max(1, Math.ceil(new Set(w.durations.map((d) => d.group)).size / 5));
     const surv: SurvivalOutput = survivalCurves(mergeCohorts(w.durations, blocks), 'cohort');
     documents.push({ name: 'survival', value: surv });
-    charts.push(survivalChart(surv, grainWord));
+    charts.push(survivalChart(surv, grainWord, w.exitState));
   }
 
   // projection
   if (flows.transitions.length >= 1) {
     const horizon = o.horizon ?? 12;
-    const fit = o.fit ?? String(Math.min(8, flows.transitions.length));
-    const proj: ProjectOutput = computeProjection({ tables: w }, { fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 4, backtestOrigins: REPORT_BACKTEST_ORIGINS });
+    const scheme = { grain: rules.grain, weekStart: rules.weekStart as Weekday };
+    const proj: ProjectOutput = computeProjection({ tables: w }, { fit: o.fit, horizon, samples: o.samples ?? 300, seed: o.seed ?? 1, band: [10, 90], backtestHorizon: 8, backtestOrigins: REPORT_BACKTEST_ORIGINS, scheme, scenarios: o.scenarios, moves: lifecycleMoves(rules), minSegment: rules.minCell });
     documents.push({ name: 'projection', value: proj });
-    charts.push(projectionChart(proj, grainWord));
+    charts.push(projectionChart(proj, grainWord, { periods: w.periods, stateCounts: w.stateCounts }, stateColours(proj.states, m.states)));
     const end = proj.projection[horizon];
     const mix = proj.states.map((s) => `${s} ${p1(end.shares[s])}${end.bands ? ` (${p1(end.bands.shares[s][0])}–${p1(end.bands.shares[s][1])})` : ''}`).join(', ');
-    findings.push({ kind: 'projection', text: `If the flows of the last ${proj.source.kind === 'events' ? proj.source.fit.transitions : ''} ${grainWord}s hold, in ${horizon} ${grainWord}s the mix is ${mix}; 10th–90th percentile bands.` });
+    findings.push({ kind: 'projection', text: `If the flows of the last ${proj.source.kind === 'events' ? proj.source.fit.transitions : ''} ${grainWord}s hold, in ${horizon} ${grainWord}s the mix is ${mix}; 80% bands from simulated paths in which the rates and arrivals vary as they did.` });
+    warnings.push(...proj.warnings);
+    const sc = scenarioChart(proj, grainWord);
+    if (sc) {
+      charts.push(sc);
+      findings.push({ kind: 'projection', text: `Scenarios: ${sc.reading}` });
+    }
     if (proj.backtest && 'rows' in proj.backtest) {
-      charts.push(backtestChart(proj.backtest, grainWord));
-      const bt = proj.backtest.rows[proj.backtest.rows.length - 1];
-      if (bt && bt.coverage < 0.6) warnings.push(`The projection bands held the actual mix only ${(bt.coverage * 100).toFixed(0)}% of the time in the backtest (${bt.horizon} ${grainWord}s ahead): they reflect sampling error in the fitted rates, not shifts in the flows themselves. Treat them as a floor on the uncertainty.`);
+      const bt = proj.backtest;
+      charts.push(backtestChart(bt, grainWord), coverageChart(bt, grainWord));
+      const below = bt.rows.filter((r) => r.coverage < bt.target.outer[0] - 1e-9 || r.innerCoverage < bt.target.inner[0] - 1e-9).map((r) => r.horizon);
+      const above = bt.rows.filter((r) => r.coverage > bt.target.outer[1] + 1e-9 || r.innerCoverage > bt.target.inner[1] + 1e-9).map((r) => r.horizon);
+      const breaks = bt.missed.slice(0, 4).map((m) => m.period).join(', ');
+      const ahead = (hs: number[]) => `${hs.join(', ')} ${grainWord}${hs.length > 1 || hs[0] > 1 ? 's' : ''} ahead`;
+      if (below.length) warnings.push(`The projection bands held less than their target in the backtest at ${ahead(below)}${breaks ? `; the misses cluster on ${breaks}, where the flows changed beyond their past variation (a structural break, such as a promotion or a change of rules, which no band built from the past foresees)` : ': the flows varied more than the fit window showed'}.`);
+      if (above.length) warnings.push(`The projection bands were wider than needed in the backtest at ${ahead(above)} (they held more than their target).`);
+      if (!below.length && breaks) warnings.push(`The projection bands missed most of what happened in ${breaks}: the flows changed there beyond their past variation (a structural break).`);
     }
   }
+
+  const projected = documents.find((d) => d.name === 'projection')?.value as ProjectOutput | undefined;
+  const story = storyLines({ flows, periods: w.periods, stateCounts: w.stateCounts, activeStates: w.activeStates, states: m.states, grain: grainWord, scheme, users: result.users, comparison: comparison ?? undefined, explained, projection: projected });
+  const terms = storyTerms(story, m.states, grainWord, projected?.projection[0]?.bands?.percentiles);
 
   const tables: ReportModel['tables'] = [];
   tables.push({
     name: 'growth', title: `${grainWord[0].toUpperCase()}${grainWord.slice(1)} by ${grainWord}: growth accounting`,
-    note: 'active = active before − went quiet + new + came back; quick ratio = (new + came back) / went quiet.',
+    note: 'active = active before − went quiet + new + came back; quick ratio = (new + came back) / went quiet: above 1, the active audience grows.',
     header: ['into', 'active', 'new', 'came back', 'went quiet', 'quick ratio'],
     formats: ['text', 'int', 'int', 'int', 'int', 'num'],
     rows: flows.transitions.map((t) => [t.to, t.growth.activeAfter, t.fresh, t.growth.returned, t.growth.newlyInactive, t.growth.quickRatio === null ? null : Number(t.growth.quickRatio.toFixed(2))]),
   });
-  const chosenDoc = documents.find((d) => d.name === 'explain-chosen')?.value as ExplainOutput | undefined;
+  const chosenDoc = explained;
   const seg = chosenDoc?.bySegment;
   if (seg) {
     tables.push({
@@ -204,39 +268,47 @@ export function buildReport(result: EngineResult, rules: Rules, o: ReportOptions
   });
 
   return {
+    states: m.states,
     title: `Lifecycle report, ${w.periods[0]} to ${w.periods[w.periods.length - 1]}`,
-    subtitle: `${n0(result.users)} users, ${w.periods.length} ${grainWord}s, rules ${rules.name ?? 'unnamed'}${rules.version ? ` v${rules.version}` : ''} (${rules.timezone}, lapse limit ${rules.lapseLimit})`,
+    subtitle: `${plural(result.users, 'user')}, ${plural(w.periods.length, grainWord)}, rules ${rules.name ?? 'unnamed'}${rules.version ? ` v${rules.version}` : ''} (${rules.timezone}, lapse limit ${rules.lapseLimit})`,
     grainWord,
-    rules: { name: rules.name, version: rules.version, grain: rules.grain, timezone: rules.timezone, lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents, keyEvents: rules.activity.keyEvents ?? null },
+    rules: { name: rules.name ?? undefined, version: rules.version ?? undefined, grain: rules.grain, weekStart: rules.weekStart, timezone: rules.timezone, lapseLimit: rules.lapseLimit, minEvents: rules.minEvents, keyEvents: rules.keyEvents },
     periods: { first: w.periods[0], last: w.periods[w.periods.length - 1], count: w.periods.length },
     users: result.users,
     rows: result.rows,
+    comparison,
+    story,
+    terms,
     findings,
     warnings,
     cautions: CAUTIONS,
     charts,
     tables,
     documents,
+    sections,
   };
 }
 
 /**
- * An export that starts in the middle of users' histories shows long-standing users as "fresh" in
- * its first period; they retain like veterans. Warn when the first period's fresh users retain far
- * better (10 points or more) than later newcomers and closer to engaged users.
+ * An export that starts in the middle of users' histories shows long-standing users as arrivals in
+ * its first period; they retain like veterans. Warn when the first period's arrivals retain far
+ * better (10 points or more) than later arrivals and closer to users in the continuing state. The
+ * states are asked for by role (default: the base states').
  */
-export function leftCensoringHint(f: FlowsSummary, grainWord: string): string | undefined {
+export function leftCensoringHint(f: FlowsSummary, grainWord: string, roles: { arrival?: string; continuing?: string } = {}): string | undefined {
+  const arrival = roles.arrival ?? baseState('arrival');
+  const continuing = roles.continuing ?? baseState('continuing');
   if (f.warmupPeriods.length > 0 || f.transitions.length < 4) return undefined;
-  const first = f.transitions[0].retention.fresh;
+  const first = f.transitions[0].retention[arrival];
   const later = f.transitions.slice(1);
-  const n = later.reduce((a, t) => a + t.retention.fresh.n, 0);
-  const kept = later.reduce((a, t) => a + t.retention.fresh.retained, 0);
-  const en = later.reduce((a, t) => a + (t.retention.engaged?.n ?? 0), 0);
-  const ek = later.reduce((a, t) => a + (t.retention.engaged?.retained ?? 0), 0);
+  const n = later.reduce((a, t) => a + (t.retention[arrival]?.n ?? 0), 0);
+  const kept = later.reduce((a, t) => a + (t.retention[arrival]?.retained ?? 0), 0);
+  const en = later.reduce((a, t) => a + (t.retention[continuing]?.n ?? 0), 0);
+  const ek = later.reduce((a, t) => a + (t.retention[continuing]?.retained ?? 0), 0);
   if (!first || first.rate === null || n === 0 || en === 0) return undefined;
-  const freshLater = kept / n, engaged = ek / en;
-  if (first.rate - freshLater >= 0.1 && Math.abs(first.rate - engaged) < Math.abs(first.rate - freshLater)) {
-    return `The data may start in the middle of users' histories: users first seen in ${f.periods[0]} kept ${p1(first.rate)} active the next ${grainWord}, like engaged users (${p1(engaged)}), not like later newcomers (${p1(freshLater)}). Consider a warm-up (rules key warmup, or --warmup) of a few ${grainWord}s.`;
+  const freshLater = kept / n, steady = ek / en;
+  if (first.rate - freshLater >= 0.1 && Math.abs(first.rate - steady) < Math.abs(first.rate - freshLater)) {
+    return `The data may start in the middle of users' histories: users first seen in ${f.periods[0]} kept ${p1(first.rate)} active the next ${grainWord}, like ${continuing} users (${p1(steady)}), not like later arrivals (${p1(freshLater)}). Consider a warm-up (rules key warmup, or --warmup) of a few ${noun(2, grainWord)}.`;
   }
   return undefined;
 }

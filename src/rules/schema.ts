@@ -6,6 +6,7 @@
  */
 import { z } from 'zod';
 import { IANAZone } from 'luxon';
+import { SPLITTABLE, STATES } from '../lifecycle/states.js';
 
 export const GRAINS = ['day', 'week', 'month'] as const;
 export const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday'] as const;
@@ -61,6 +62,20 @@ export const columnsSchema = z
   })
   .describe('Names of the input columns, when they differ from user_id, timestamp and event.');
 
+const stateNameText = z
+  .string()
+  .regex(/^[a-z][a-z0-9_]{0,39}$/, 'a state name is 1 to 40 lower-case letters, digits or underscores, starting with a letter');
+
+/** A split of an active state by key events in the period (see src/lifecycle/states.ts). */
+export const splitSchema = z
+  .strictObject({
+    state: z.enum(SPLITTABLE as [string, ...string[]]).describe('The active state to split (not the arrival state).'),
+    atLeast: wholeNumber('atLeast', 2, RULES_BOUNDS.minEvents, 'events').describe('Key events in the period from which a user is in the second sub-state.'),
+    names: z.tuple([stateNameText, stateNameText]).describe('Names of the two sub-states: [fewer than atLeast, atLeast or more].'),
+    labels: z.tuple([z.string().min(1).max(60), z.string().min(1).max(60)]).optional().describe('Plural nouns for sentences, [below, at or above]; default "<name> users".'),
+  })
+  .describe('Split an active state into two by how many key events a user had in the period.');
+
 export const rulesSchema = z
   .strictObject({
     name: z.string().min(1).optional().describe('A short name for this rule set, shown in reports.'),
@@ -100,6 +115,18 @@ export const rulesSchema = z
       .default(30)
       .describe('Cells with fewer users than this are flagged as small.'),
     columns: columnsSchema.default({ user: 'user_id', timestamp: 'timestamp', event: 'event' }),
+    splits: z.array(splitSchema).max(SPLITTABLE.length).default([]).describe('Active states split by key events in the period; each at most once.'),
+  })
+  .superRefine((r, ctx) => {
+    const taken = new Set<string>(STATES);
+    r.splits.forEach((s, i) => {
+      if (r.splits.findIndex((t) => t.state === s.state) !== i) ctx.addIssue({ code: 'custom', path: ['splits', i, 'state'], message: `${s.state} is split twice` });
+      if (s.atLeast <= r.activity.minEvents) ctx.addIssue({ code: 'custom', path: ['splits', i, 'atLeast'], message: `atLeast must be more than activity.minEvents (${r.activity.minEvents}), or every active user is in the second sub-state` });
+      s.names.forEach((n, j) => {
+        if (taken.has(n)) ctx.addIssue({ code: 'custom', path: ['splits', i, 'names', j], message: `'${n}' is already a state name` });
+        taken.add(n);
+      });
+    });
   })
   .describe('tidemark lifecycle rules.');
 

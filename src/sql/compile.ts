@@ -13,12 +13,15 @@
  *   tm_spans    quiet runs as spans of periods; tm_span_counts turns them into per-period counts
  *               with running sums over the periods, so nothing is expanded per user and period
  *   tm_attr     the `--by` value of each (user, period): on the latest event, ties to the largest
- *               value in code-point order
+ *               value in code-point order; a user's segment is the value in their first active period
+ * Split states (rules `splits`): the gap model gives the base state of each active period, and the
+ * period's key events pick the sub-state, as the machine does.
  * and the tables and summaries read those. Period keys are integers (days, weeks, months since an
  * epoch, as src/periods/calendar.ts), so period arithmetic is integer arithmetic in every dialect.
  */
-import { bandLabels } from '../flows/aggregate.js';
+import { bandLabels } from '../flows/tenure.js';
 import { WINDOW_MAX_AGE } from '../flows/types.js';
+import { stateNames } from '../lifecycle/states.js';
 import { weekdayIndex } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
 import type { TableName } from '../waist/tables.js';
@@ -84,6 +87,7 @@ export interface Compiled {
     /** label: every output period, in order. */
     periods: string;
   };
+  /** The gap model, its indices into the output states (split sub-states included). */
   model: GapModel;
 }
 
@@ -95,7 +99,16 @@ export interface CompileInput {
 }
 
 export function compile({ dialect: D, rules, source, range = {} }: CompileInput): Compiled {
-  const m = gapModel(rules);
+  const base = gapModel(rules);
+  const outStates = stateNames(rules);
+  const outIndex = (b: number) => outStates.indexOf(base.states[b]);
+  const m: GapModel = { ...base, states: outStates, arrival: outIndex(base.arrival), continuing: -1, returning: -1, lapse: base.lapse < 0 ? -1 : outIndex(base.lapse), exit: outIndex(base.exit) };
+  /** The code of an active base state given the period's key events `ev`: its sub-state when split. */
+  const activeCode = (b: number, ev: string): string => {
+    const split = rules.splits.find((x) => x.state === base.states[b]);
+    if (!split) return String(outIndex(b));
+    return `CASE WHEN ${ev} >= ${split.atLeast} THEN ${outStates.indexOf(split.names[1])} ELSE ${outStates.indexOf(split.names[0])} END`;
+  };
   const L = m.lapseLimit;
   const W = range.warmup ?? rules.warmup;
   const has = source.has;
@@ -258,26 +271,37 @@ FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k
 
   // ---- lifecycle
   cte('tm_active', `(user, ${rules.grain}) with at least ${rules.activity.minEvents} key event(s)`,
-    `SELECT user_id, k FROM tm_used GROUP BY user_id, k HAVING count(*) >= ${rules.activity.minEvents}`);
+    `SELECT user_id, k, count(*) AS ev FROM tm_used GROUP BY user_id, k HAVING count(*) >= ${rules.activity.minEvents}`);
+  if (has.by) {
+    const v = "coalesce(by_value, '')";
+    cte('tm_attr', 'the --by value of each (user, period): on its latest event; on a tie, the largest value in code-point order',
+      `SELECT user_id, k, v FROM (
+  SELECT user_id, k, ${v} AS v, row_number() OVER (PARTITION BY user_id, k ORDER BY wall_ms DESC, ${D.binaryOrder(v)} DESC) AS rn FROM tm_used
+) x WHERE rn = 1${D.fence}`);
+  }
   cte('tm_runs', 'each active period with the active periods before and after it',
-    `SELECT user_id, k,
+    `SELECT user_id, k, ev,
+  lag(ev) OVER (PARTITION BY user_id ORDER BY k) AS prev_ev,
   lag(k) OVER (PARTITION BY user_id ORDER BY k) AS prev_k,
   lag(k, 2) OVER (PARTITION BY user_id ORDER BY k) AS prev2_k,
   lead(k) OVER (PARTITION BY user_id ORDER BY k) AS next_k,
   first_value(k) OVER (PARTITION BY user_id ORDER BY k) AS first_k
-FROM tm_active`);
-  const stateAt = (k: string, prev: string) => `CASE WHEN ${prev} IS NULL THEN ${m.arrival} WHEN ${prev} = ${k} - 1 THEN ${m.continuing} ELSE ${m.returning} END`;
+FROM tm_active${D.fence}`);
+  const stateAt = (k: string, prev: string, ev: string) => `CASE WHEN ${prev} IS NULL THEN ${m.arrival} WHEN ${prev} = ${k} - 1 THEN ${activeCode(base.continuing, ev)} ELSE ${activeCode(base.returning, ev)} END`;
   const quietState = (j: string) => (L === 0 ? String(m.exit) : `CASE WHEN ${j} <= ${L} THEN ${m.lapse} ELSE ${m.exit} END`);
   cte('tm_life', 'the state of each active period, the state in the period before it, and the quiet periods after it',
     `SELECT r.user_id, r.k, r.prev_k, r.next_k, r.first_k,
-  ${stateAt('r.k', 'r.prev_k')} AS st,
-  CASE WHEN r.prev_k IS NULL THEN NULL WHEN r.prev_k = r.k - 1 THEN ${stateAt('r.prev_k', 'r.prev2_k')} ELSE ${quietState('r.k - r.prev_k - 1')} END AS st_before,
-  CASE WHEN r.next_k IS NULL THEN b.end_key ELSE r.next_k - 1 END - r.k AS quiet
-FROM tm_runs r CROSS JOIN tm_bounds b`);
+  ${stateAt('r.k', 'r.prev_k', 'r.ev')} AS st,
+  CASE WHEN r.prev_k IS NULL THEN NULL WHEN r.prev_k = r.k - 1 THEN ${stateAt('r.prev_k', 'r.prev2_k', 'r.prev_ev')} ELSE ${quietState('r.k - r.prev_k - 1')} END AS st_before,
+  CASE WHEN r.next_k IS NULL THEN b.end_key ELSE r.next_k - 1 END - r.k AS quiet${has.by ? `,
+  CASE WHEN a.v IS NULL OR a.v = '' THEN '(none)' ELSE a.v END AS seg` : ''}
+FROM tm_runs r CROSS JOIN tm_bounds b${has.by ? '\nLEFT JOIN tm_attr a ON a.user_id = r.user_id AND a.k = r.first_k' : ''}${D.fence}`);
   // quiet runs as spans [lo, hi] of periods: state counts (sf = -1) and transitions (sf → st)
   const spans: string[] = [];
+  // with --by, every quiet span keeps its user's segment, so the segment tables read the same counts
+  const G = has.by ? ', seg' : '';
   const span = (sf: string, st: number, lo: string, hi: string, when: string, clip: 'out_key' | 'flow_key + 1') =>
-    spans.push(`SELECT ${sf} AS sf, ${st} AS st, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi FROM tm_life CROSS JOIN tm_bounds WHERE ${when}`);
+    spans.push(`SELECT ${sf} AS sf, ${st} AS st${G}, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi FROM tm_life CROSS JOIN tm_bounds WHERE ${when}`);
   if (L >= 1) span('-1', m.lapse, 'k + 1', `k + CASE WHEN quiet < ${L} THEN quiet ELSE ${L} END`, 'quiet >= 1', 'out_key');
   span('-1', m.exit, `k + ${L + 1}`, 'k + quiet', `quiet >= ${L + 1}`, 'out_key');
   span('st', L >= 1 ? m.lapse : m.exit, 'k + 1', 'k + 1', 'quiet >= 1', 'flow_key + 1');
@@ -285,24 +309,17 @@ FROM tm_runs r CROSS JOIN tm_bounds b`);
   if (L >= 1) span(String(m.lapse), m.exit, `k + ${L + 1}`, `k + ${L + 1}`, `quiet >= ${L + 1}`, 'flow_key + 1');
   span(String(m.exit), m.exit, `k + ${Math.max(2, L + 2)}`, 'k + quiet', `quiet >= ${Math.max(2, L + 2)}`, 'flow_key + 1');
   cte('tm_spans', 'quiet runs as spans of periods: in a quiet state (sf = -1), or moving from sf to st',
-    `SELECT sf, st, lo, hi FROM (\n${spans.join('\nUNION ALL\n')}\n) x WHERE lo <= hi`);
+    `SELECT sf, st${G}, lo, hi FROM (\n${spans.join('\nUNION ALL\n')}\n) x WHERE lo <= hi`);
   cte('tm_deltas', 'where spans start (+) and end (−)',
-    `SELECT sf, st, p, SUM(d) AS d FROM (
-  SELECT sf, st, lo AS p, count(*) AS d FROM tm_spans GROUP BY sf, st, lo
+    `SELECT sf, st${G}, p, SUM(d) AS d FROM (
+  SELECT sf, st${G}, lo AS p, count(*) AS d FROM tm_spans GROUP BY sf, st${G}, lo
   UNION ALL
-  SELECT sf, st, hi + 1 AS p, -count(*) AS d FROM tm_spans GROUP BY sf, st, hi + 1
-) x GROUP BY sf, st, p`);
+  SELECT sf, st${G}, hi + 1 AS p, -count(*) AS d FROM tm_spans GROUP BY sf, st${G}, hi + 1
+) x GROUP BY sf, st${G}, p`);
   cte('tm_span_counts', 'users in each span kind in each period: running sums of the deltas',
-    `SELECT g.sf, g.st, g.p, SUM(coalesce(d.d, 0)) OVER (PARTITION BY g.sf, g.st ORDER BY g.p ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS n
-FROM (SELECT kd.sf, kd.st, pe.k AS p FROM (SELECT DISTINCT sf, st FROM tm_spans) kd CROSS JOIN tm_periods pe) g
-LEFT JOIN tm_deltas d ON d.sf = g.sf AND d.st = g.st AND d.p = g.p`);
-  if (has.by) {
-    const v = "coalesce(by_value, '')";
-    cte('tm_attr', 'the --by value of each (user, period): on its latest event; on a tie, the largest value in code-point order',
-      `SELECT user_id, k, v FROM (
-  SELECT user_id, k, ${v} AS v, row_number() OVER (PARTITION BY user_id, k ORDER BY wall_ms DESC, ${D.binaryOrder(v)} DESC) AS rn FROM tm_used
-) x WHERE rn = 1`);
-  }
+    `SELECT g.sf, g.st${has.by ? ', g.seg' : ''}, g.p, SUM(coalesce(d.d, 0)) OVER (PARTITION BY g.sf, g.st${has.by ? ', g.seg' : ''} ORDER BY g.p ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS n
+FROM (SELECT kd.sf, kd.st${has.by ? ', kd.seg' : ''}, pe.k AS p FROM (SELECT DISTINCT sf, st${G} FROM tm_spans) kd CROSS JOIN tm_periods pe) g
+LEFT JOIN tm_deltas d ON d.sf = g.sf AND d.st = g.st${has.by ? ' AND d.seg = g.seg' : ''} AND d.p = g.p`);
   const segment = "CASE WHEN a.v = '' THEN '(none)' ELSE a.v END";
 
   // ---- the tables
@@ -325,11 +342,33 @@ FROM (SELECT l.k AS p, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE
 ORDER BY x.p`,
     stateCounts: `SELECT pe.label AS period, ${name('x.s')} AS state, x.n AS users
 FROM (
-  SELECT l.k AS p, l.st AS s, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.k >= b.out_key GROUP BY l.k, l.st
-  UNION ALL
-  SELECT p, st AS s, n FROM tm_span_counts WHERE sf = -1 AND n > 0
+  SELECT p, s, SUM(n) AS n FROM (
+    SELECT l.k AS p, l.st AS s, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.k >= b.out_key GROUP BY l.k, l.st
+    UNION ALL
+    SELECT p, st AS s, n FROM tm_span_counts WHERE sf = -1 AND n > 0
+  ) y GROUP BY p, s
 ) x JOIN tm_periods pe ON pe.k = x.p
 ORDER BY x.p, x.s`,
+    segmentStateCounts: has.by ? `SELECT x.seg AS segment, pe.label AS period, ${name('x.s')} AS state, x.n AS users
+FROM (
+  SELECT seg, p, s, SUM(n) AS n FROM (
+    SELECT l.seg, l.k AS p, l.st AS s, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.k >= b.out_key GROUP BY l.seg, l.k, l.st
+    UNION ALL
+    SELECT seg, p, st AS s, n FROM tm_span_counts WHERE sf = -1 AND n > 0
+  ) y GROUP BY seg, p, s
+) x JOIN tm_periods pe ON pe.k = x.p
+ORDER BY ${D.binaryOrder('x.seg')}, x.p, x.s`
+      : `SELECT CAST(NULL AS ${D.text}) AS segment, label AS period, CAST(NULL AS ${D.text}) AS state, 0 AS users FROM tm_periods WHERE 1 = 0`,
+    segmentTransitions: has.by ? `SELECT x.seg AS segment, pf.label AS period_from, pt.label AS period_to, ${name('x.sf')} AS state_from, ${name('x.st')} AS state_to, x.n AS users
+FROM (
+  SELECT seg, p, sf, st, SUM(n) AS n FROM (
+    SELECT l.seg, l.k AS p, l.st_before AS sf, l.st, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.prev_k IS NOT NULL AND l.k - 1 >= b.flow_key GROUP BY l.seg, l.k, l.st_before, l.st
+    UNION ALL
+    SELECT seg, p, sf, st, n FROM tm_span_counts WHERE sf >= 0 AND n > 0
+  ) y GROUP BY seg, p, sf, st
+) x JOIN tm_periods pt ON pt.k = x.p JOIN tm_periods pf ON pf.k = x.p - 1
+ORDER BY ${D.binaryOrder('x.seg')}, x.p, x.sf, x.st`
+      : `SELECT CAST(NULL AS ${D.text}) AS segment, label AS period_from, label AS period_to, CAST(NULL AS ${D.text}) AS state_from, CAST(NULL AS ${D.text}) AS state_to, 0 AS users FROM tm_periods WHERE 1 = 0`,
     retentionCells: `SELECT pe.label AS period_to, ${name('x.st')} AS state_from, x.split, x.segment, x.users, x.retained
 FROM (
   SELECT l.k + 1 AS p, l.st, 'tenure' AS split, ${band('l.k - l.first_k')} AS segment, count(*) AS users,

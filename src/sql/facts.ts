@@ -7,15 +7,13 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { TidemarkError } from '../errors.js';
-import { bandLabels } from '../flows/aggregate.js';
 import type { RowAccount } from '../ingest/eventLog.js';
 import { checkUniqueness, uniquenessOf } from '../lifecycle/perPerson.js';
-import { stateTable } from '../lifecycle/states.js';
-import { GRAIN_NOUN, periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
+import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
-import { TIDEMARK_VERSION } from '../waist/build.js';
+import { makeManifest } from '../waist/build.js';
 import { waistCsv } from '../waist/csv.js';
-import { WAIST_FORMAT, WAIST_VERSION, type WaistManifest } from '../waist/manifest.js';
+import type { WaistManifest } from '../waist/manifest.js';
 import { readWaist } from '../waist/read.js';
 import { WAIST_TABLES, type TableName } from '../waist/tables.js';
 import type { Waist } from '../waist/types.js';
@@ -38,7 +36,8 @@ export interface SqlFacts {
   uniqueness: { with_value: number; with_own: number };
   /** Rows a reader rejected before SQL saw them (CSV structure), by reason. */
   readerRejects?: Record<string, number>;
-  blankLines?: number;
+  /** Header lines the reader skipped (one a CSV file; none for NDJSON, Parquet or a table). */
+  headerLines?: number;
 }
 
 export interface FactsContext {
@@ -53,16 +52,21 @@ export interface FactsContext {
   file?: string;
 }
 
-/** The row accounting (read = used + notKeyEvent + afterRange + Σ rejected). */
+/**
+ * The row accounting (read = used + notKeyEvent + afterRange + Σ rejected) and the line accounting.
+ * SQL sees records, not physical lines: it counts one line a record (a quoted line break inside a
+ * field is not seen), the header lines the reader skipped, and the blank lines a reader marked.
+ */
 export function rowAccount(f: SqlFacts): RowAccount {
-  const rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, blankLines: f.blankLines ?? 0 };
+  const lines = { read: 0, header: f.headerLines ?? 0, blank: 0, records: 0, rejected: 0 };
+  const rows: RowAccount = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, lines };
   const rejected = rows.rejected as Record<string, number>;
   for (const a of f.accounting) {
     if (a.reason !== BLANK_REASON) rows.read += a.n;
     if (a.status === 'used') rows.used += a.n;
     else if (a.status === 'notkey') rows.notKeyEvent += a.n;
     else if (a.status === 'after') rows.afterRange += a.n;
-    else if (a.reason === BLANK_REASON) rows.blankLines += a.n;
+    else if (a.reason === BLANK_REASON) lines.blank += a.n;
     else rejected[a.reason as string] = (rejected[a.reason as string] ?? 0) + a.n;
   }
   for (const [reason, n] of Object.entries(f.readerRejects ?? {})) {
@@ -70,6 +74,9 @@ export function rowAccount(f: SqlFacts): RowAccount {
     rows.read += n;
     rejected[reason] = (rejected[reason] ?? 0) + n;
   }
+  lines.rejected = Object.values(rejected).reduce((a, b) => a + (b ?? 0), 0);
+  lines.records = rows.read - lines.rejected;
+  lines.read = lines.header + lines.blank + lines.records + lines.rejected;
   return rows;
 }
 
@@ -111,27 +118,12 @@ export function manifestOf(f: SqlFacts, periods: string[], ctx: FactsContext): W
     .sort((a, b) => b.n - a.n || (a.event < b.event ? -1 : a.event > b.event ? 1 : 0))
     .slice(0, EVENT_NAMES_KEPT)
     .map((e) => ({ name: e.event, rows: e.n, key: !keySet || keySet.has(e.event) }));
-  return {
-    format: WAIST_FORMAT,
-    version: WAIST_VERSION,
-    rules: {
-      name: rules.name ?? null,
-      version: rules.version ?? null,
-      grain: rules.grain,
-      weekStart: rules.weekStart,
-      timezone: rules.timezone,
-      lapseLimit: rules.lapseLimit,
-      minEvents: rules.activity.minEvents,
-      keyEvents: rules.activity.keyEvents ?? null,
-      tenureEdges: [...rules.tenureBands],
-      tenureLabels: bandLabels(rules.tenureBands),
-      warmup,
-      minCell: rules.minCell,
-    },
-    states: stateTable({ lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents }, GRAIN_NOUN[rules.grain]),
-    engine: { name: ctx.engine, version: TIDEMARK_VERSION },
+  return makeManifest({
+    rules,
+    warmup,
     periods,
-    rows: { ...rows } as unknown as WaistManifest['rows'],
+    engine: ctx.engine,
+    rows,
     rowsInLastPeriod: f.lastPeriod.n,
     lastPeriod: { label: label(r.end_key), coverage, complete: later || maxWall >= endMs - (endMs - startMs) / 7 },
     users: f.users,
@@ -139,7 +131,8 @@ export function manifestOf(f: SqlFacts, periods: string[], ctx: FactsContext): W
     attributes: ctx.attributes.map((name, i) => ({ name, values: f.attributeValues[i] ?? 0 })),
     by: ctx.by ?? null,
     byPerPerson,
-  };
+    warnings: [],
+  });
 }
 
 /** One table's rows as the SQL returned them (columns as in WAIST_TABLES). */

@@ -33,7 +33,9 @@ export interface GapModel {
  * @example gapModel({ lapseLimit: 2 }) // { arrival: 0, continuing: 1, returning: 2, lapse: 3, exit: 4, … }
  */
 export function gapModel(rules: Pick<Rules, 'lapseLimit'>): GapModel {
-  const plan = compilePlan(rules);
+  // the base machine: split sub-states share their state's transitions (src/lifecycle/machine.ts),
+  // so the compiler picks a sub-state by the period's key events after the gap model gave the state
+  const plan = compilePlan({ lapseLimit: rules.lapseLimit });
   const L = plan.lapseLimit;
   const ACTIVE = 1, QUIET = 0;
   const step = (code: number, idle: number, level: number) => planStep(plan, code, idle, level);

@@ -4,13 +4,10 @@
  * events, the --by attribute) counted by one query whose single cell is the whole manifest.json.
  * The same counts as src/sql/facts.ts makes from an engine's results.
  */
-import { bandLabels } from '../flows/aggregate.js';
 import { PER_PERSON_MIN_USERS, PER_PERSON_SHARE } from '../lifecycle/perPerson.js';
-import { stateTable } from '../lifecycle/states.js';
-import { GRAIN_NOUN, weekdayIndex } from '../periods/calendar.js';
+import { weekdayIndex } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
-import { TIDEMARK_VERSION } from '../waist/build.js';
-import { WAIST_FORMAT, WAIST_VERSION } from '../waist/manifest.js';
+import { makeManifest } from '../waist/build.js';
 import { EVENT_NAMES_KEPT } from './compile.js';
 import type { Dialect } from './dialects.js';
 
@@ -18,35 +15,14 @@ const DAY = 86_400_000;
 
 /** The manifest fields known without data, in manifest order; `null` marks a field the data fill. */
 export function staticManifest(rules: Rules, engine: string, warmup: number, by: string | undefined): Record<string, unknown> {
-  return {
-    format: WAIST_FORMAT,
-    version: WAIST_VERSION,
-    rules: {
-      name: rules.name ?? null,
-      version: rules.version ?? null,
-      grain: rules.grain,
-      weekStart: rules.weekStart,
-      timezone: rules.timezone,
-      lapseLimit: rules.lapseLimit,
-      minEvents: rules.activity.minEvents,
-      keyEvents: rules.activity.keyEvents ?? null,
-      tenureEdges: [...rules.tenureBands],
-      tenureLabels: bandLabels(rules.tenureBands),
-      warmup,
-      minCell: rules.minCell,
-    },
-    states: stateTable({ lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents }, GRAIN_NOUN[rules.grain]),
-    engine: { name: engine, version: TIDEMARK_VERSION },
-    periods: null,
-    rows: null,
-    rowsInLastPeriod: null,
-    lastPeriod: null,
-    users: null,
-    events: null,
-    attributes: null,
-    by: by ?? null,
-    byPerPerson: null,
-  };
+  // the engines' own manifest builder, with the data's fields blanked: rules, states and splits as every engine writes them
+  const rows = { read: 0, used: 0, notKeyEvent: 0, afterRange: 0, partial: 0, rejected: {}, lines: { read: 0, header: 0, blank: 0, records: 0, rejected: 0 } };
+  const m: Record<string, unknown> = makeManifest({
+    rules, warmup, periods: [], engine, rows, rowsInLastPeriod: 0, lastPeriod: { label: '', coverage: 0, complete: false },
+    users: 0, events: [], attributes: [], by: by ?? null, byPerPerson: false, warnings: [],
+  });
+  for (const f of DATA_FIELDS) m[f] = null;
+  return m;
 }
 
 /** The fields of {@link staticManifest} that the manifest query fills. */
@@ -75,7 +51,8 @@ export function manifestSelect(D: Dialect, rules: Rules, engine: string, warmup:
   const from = [
     'tm_bounds b',
     `(SELECT count(*) AS n, max(u.wall_ms) AS max_wall FROM tm_used u CROSS JOIN tm_bounds bb WHERE u.k = bb.end_key) lp`,
-    `(SELECT ${sum("coalesce(reason, '') <> '(blank line)'")} AS read_rows, ${sum("status = 'used'")} AS used_rows, ${sum("status = 'notkey'")} AS notkey_rows, ${sum("status = 'after'")} AS after_rows
+    `(SELECT ${sum("coalesce(reason, '') <> '(blank line)'")} AS read_rows, ${sum("status = 'used'")} AS used_rows, ${sum("status = 'notkey'")} AS notkey_rows, ${sum("status = 'after'")} AS after_rows,
+     ${sum("status = 'rejected' AND reason <> '(blank line)'")} AS rejected_rows, ${sum("reason = '(blank line)'")} AS blank_rows
    FROM (SELECT status, reason, count(*) AS n FROM tm_ev GROUP BY status, reason) a) ac`,
     `(SELECT coalesce(${D.commaAgg(`${D.jsonString('reason')} || ':' || ${D.numText('n')}`, 'rn')}, '') AS txt
    FROM (SELECT reason, n, row_number() OVER (ORDER BY ${D.binaryOrder('reason')}) AS rn FROM (SELECT reason, count(*) AS n FROM tm_ev WHERE status = 'rejected' AND reason <> '(blank line)' GROUP BY reason) r0) r1) rj`,
@@ -101,7 +78,12 @@ export function manifestSelect(D: Dialect, rules: Rules, engine: string, warmup:
     D.str(',"notKeyEvent":'), n('ac.notkey_rows'),
     D.str(',"afterRange":'), n('ac.after_rows'),
     D.str(',"partial":0,"rejected":{'), 'rj.txt',
-    D.str('},"blankLines":0},"rowsInLastPeriod":'), D.numText('lp.n'),
+    // lines: one a record (SQL sees no physical lines), no header, the blank lines a reader marked
+    D.str('},"lines":{"read":'), n('ac.read_rows + ac.blank_rows'),
+    D.str(',"header":0,"blank":'), n('ac.blank_rows'),
+    D.str(',"records":'), n('ac.read_rows - ac.rejected_rows'),
+    D.str(',"rejected":'), n('ac.rejected_rows'),
+    D.str('}},"rowsInLastPeriod":'), D.numText('lp.n'),
     D.str(',"lastPeriod":{"label":"'), 'pe.last_label',
     D.str('","coverage":'), D.numText(cov),
     D.str(',"complete":'), complete,
@@ -109,7 +91,7 @@ export function manifestSelect(D: Dialect, rules: Rules, engine: string, warmup:
     D.str(',"events":['), 'ev.txt',
     D.str('],"attributes":'), attributes,
     D.str(`,"by":${JSON.stringify(by ?? null)},"byPerPerson":`), perPerson,
-    D.str('}'),
+    D.str(',"warnings":[]}'),
   ];
   return `SELECT ${parts.join('\n  || ')} AS manifest\nFROM ${from.join('\nCROSS JOIN ')}`;
 }

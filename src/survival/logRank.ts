@@ -15,7 +15,7 @@
 import { TidemarkError } from '../errors.js';
 import type { DurationRow } from '../flows/types.js';
 import { chiSquareSf } from '../stats/chisq.js';
-import { solveLinear } from '../stats/solve.js';
+import { solve } from '../numerics/linalg.js';
 import { checkDurationRows } from './riskTable.js';
 
 export interface LogRankGroup {
@@ -103,7 +103,7 @@ export function logRank(rows: readonly DurationRow[]): LogRankResult {
   const Vh = head.map((j) => head.map((l) => V[j][l]));
   let x: number[];
   try {
-    x = solveLinear(Vh, u);
+    x = solve(Vh, u);
   } catch (e) {
     if (e instanceof TidemarkError && e.code === 'MATRIX_INVALID') {
       throw new TidemarkError('NOT_ENOUGH_DATA', 'logRank: the covariance matrix of the groups is singular');

@@ -1,45 +1,63 @@
 /** Assemble a waist's manifest from what an engine counted and the rules it ran. */
-import type { EngineResult } from '../engines/types.js';
-import { bandLabels } from '../flows/aggregate.js';
-import { stateTable } from '../lifecycle/states.js';
+import { bandLabels } from '../flows/tenure.js';
+import type { RowAccount } from '../ingest/eventLog.js';
+import { lifecycleStates } from '../lifecycle/states.js';
 import { GRAIN_NOUN } from '../periods/calendar.js';
 import type { Rules } from '../rules/schema.js';
 import { WAIST_FORMAT, WAIST_VERSION, type WaistManifest } from './manifest.js';
-import type { Waist } from './types.js';
 
+/** The version of tidemark written into a waist's manifest. */
 export const TIDEMARK_VERSION = '0.2.0';
 
-/** The waist of one engine run. */
-export function waistFromResult(result: EngineResult, rules: Rules, engine: string): Waist {
-  const w = result.waist;
-  const manifest: WaistManifest = {
+export interface ManifestInput {
+  rules: Rules;
+  /** The warm-up in effect (the rules' or an override). */
+  warmup: number;
+  periods: string[];
+  engine: string;
+  rows: RowAccount;
+  rowsInLastPeriod: number;
+  lastPeriod: WaistManifest['lastPeriod'];
+  users: number;
+  events: WaistManifest['events'];
+  attributes: WaistManifest['attributes'];
+  by: string | null;
+  byPerPerson: boolean;
+  warnings: string[];
+}
+
+/** The manifest of one engine run. */
+export function makeManifest(i: ManifestInput): WaistManifest {
+  const r = i.rules;
+  return {
     format: WAIST_FORMAT,
     version: WAIST_VERSION,
     rules: {
-      name: rules.name ?? null,
-      version: rules.version ?? null,
-      grain: rules.grain,
-      weekStart: rules.weekStart,
-      timezone: rules.timezone,
-      lapseLimit: rules.lapseLimit,
-      minEvents: rules.activity.minEvents,
-      keyEvents: rules.activity.keyEvents ?? null,
-      tenureEdges: [...rules.tenureBands],
-      tenureLabels: bandLabels(rules.tenureBands),
-      warmup: w.warmup,
-      minCell: rules.minCell,
+      name: r.name ?? null,
+      version: r.version ?? null,
+      grain: r.grain,
+      weekStart: r.weekStart,
+      timezone: r.timezone,
+      lapseLimit: r.lapseLimit,
+      minEvents: r.activity.minEvents,
+      keyEvents: r.activity.keyEvents ? [...r.activity.keyEvents] : null,
+      tenureEdges: [...r.tenureBands],
+      tenureLabels: bandLabels(r.tenureBands),
+      warmup: i.warmup,
+      minCell: r.minCell,
+      splits: r.splits.map((x) => ({ ...x, names: [...x.names] as [string, string], ...(x.labels ? { labels: [...x.labels] as [string, string] } : {}) })),
     },
-    states: stateTable({ lapseLimit: rules.lapseLimit, minEvents: rules.activity.minEvents }, GRAIN_NOUN[rules.grain]),
-    engine: { name: engine, version: TIDEMARK_VERSION },
-    periods: [...w.periods],
-    rows: { ...result.rows } as unknown as WaistManifest['rows'],
-    rowsInLastPeriod: result.rowsInLastPeriod,
-    lastPeriod: { label: result.lastPeriod.label, coverage: result.lastPeriod.coverage, complete: result.lastPeriod.complete },
-    users: result.users,
-    events: result.events.map((e) => ({ ...e })),
-    attributes: result.attributes.map((a) => ({ ...a })),
-    by: w.segmentCells?.by ?? null,
-    byPerPerson: w.segmentCells?.perPerson ?? false,
+    states: lifecycleStates(r, GRAIN_NOUN[r.grain]),
+    engine: { name: i.engine, version: TIDEMARK_VERSION },
+    periods: [...i.periods],
+    rows: { ...i.rows, lines: { ...i.rows.lines }, rejected: { ...i.rows.rejected } } as unknown as WaistManifest['rows'],
+    rowsInLastPeriod: i.rowsInLastPeriod,
+    lastPeriod: { ...i.lastPeriod },
+    users: i.users,
+    events: i.events.map((e) => ({ ...e })),
+    attributes: i.attributes.map((a) => ({ ...a })),
+    by: i.by,
+    byPerPerson: i.byPerPerson,
+    warnings: [...i.warnings],
   };
-  return { manifest, tables: w };
 }

@@ -25,8 +25,9 @@ export const MIN_PERIODS_TO_DROP = 3;
  */
 export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): { waist: Waist; dropped?: DroppedPeriod } {
   const m = w.manifest;
-  const drop = !m.lastPeriod.complete && !o.includePartial && m.periods.length >= MIN_PERIODS_TO_DROP;
-  if (!drop) return { waist: { manifest: m, tables: analysisForm(w.tables) } };
+  // kept anyway when leaving it out would leave fewer than two periods, or none past the warm-up
+  const drop = !m.lastPeriod.complete && !o.includePartial && m.periods.length >= MIN_PERIODS_TO_DROP && m.periods.length - 1 > m.rules.warmup;
+  if (!drop) return { waist: { manifest: m, tables: analysisForm(w.tables), ...(w.sections ? { sections: w.sections } : {}) } };
   const t = w.tables;
   const L = t.periods.length - 1;
   const last = t.periods[L];
@@ -52,6 +53,8 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
   const tables: WaistTables = {
     states: t.states,
     activeStates: t.activeStates,
+    arrivalState: t.arrivalState,
+    exitState: t.exitState,
     periods: t.periods.slice(0, L),
     warmup: t.warmup,
     stateCounts: t.stateCounts.slice(0, L),
@@ -62,7 +65,16 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
   };
   if (t.segmentCells) tables.segmentCells = { ...t.segmentCells, cells: t.segmentCells.cells.filter((c) => c.to !== last) };
   if (t.segmentDurations) tables.segmentDurations = { ...t.segmentDurations, rows: shorten(t.segmentDurations.rows) };
-  const rows = { ...m.rows, used: m.rows.used - m.rowsInLastPeriod, partialPeriod: m.rowsInLastPeriod };
+  if (t.segmentTransitions) {
+    tables.segmentTransitions = {
+      ...t.segmentTransitions,
+      // a segment whose users all arrived in the last period has none left
+      segments: t.segmentTransitions.segments
+        .map((g) => ({ segment: g.segment, stateCounts: g.stateCounts.slice(0, L), transitions: g.transitions.filter((tr) => tr.to !== last) }))
+        .filter((g) => g.stateCounts.some((row) => row.some((n) => n > 0))),
+    };
+  }
+  const rows = { ...m.rows, used: m.rows.used - m.rowsInLastPeriod, partial: m.rowsInLastPeriod };
   const manifest = {
     ...m,
     periods: tables.periods,
@@ -71,7 +83,17 @@ export function analysisWaist(w: Waist, o: { includePartial?: boolean } = {}): {
     users: m.users - arrivalsLast,
     lastPeriod: { label: tables.periods[L - 1], coverage: 1, complete: true },
   };
-  return { waist: { manifest, tables: analysisForm(tables) }, dropped: { label: last, coverage: m.lastPeriod.coverage, rows: m.rowsInLastPeriod } };
+  return { waist: { manifest, tables: analysisForm(tables), ...(w.sections ? { sections: w.sections } : {}) }, dropped: { label: last, coverage: m.lastPeriod.coverage, rows: m.rowsInLastPeriod } };
+}
+
+/**
+ * The waist without its attribute split (retention cells, durations and flows by `by`): what an
+ * analysis that was not asked to split reads, so that it gives the same output from a waist built
+ * with `--by` as from the events without it.
+ */
+export function withoutSplit(w: Waist): Waist {
+  const { segmentCells: _c, segmentDurations: _d, segmentTransitions: _t, ...tables } = w.tables;
+  return { ...w, tables };
 }
 
 /** Duration rows merged over cohorts, cohort rows without the extra counts, windows up to WINDOW_MAX_AGE. */
@@ -100,4 +122,19 @@ function mergeCohorts(rows: readonly DurationRow[]): DurationRow[] {
   }
   const cmp = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0);
   return [...m.values()].sort((a, b) => cmp(a.group, b.group) || a.duration - b.duration || a.observed - b.observed);
+}
+
+/**
+ * One sentence on an incomplete last period: left out (with its rows), or kept and why.
+ * `leaveOut`: the analysis leaves it out by default; `asked`: the user asked to keep it.
+ */
+export function partialPeriodSentence(waist: Waist, dropped: DroppedPeriod | undefined, o: { leaveOut: boolean; asked: boolean }): string | undefined {
+  const f = (n: number) => n.toLocaleString('en-US');
+  const looks = (label: string, coverage: number) => `The last period, ${label}, looks incomplete (the data stop ${(coverage * 100).toFixed(0)}% of the way through it)`;
+  if (dropped) return `${looks(dropped.label, dropped.coverage)}, so it is left out of every rate (${f(dropped.rows)} rows); pass --include-partial to keep it.`;
+  const lp = waist.manifest.lastPeriod;
+  if (lp.complete) return undefined;
+  if (!o.leaveOut && !o.asked) return `${looks(lp.label, lp.coverage)}: its states may still change as more events arrive.`;
+  const why = o.leaveOut && !o.asked ? 'as too few periods would remain without it' : 'as asked';
+  return `${looks(lp.label, lp.coverage)}; it is kept, ${why}, so its rates miss users who may still be active later in it.`;
 }

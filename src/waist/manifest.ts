@@ -22,13 +22,14 @@ export const stateInfoSchema = z.strictObject({
 });
 
 export const rowAccountSchema = z
-  .looseObject({
+  .strictObject({
     read: count,
     used: count,
     notKeyEvent: count,
     afterRange: count,
+    partial: count.describe('Rows of an incomplete last period left out (0 in a waist; set when an analysis leaves it out).'),
     rejected: z.record(z.string(), count),
-    blankLines: count,
+    lines: z.strictObject({ read: count, header: count, blank: count, records: count, rejected: count }).optional(),
   })
   .describe('Where every input row went (see README, "Row accounting").');
 
@@ -48,6 +49,7 @@ export const waistManifestSchema = z.strictObject({
     tenureLabels: z.array(z.string()).min(1),
     warmup: count,
     minCell: count,
+    splits: z.array(z.strictObject({ state: z.string(), atLeast: count, names: z.tuple([z.string(), z.string()]), labels: z.tuple([z.string(), z.string()]).optional() })),
   }),
   states: z.array(stateInfoSchema).min(2),
   engine: z.strictObject({ name: z.string().min(1), version: z.string() }),
@@ -60,6 +62,7 @@ export const waistManifestSchema = z.strictObject({
   attributes: z.array(z.strictObject({ name: z.string(), values: count })),
   by: z.string().nullable().describe('The attribute of the attribute splits, or null.'),
   byPerPerson: z.boolean().describe('Whether that attribute holds nearly one value per user: sentences then never name its values.'),
+  warnings: z.array(z.string()).describe('Warnings about the data, one sentence each (rows that stretch the range far beyond the bulk).'),
 });
 
 export type WaistManifest = z.output<typeof waistManifestSchema>;
@@ -69,4 +72,16 @@ export type StateInfo = z.output<typeof stateInfoSchema>;
 export function waistManifestJsonSchema(): Record<string, unknown> {
   const schema = z.toJSONSchema(waistManifestSchema, { io: 'input', unrepresentable: 'any' }) as Record<string, unknown>;
   return { $id: 'https://tidemark.invalid/waist-manifest.schema.json', title: 'tidemark waist manifest', ...schema };
+}
+
+/** Plural nouns of the states for sentences, by state name. */
+export function stateLabelsOf(states: readonly StateInfo[]): Record<string, string> {
+  return Object.fromEntries(states.map((s) => [s.name, s.label]));
+}
+
+/** The state that has `role` (a waist has one arrival, one lapse and one exit state). */
+export function stateWithRole(states: readonly StateInfo[], role: StateInfo['role']): string {
+  const s = states.find((x) => x.role === role);
+  if (!s) throw new Error(`no state has the role ${role}`);
+  return s.name;
 }

@@ -5,7 +5,7 @@
  * obey (a period's users in a state all move somewhere in the next period; retention cells add up
  * to the state counts; a cohort's size is its arrivals).
  */
-import { readFileSync, statSync } from 'node:fs';
+import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { TidemarkError, showValue } from '../errors.js';
 import { WINDOW_MAX_AGE, type CohortRow, type DurationRow, type RetentionCell, type TransitionCounts, type WaistTables } from '../flows/types.js';
@@ -13,6 +13,7 @@ import { parseWaistCsv } from './csv.js';
 import { WAIST_FORMAT, WAIST_VERSION, waistManifestSchema, type WaistManifest } from './manifest.js';
 import { cohortRowsFrom, WAIST_TABLES, type TableName } from './tables.js';
 import type { Waist } from './types.js';
+import { SECTIONS_FILE } from './write.js';
 import { canonicalDurations, canonicalSegmentCells } from './canonical.js';
 
 function readText(dir: string, name: string): string {
@@ -53,7 +54,11 @@ export function parseManifest(text: string, file: string): WaistManifest {
   const m = r.data;
   const names = m.states.map((s) => s.name);
   if (new Set(names).size !== names.length) throw new TidemarkError('INPUT_INVALID', 'a state is listed twice', { file, key: 'states' });
-  if (!m.states.some((s) => s.role === 'arrival' && s.active)) throw new TidemarkError('INPUT_INVALID', 'no active state has the role arrival', { file, key: 'states' });
+  for (const role of ['arrival', 'lapse', 'exit'] as const) {
+    const n = m.states.filter((s) => s.role === role).length;
+    if (n !== 1) throw new TidemarkError('INPUT_INVALID', `${n} states have the role ${role}; a waist has exactly one`, { file, key: 'states' });
+  }
+  if (!m.states.some((s) => s.role === 'arrival' && s.active)) throw new TidemarkError('INPUT_INVALID', 'the arrival state is not active', { file, key: 'states' });
   if (m.states.findIndex((s) => !s.active) < m.states.filter((s) => s.active).length) {
     throw new TidemarkError('INPUT_INVALID', 'active states must come first in the list of states', { file, key: 'states' });
   }
@@ -269,6 +274,40 @@ export function readWaist(dir: string): Waist {
     const k = periodIdx.get(r.cohort) as number;
     if (r.size !== arrivals[k]) throw new TidemarkError('INPUT_INVALID', `cohort ${r.cohort} has ${r.size} members at age 0, but ${arrivals[k]} arrivals`, { file: join(dir, WAIST_TABLES.cohortActivity.file) });
   }
+  // segment flows (present with an attribute split)
+  const segStates = new Map<string, number[][]>();
+  const segPairs = new Map<string, Map<number, number[][]>>();
+  {
+    const t = new TableReader(dir, 'segmentStateCounts');
+    const c = cells(t);
+    for (const row of t.rows()) {
+      if (m.by === null) throw c.bad(row, 'segment counts, but the manifest names no attribute (by)', 'segment');
+      const g = row.get('segment');
+      let sc = segStates.get(g);
+      if (!sc) segStates.set(g, (sc = Array.from({ length: P }, () => new Array<number>(S).fill(0))));
+      sc[c.period(row, 'period')][c.state(row, 'state')] += c.num(row, 'users');
+    }
+    const tt = new TableReader(dir, 'segmentTransitions');
+    const ct = cells(tt);
+    for (const row of tt.rows()) {
+      const g = row.get('segment');
+      if (!segStates.has(g)) throw ct.bad(row, `segment '${showValue(g)}' has no state counts`, 'segment');
+      const from = ct.period(row, 'period_from'), to = ct.period(row, 'period_to');
+      if (to !== from + 1 || !pairIndex.has(to)) throw ct.bad(row, 'not a counted pair of consecutive periods', 'period_to');
+      let pairs = segPairs.get(g);
+      if (!pairs) segPairs.set(g, (pairs = new Map()));
+      let counts = pairs.get(to);
+      if (!counts) pairs.set(to, (counts = Array.from({ length: S }, () => new Array<number>(S).fill(0))));
+      counts[ct.state(row, 'state_from')][ct.state(row, 'state_to')] += ct.num(row, 'users');
+    }
+    // the segments partition the users: their counts add up to the unsplit ones
+    if (segStates.size > 0) {
+      for (let p = 0; p < P; p++) for (let i = 0; i < S; i++) {
+        const sum = [...segStates.values()].reduce((a, sc) => a + sc[p][i], 0);
+        if (sum !== stateCounts[p][i]) throw new TidemarkError('INPUT_INVALID', `${m.periods[p]}, ${states[i]}: the segments hold ${sum} users, the state counts ${stateCounts[p][i]}`, { file: t.file });
+      }
+    }
+  }
   // durations
   const durations: DurationRow[] = [];
   const segmentDurations: DurationRow[] = [];
@@ -297,6 +336,8 @@ export function readWaist(dir: string): Waist {
   const tables: WaistTables = {
     states,
     activeStates: states.slice(0, activeCount),
+    arrivalState: m.states.find((s) => s.role === 'arrival')!.name,
+    exitState: m.states.find((s) => s.role === 'exit')!.name,
     periods: [...m.periods],
     warmup,
     stateCounts,
@@ -308,6 +349,29 @@ export function readWaist(dir: string): Waist {
   if (m.by !== null) {
     tables.segmentCells = { by: m.by, cells: canonicalSegmentCells(segmentCells), perPerson: m.byPerPerson };
     tables.segmentDurations = { by: m.by, rows: canonicalDurations(segmentDurations), perPerson: m.byPerPerson };
+    {
+      const arrival = stateIdx.get(tables.arrivalState) as number;
+      const segments = [...segStates.keys()].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0)).map((g) => {
+        const sc = segStates.get(g) as number[][];
+        const pairs = segPairs.get(g) ?? new Map<number, number[][]>();
+        const transitions: TransitionCounts[] = [...pairIndex.keys()].map((p) => ({ from: m.periods[p - 1], to: m.periods[p], counts: pairs.get(p) ?? Array.from({ length: S }, () => new Array<number>(S).fill(0)), fresh: sc[p][arrival] }));
+        return { segment: g, stateCounts: sc, transitions };
+      });
+      tables.segmentTransitions = { by: m.by, perPerson: m.byPerPerson, segments };
+    }
   }
-  return { manifest: m, tables };
+  const sectionsFile = join(dir, SECTIONS_FILE);
+  let sections: Waist['sections'];
+  if (existsSync(sectionsFile)) {
+    let doc: unknown;
+    try {
+      doc = JSON.parse(readFileSync(sectionsFile, 'utf8'));
+    } catch (e) {
+      throw new TidemarkError('INPUT_INVALID', `not valid JSON: ${showValue((e as Error).message, 120)}`, { file: sectionsFile });
+    }
+    const d = doc as { leaveOut?: unknown; keep?: unknown };
+    if (!d || !Array.isArray(d.leaveOut) || !Array.isArray(d.keep)) throw new TidemarkError('INPUT_INVALID', 'sections.json must hold "leaveOut" and "keep" lists of report sections', { file: sectionsFile });
+    sections = doc as Waist['sections'];
+  }
+  return sections ? { manifest: m, tables, sections } : { manifest: m, tables };
 }

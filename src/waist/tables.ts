@@ -44,6 +44,16 @@ export const WAIST_TABLES = {
     columns: ['cohort', 'age_from', 'age_to', 'users'],
     meaning: 'members of the cohort active at least once at ages age_from to age_to',
   },
+  segmentStateCounts: {
+    file: 'segment_state_counts.csv',
+    columns: ['segment', 'period', 'state', 'users'],
+    meaning: "users whose value of the manifest's by in their first active period is segment, in state in period",
+  },
+  segmentTransitions: {
+    file: 'segment_transitions.csv',
+    columns: ['segment', 'period_from', 'period_to', 'state_from', 'state_to', 'users'],
+    meaning: 'as transitions, for the users of one segment (split as in segment_state_counts)',
+  },
   durations: {
     file: 'durations.csv',
     columns: ['split', 'group', 'cohort', 'duration', 'observed', 'users'],
@@ -88,7 +98,19 @@ export function tablesToRows(t: WaistTables, arrivalStates: readonly string[]): 
   }
   const dur = (split: string) => (d: DurationRow): Row => [split, d.group, d.cohort ?? d.group, d.duration, d.observed, d.users];
   const durations: Row[] = [...t.durations.map(dur('cohort')), ...(t.segmentDurations?.rows ?? []).map(dur('attribute'))];
-  return { transitions, arrivals, stateCounts, retentionCells, cohortActivity, cohortWindows, durations };
+  const segmentStateCounts: Row[] = [];
+  const segmentTransitions: Row[] = [];
+  for (const g of t.segmentTransitions?.segments ?? []) {
+    g.stateCounts.forEach((row, k) => row.forEach((n, s) => {
+      if (n > 0) segmentStateCounts.push([g.segment, t.periods[k], t.states[s], n]);
+    }));
+    for (const tr of g.transitions) {
+      tr.counts.forEach((row, i) => row.forEach((n, j) => {
+        if (n > 0) segmentTransitions.push([g.segment, tr.from, tr.to, t.states[i], t.states[j], n]);
+      }));
+    }
+  }
+  return { transitions, arrivals, stateCounts, retentionCells, cohortActivity, cohortWindows, segmentStateCounts, segmentTransitions, durations };
 }
 
 /** Cohort rows from the activity and window tables; `periods` gives each cohort's observed ages. */

@@ -3,6 +3,7 @@
  * folder; every analysis reads one (through {@link ./derive.ts analysisWaist}) and nothing else.
  */
 import type { WaistTables } from '../flows/types.js';
+import type { ReportSection } from '../report/sections/types.js';
 import type { WaistManifest } from './manifest.js';
 
 export interface Waist {
@@ -13,4 +14,10 @@ export interface Waist {
    * observed over up to WINDOW_MAX_AGE + 1 ages.
    */
   tables: WaistTables;
+  /**
+   * Optional: the report's sections computed from the events (the data check, behaviour analyses),
+   * aggregates only, for an incomplete last period left out and kept (`sections.json`). A waist made
+   * by SQL has none; the report then says they need events.
+   */
+  sections?: { leaveOut: ReportSection[]; keep: ReportSection[] };
 }

@@ -1,10 +1,11 @@
 /** Write a waist folder: manifest.json and one CSV a table (see ./tables.ts). */
-import { mkdirSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
-import { TidemarkError } from '../errors.js';
+import { replaceFolder, WAIST_FOLDER } from '../output/atomic.js';
 import { waistCsv } from './csv.js';
 import { WAIST_TABLES, tablesToRows, type TableName } from './tables.js';
 import type { Waist } from './types.js';
+
+/** The optional file of report sections computed from the events (see Waist.sections). */
+export const SECTIONS_FILE = 'sections.json';
 
 /** The files of a waist folder, name → text, in the order written. */
 export function waistFiles(w: Waist): Map<string, string> {
@@ -16,17 +17,14 @@ export function waistFiles(w: Waist): Map<string, string> {
     const spec = WAIST_TABLES[name];
     files.set(spec.file, waistCsv(spec.columns, rows[name]));
   }
+  if (w.sections) files.set(SECTIONS_FILE, `${JSON.stringify(w.sections, null, 2)}\n`);
   return files;
 }
 
-/** Write the waist into `dir` (created if needed). Returns the file names written. */
+/**
+ * Write the waist into folder `dir`, replacing it atomically (a crash leaves the previous waist
+ * whole; see output/atomic.ts). Returns the file names written.
+ */
 export function writeWaist(w: Waist, dir: string): string[] {
-  const files = waistFiles(w);
-  try {
-    mkdirSync(dir, { recursive: true });
-    for (const [name, text] of files) writeFileSync(join(dir, name), text);
-  } catch {
-    throw new TidemarkError('FILE_UNREADABLE', 'cannot write the waist folder', { file: dir }, 'Check that the folder is writable');
-  }
-  return [...files.keys()];
+  return replaceFolder(dir, waistFiles(w), {}, WAIST_FOLDER);
 }

@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { main } from '../../src/cli/main.js';
 import { bufferIo } from '../../src/cli/io.js';
-import { mulberry32 } from '../../src/markov/random.js';
+import { mulberry32 } from '../../src/numerics/random.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'tidemark-cohorts-'));
 const ACTIVE = new Set(['fresh', 'engaged', 'returned']);

@@ -46,7 +46,7 @@ beforeAll(() => {
 });
 
 describe('tidemark explain --by on the Bickel admissions table', () => {
-  it('gives the published Kitagawa decomposition of women − men (CHECKS.md: −0.141645 = +0.036028 − 0.177674)', async () => {
+  it('gives the published Kitagawa decomposition of women − men (published-values.md: −0.141645 = +0.036028 − 0.177674)', async () => {
     // every event falls on a Monday, so the last week looks incomplete: keep it, it is the women's week
     const r = await run(['explain', '--events', join(dir, 'ucb.csv'), '--base', '2026-03-09', '--compare', '2026-03-23', '--by', 'dept', '--format', 'json', '--quiet', '--include-partial']);
     expect(r.code, r.err).toBe(0);
@@ -94,7 +94,7 @@ describe('tidemark explain on the demo', () => {
 });
 
 describe('tidemark survival --durations on Freireich et al. (1963)', () => {
-  it('gives the published Kaplan–Meier table and log-rank test (CHECKS.md)', async () => {
+  it('gives the published Kaplan–Meier table and log-rank test (published-values.md)', async () => {
     const lines = ['duration,observed,group', ...SIX_MP.map((v) => `${Math.abs(v)},${v > 0 ? 1 : 0},6-MP`), ...PLACEBO.map((v) => `${v},1,placebo`)];
     writeFileSync(join(dir, 'remission.csv'), lines.join('\n'));
     const r = await run(['survival', '--durations', join(dir, 'remission.csv'), '--format', 'json']);
@@ -118,7 +118,7 @@ describe('tidemark survival --durations on Freireich et al. (1963)', () => {
 });
 
 describe('tidemark curve --alive on Fader & Hardie (2007)', () => {
-  it('fits the "regular" segment: α 0.704, β 1.182, log-likelihood −1680.265, years 8–12 projected (CHECKS.md)', async () => {
+  it('fits the "regular" segment: α 0.704, β 1.182, log-likelihood −1680.265, years 8–12 projected (published-values.md)', async () => {
     const r = await run(['curve', '--alive', '1000,631,468,382,326,289,262,241', '--horizon', '12', '--format', 'json']);
     expect(r.code).toBe(0);
     const c = JSON.parse(r.out);

@@ -58,12 +58,22 @@ describe('a bad option is refused before any event file is opened (the events pa
     ['project', ['--until', 'dead'], '--until'],
     ['project', ['--fit', '0'], '--fit'],
     ['project', ['--inflow', '1e400'], '--inflow'],
+    ['project', ['--scenario', 'keep=lapsing->engaged*1.2'], '--scenario'],
+    ['project', ['--scenario', 'lapsing->dormant*0.8'], '--scenario'],
+    ['project', ['--scenario', 'launch=+3000 fresh at +40'], '--scenario'],
+    ['project', ['--scenario', 'launch=+3000 dormant at +4'], '--scenario'],
+    ['project', ['--inflow-method', 'mode'], '--inflow-method'],
+    ['project', ['--season', '0'], '--season'],
     ['cohorts', ['--ages', '1,x'], '--ages'],
     ['cohorts', ['--window', '5..2'], '--window'],
     ['survival', ['--merge', '0'], '--merge'],
     ['curve', ['--horizon', 'x'], '--horizon'],
     ['report', ['--seed', 'x', '--out', join(dir, 'r0')], '--seed'],
     ['report', ['--compare', '2026-13-01', '--out', join(dir, 'r1')], '--compare'],
+    ['report', ['--scenario', 'x=lapsing->engaged*2', '--out', join(dir, 'r3')], '--scenario'],
+    ['audience', ['--period', '2026-13-01', '--entered', 'fresh'], '--period'],
+    ['audience', ['--period', '2026-03-02', '--entered', 'engaged', '--from-state', 'lapsing'], '--from-state'],
+    ['audience', ['--period', '2026-03-02', '--entered', 'fresh', '--where', 'plan'], '--where'],
   ] as [string, string[], string][])('%s %j: exit 2 naming the flag', async (command, args, flag) => {
     expectFlagRefusal(await runCli([command, '--events', MISSING, ...args]), flag);
   });
@@ -72,7 +82,7 @@ describe('a bad option is refused before any event file is opened (the events pa
     expect(expectFlagRefusal(await runCli(['curve', '--alive', '100,120,80']), '--alive')).toMatch(/entry 2 \(120\) is above entry 1 \(100\)/);
     expect(expectFlagRefusal(await runCli(['curve', '--alive', '1000,x,400']), '--alive')).toMatch(/entry 2 \('x'\)/);
     expect(expectFlagRefusal(await runCli(['curve', '--alive', '1000,600']), '--alive')).toMatch(/2 ages cannot identify the curve/);
-    expect(expectFlagRefusal(await runCli(['curve', '--alive', '0,0,0']), '--alive')).toMatch(/no members at age 0/);
+    expect(expectFlagRefusal(await runCli(['curve', '--alive', '0,0,0']), '--alive')).toMatch(/no users at age 0/);
   });
 
   it('demo --seed is checked before anything is written', async () => {
@@ -92,6 +102,8 @@ describe('checks that need the data come after reading, still exit 2 naming the 
     ['flows', ['--warmup', '40'], '--warmup', /leaves no period to analyse/],
     ['project', ['--what-if', 'returned->engaged*5'], '--what-if', /returned->engaged would become .*, above 1/],
     ['report', ['--base', '2026-01-05', '--out', join(dir, 'r2')], '--base', /2026-01-05 is not a period retained into/],
+    ['audience', ['--period', '2026-03-02', '--entered', 'fresh', '--where', 'plam=pro'], '--where', /no column 'plam'.*Did you mean 'plan'/],
+    ['audience', ['--period', '2026-01-05', '--entered', 'fresh'], '--period', /\(2026-01-05\) is not a period of the data/],
   ] as [string, string[], string, RegExp][])('%s %j', async (command, args, flag, message) => {
     const line = expectFlagRefusal(await runCli([command, '--events', EVENTS, '--quiet', ...args]), flag);
     expect(line).toMatch(message);

@@ -104,3 +104,79 @@ describe('tidemark project --events', () => {
     expect(j.backtest.rows.length).toBeGreaterThan(0);
   });
 });
+
+describe('tidemark project: scenarios, segments, inflow methods, planner shares', () => {
+  // 120 members over 12 weeks; plan by member number; a one-off open day brings 60 extra in week 6
+  const rows = ['user_id,timestamp,event,plan'];
+  for (let m = 0; m < 180; m++) {
+    const join = m < 120 ? m % 10 : 6;
+    for (let w = join; w < 12; w++) if (w === join || (m * 7 + w * 3) % 5 !== 0) rows.push(`m${m},${new Date(Date.UTC(2026, 2, 2) + w * 7 * 86400000 + 3600000).toISOString()},booking_made,${m % 3 ? 'hobby' : 'studio'}`);
+  }
+  const events = file('members.csv', rows.join('\n'));
+  const rules = file('rules2.yaml', 'grain: week\nlapseLimit: 1\n');
+  const common = ['project', '--events', events, '--rules', rules, '--horizon', '4', '--samples', '60', '--quiet', '--no-backtest'];
+
+  it('--scenario NAME=… twice: each compared with the baseline at the horizon, with bands; the table shows them side by side', async () => {
+    const r = await run([...common, '--scenario', 'keep=engaged->lapsing*0.8', '--scenario', 'launch=+50 fresh at +2', '--format', 'json']);
+    expect(r.code, r.err).toBe(0);
+    const j = JSON.parse(r.out);
+    expect(j.scenarios.map((s: { name: string }) => s.name)).toEqual(['keep', 'launch']);
+    const launch = j.scenarios[1];
+    expect(launch.steps[4].difference.total.value).toBeCloseTo(50, 9);
+    expect(launch.atHorizon.counts.fresh.outer[0]).toBeLessThanOrEqual(launch.atHorizon.counts.fresh.outer[1]);
+    expect(j.projection[4].period).toMatch(/^2026-/);
+    const t = await run([...common, '--scenario', 'keep=engaged->lapsing*0.8']);
+    expect(t.out).toMatch(/Scenarios at \+4/);
+    expect(t.out).toMatch(/keep: engaged->lapsing\*0\.8 \(/);
+  });
+
+  it('--scenario on an impossible move: exit 2 naming the flag, the reason, a possible move as suggestion', async () => {
+    const r = await run([...common, '--scenario', 'x=lapsing->engaged*1.2']);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/^tidemark: --scenario: x: .*lapsing->engaged cannot happen: a lapsing user who is active the next period becomes returned/);
+    expect(r.err).toMatch(/[Dd]id you mean 'lapsing->returned\*1\.2'/);
+  });
+
+  it('--inflow-method names its method; the median ignores the open-day week and the warning lists it', async () => {
+    const med = JSON.parse((await run([...common, '--fit', 'all', '--format', 'json'])).out);
+    const mean = JSON.parse((await run([...common, '--fit', 'all', '--inflow-method', 'mean', '--format', 'json'])).out);
+    expect(med.inflowMethod.method).toBe('median');
+    expect(mean.inflowMethod.method).toBe('mean');
+    expect(mean.inflowMethod.center).toBeGreaterThan(med.inflowMethod.center);
+    expect(med.inflowMethod.outliers.map((o: { period: string }) => o.period)).toEqual(['2026-04-13']);
+    expect(med.warnings.join(' ')).toMatch(/median treated 2026-04-13 \(\d+\) as outliers/);
+  });
+
+  it('--by plan: each plan from its own flows, and their sum', async () => {
+    const r = await run([...common, '--by', 'plan', '--format', 'json']);
+    expect(r.code, r.err).toBe(0);
+    const j = JSON.parse(r.out);
+    expect(j.segments.by).toBe('plan');
+    const names = [...j.segments.groups.map((g: { segment: string }) => g.segment), ...j.segments.pooled.map((g: { segment: string }) => g.segment)];
+    expect(names.sort()).toEqual(expect.arrayContaining(['hobby']));
+    const sum = j.segments.sum[4].total;
+    expect(sum).toBeCloseTo(j.segments.groups.reduce((a: number, g: { projection: { total: number }[] }) => a + g.projection[4].total, 0), 9);
+    expect((await run([...common, '--by', 'plan'])).out).toMatch(/By plan \(each user's value in their first active period\)/);
+    expect((await run(['project', '--matrix', file('ozby.json', oz), '--by', 'plan'])).code).toBe(2);
+  });
+
+  it('a planner\'s matrix with start shares and an audience projects counts; shares without one never print as 0', async () => {
+    const doc = { states: ['rain', 'nice', 'snow'], matrix: oz.matrix, start: { rain: 0.25, nice: 0.5, snow: 0.25 }, audience: 2000 };
+    const j = JSON.parse((await run(['project', '--matrix', file('ozaud.json', doc), '--horizon', '1', '--format', 'json'])).out);
+    expect(j.start).toEqual({ rain: 500, nice: 1000, snow: 500 });
+    expect(j.source.audience).toBe(2000);
+    // hand: (500, 1000, 500)·P = (250 + 500 + 125, 125 + 0 + 125, 125 + 500 + 250)
+    expect(j.projection[1].counts).toEqual({ rain: 875, nice: 250, snow: 875 });
+    const noAudience = await run(['project', '--matrix', file('ozshares.json', { ...doc, audience: undefined }), '--horizon', '1']);
+    expect(noAudience.out).toMatch(/rain\s+0\.25\s+0\.44/);
+    expect(noAudience.out).toMatch(/add "audience": N/);
+    const bad = await run(['project', '--matrix', file('ozbad.json', { ...doc, start: { rain: 0.5, nice: 0.6 } })]);
+    expect(bad.code).toBe(1);
+    expect(bad.err).toMatch(/"start" gives shares, which must sum to 1 \(they sum to 1\.1\)/);
+  });
+
+  it('CSV has the period and both bands per state and step', async () => {
+    const r = await run([...common, '--format', 'csv']);
+    expect(r.out.split('\n')[0]).toBe('step,period,state,count,share,count_lo,count_hi,share_lo,share_hi,count_lo50,count_hi50,share_lo50,share_hi50');
+  });
+});

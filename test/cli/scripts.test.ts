@@ -1,7 +1,8 @@
 /**
  * Every package.json script refers to things that exist: the files it runs, the binaries it calls,
- * and, for `node src/cli/bin.js …`, a tidemark command and options that the command line defines.
- * Nothing heavy is run: commands are looked up in the commander program, files on disk.
+ * the scripts it runs with `npm run`, the config `tsc -p` reads, and, for `node src/cli/bin.js …`, a
+ * tidemark command and options that the command line defines. Nothing heavy is run: commands are
+ * looked up in the commander program (every command loaded), files on disk.
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -9,10 +10,12 @@ import { fileURLToPath } from 'node:url';
 import type { Command } from 'commander';
 import { describe, expect, it } from 'vitest';
 import { bufferIo } from '../../src/cli/io.js';
-import { buildProgram } from '../../src/cli/main.js';
+import { fullProgram } from '../../src/cli/main.js';
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const pkg = JSON.parse(readFileSync(join(ROOT, 'package.json'), 'utf8')) as { scripts: Record<string, string>; bin: Record<string, string> };
+
+const program = await fullProgram(bufferIo());
 
 /** What is wrong with one script line (empty when nothing is). */
 function problems(script: string): string[] {
@@ -26,6 +29,11 @@ function problems(script: string): string[] {
         continue;
       }
       if (Object.values(pkg.bin).includes(file)) out.push(...cliProblems(args.slice(1)).map((p) => `${part}: ${p}`));
+    } else if (bin === 'npm') {
+      if (args[0] !== 'run' || !args[1]) out.push(`${part}: only \`npm run SCRIPT\` is checked`);
+      else if (!(args[1] in pkg.scripts)) out.push(`${part}: no script ${args[1]}`);
+    } else if (bin === 'tsc' && args[0] === '-p' && !existsSync(join(ROOT, args[1] ?? ''))) {
+      out.push(`${part}: no file ${args[1]}`);
     } else if (!existsSync(join(ROOT, 'node_modules', '.bin', bin))) {
       out.push(`${part}: no binary ${bin} in node_modules/.bin`);
     }
@@ -35,7 +43,7 @@ function problems(script: string): string[] {
 
 /** The tidemark arguments name a command that does something, and only options it defines. */
 function cliProblems(argv: string[]): string[] {
-  let cmd: Command = buildProgram(bufferIo());
+  let cmd: Command = program;
   let i = 0;
   for (; i < argv.length && !argv[i].startsWith('-'); i++) {
     const sub = cmd.commands.find((c) => c.name() === argv[i] || c.aliases().includes(argv[i]));
@@ -56,9 +64,11 @@ describe('package.json scripts', () => {
 
   it('the check itself catches a missing command, a group without its subcommand, an unknown option and a missing file', () => {
     expect(problems('node src/cli/bin.js schema --out rules/rules.schema.json')).toEqual(["node src/cli/bin.js schema --out rules/rules.schema.json: 'schema' is not a tidemark command"]);
-    expect(problems('node src/cli/bin.js rules --out x')[0]).toMatch(/'rules' needs a subcommand \(check, schema\)/);
+    expect(problems('node src/cli/bin.js rules --out x')[0]).toMatch(/'rules' needs a subcommand \(check, schema, diff\)/);
     expect(problems('node src/cli/bin.js demo --output x')[0]).toMatch(/'demo' has no option --output/);
     expect(problems('tsx test/bench/missing.ts')[0]).toMatch(/no file test\/bench\/missing\.ts/);
     expect(problems('no-such-tool --flag')[0]).toMatch(/no binary no-such-tool/);
+    expect(problems('npm run no-such-script')[0]).toMatch(/no script no-such-script/);
+    expect(problems('tsc -p src/missing.json')[0]).toMatch(/no file src\/missing\.json/);
   });
 });

@@ -9,13 +9,20 @@ import { stringify } from 'yaml';
 import { expect } from 'vitest';
 import { parseRules } from '../../src/rules/load.js';
 import type { Rules } from '../../src/rules/schema.js';
-import { MemoryEngine } from '../../src/engines/memory.js';
+import { filesSource } from '../../src/engines/types.js';
+import { classifyWith, ENGINES } from './engines.js';
+
+/** The engine `runEngine` uses; a conformance suite sets it per engine (see engines.ts). */
+let engineUnderTest = ENGINES[0];
+export function useEngine(name: string): void {
+  engineUnderTest = name;
+}
 import type { RangeOptions } from '../../src/engines/types.js';
 import { TidemarkError, type ErrorCode } from '../../src/errors.js';
 import type { RefEvent, RefRules } from './reference.js';
 
 /** A fresh temp folder; `done()` removes it. */
-export function tempDir(): { dir: string; file(name: string, text: string): string; done(): void } {
+export function tempDir(): { dir: string; file(name: string, text: string | Uint8Array): string; done(): void } {
   const dir = mkdtempSync(join(tmpdir(), 'tidemark-'));
   return {
     dir,
@@ -60,6 +67,7 @@ export function rulesYaml(r: RefRules): string {
   if (r.keyEvents) activity.keyEvents = r.keyEvents;
   if (r.minEvents !== undefined) activity.minEvents = r.minEvents;
   if (Object.keys(activity).length) doc.activity = activity;
+  if (r.splits) doc.splits = r.splits;
   return stringify(doc);
 }
 
@@ -73,11 +81,12 @@ export async function runEngine(
   r: RefRules,
   range: RangeOptions = {},
   format: 'csv' | 'ndjson' = 'csv',
+  engine = engineUnderTest,
 ) {
   const t = tempDir();
   try {
     const f = format === 'csv' ? t.file('bookings.csv', eventsCsv(events)) : t.file('bookings.ndjson', eventsNdjson(events));
-    return await new MemoryEngine().classify({ files: [f] }, rulesOf(r), range);
+    return await classifyWith(engine, filesSource([f]), rulesOf(r), range);
   } finally {
     t.done();
   }

@@ -3,11 +3,12 @@
  * rules, checked against the luxon reference (reference.ts) and against the invariants of the flows
  * tables stated in the specification.
  */
-import { describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { DateTime, FixedOffsetZone } from 'luxon';
 import { summariseFlows } from '../../src/flows/summary.js';
-import { MemoryEngine } from '../../src/engines/memory.js';
+import { filesSource } from '../../src/engines/types.js';
+import { classifyWith, ENGINES } from './engines.js';
 import type { RangeOptions } from '../../src/engines/types.js';
 import { refClassify, refFlowsOf, refLabel, refRows, STATES, type RefEvent, type RefRules } from './reference.js';
 import { eventsCsv, eventsNdjson, rulesOf, tempDir } from './helpers.js';
@@ -105,14 +106,16 @@ const caseArb: fc.Arbitrary<Case> = rulesArb.chain((rules) =>
 );
 
 const PARAMS = { seed: 20260308, numRuns: 120 };
+/** The engine under test (conformance: each describe runs once per engine of ENGINES). */
+let current = ENGINES[0];
 /** Each property runs up to a few hundred engine calls, each with a temp file. */
 const PROP_TIMEOUT = 120_000;
 
-async function engineRun(c: Case, range: RangeOptions = {}, events: readonly RefEvent[] = c.events) {
+async function engineRun(c: Case, range: RangeOptions = {}, events: readonly RefEvent[] = c.events, engine = current) {
   const t = tempDir();
   try {
     const f = c.format === 'csv' ? t.file('bookings.csv', eventsCsv(events)) : t.file('bookings.ndjson', eventsNdjson(events));
-    return await new MemoryEngine().classify({ files: [f] }, rulesOf(c.rules), range);
+    return await classifyWith(engine, filesSource([f]), rulesOf(c.rules), range);
   } finally {
     t.done();
   }
@@ -133,7 +136,10 @@ function shuffled<T>(xs: readonly T[], seed: number): T[] {
   return out;
 }
 
-describe('engine against the reference', () => {
+describe.each(ENGINES)('%s engine: engine against the reference', (engine) => {
+  beforeAll(() => {
+    current = engine;
+  });
   it('(a) classification, periods, state counts and transitions equal the reference exactly', async () => {
     await fc.assert(
       fc.asyncProperty(caseArb, async (c) => {
@@ -177,7 +183,10 @@ describe('engine against the reference', () => {
   }, PROP_TIMEOUT);
 });
 
-describe('invariants of the flows tables', () => {
+describe.each(ENGINES)('%s engine: invariants of the flows tables', (engine) => {
+  beforeAll(() => {
+    current = engine;
+  });
   it('(b) shuffling the rows of the file changes nothing', async () => {
     await fc.assert(
       fc.asyncProperty(caseArb, fc.integer(), async (c, seed) => {
@@ -281,7 +290,10 @@ describe('invariants of the flows tables', () => {
   }, PROP_TIMEOUT);
 });
 
-describe('range options', () => {
+describe.each(ENGINES)('%s engine: range options', (engine) => {
+  beforeAll(() => {
+    current = engine;
+  });
   it('(f) warm-up w drops exactly the first w transitions and nothing else', async () => {
     await fc.assert(
       fc.asyncProperty(caseArb, fc.integer({ min: 0, max: 4 }), fc.boolean(), async (c, warmup, viaRules) => {

@@ -22,8 +22,16 @@ export const WEEKDAY_NUMBER: Record<string, number> = {
   sunday: 7,
 };
 
+/** A split of an active state by key events in the period: [fewer than atLeast, atLeast or more]. */
+export interface RefSplit {
+  state: 'engaged' | 'returned';
+  atLeast: number;
+  names: [string, string];
+}
+
 export interface RefRules {
   grain: 'day' | 'week' | 'month';
+  splits?: RefSplit[];
   weekStart?: keyof typeof WEEKDAY_NUMBER | string;
   timezone?: string;
   keyEvents?: string[];
@@ -57,8 +65,10 @@ export interface RefTransition {
 export interface RefResult {
   periods: string[];
   warmup: number;
+  /** The states in order: the base states, a split one replaced by its two sub-states. */
+  stateList: string[];
   /** user → state per output period (null before the user's first active period). */
-  states: Map<string, (State | null)[]>;
+  states: Map<string, (string | null)[]>;
   stateCounts: number[][];
   transitions: RefTransition[];
   /** Users with a first active period (anywhere in the analysed history). */
@@ -148,10 +158,17 @@ export function refClassify(events: readonly RefEvent[], rules: RefRules, range:
     m.set(u.label, (m.get(u.label) ?? 0) + 1);
   }
 
+  // the states in order, and the sub-state of a split state by the period's key events
+  const stateList = STATES.flatMap((st) => rules.splits?.find((x) => x.state === st)?.names ?? [st]);
+  const refine = (st: State, n: number): string => {
+    const split = rules.splits?.find((x) => x.state === st);
+    return split ? split.names[n >= split.atLeast ? 1 : 0] : st;
+  };
+
   // walk each user through every period of the history
-  const full = new Map<string, (State | null)[]>();
+  const full = new Map<string, (string | null)[]>();
   for (const [user, counts] of perUser) {
-    const row: (State | null)[] = [];
+    const row: (string | null)[] = [];
     let seenActive = false;
     let prevActive = false;
     let quiet = 0;
@@ -171,7 +188,7 @@ export function refClassify(events: readonly RefEvent[], rules: RefRules, range:
       }
       if (active) quiet = 0;
       prevActive = active;
-      row.push(state);
+      row.push(state && active ? refine(state, counts.get(label) ?? 0) : state);
     }
     if (seenActive) full.set(user, row);
   }
@@ -181,14 +198,14 @@ export function refClassify(events: readonly RefEvent[], rules: RefRules, range:
   const offset = all.indexOf(fromLabel);
   if (offset < 0) throw new Error(`reference: --from ${range.from} is outside the history`);
   const periods = all.slice(offset);
-  const states = new Map<string, (State | null)[]>();
+  const states = new Map<string, (string | null)[]>();
   for (const [user, row] of full) states.set(user, row.slice(offset));
 
   const stateCounts = periods.map((_, p) => {
-    const c = STATES.map(() => 0);
+    const c = stateList.map(() => 0);
     for (const row of states.values()) {
       const s = row[p];
-      if (s) c[STATES.indexOf(s)] += 1;
+      if (s) c[stateList.indexOf(s)] += 1;
     }
     return c;
   });
@@ -197,17 +214,17 @@ export function refClassify(events: readonly RefEvent[], rules: RefRules, range:
   const transitions: RefTransition[] = [];
   for (let p = 1; p < periods.length; p += 1) {
     if (p - 1 < warmup) continue; // the earlier period is a warm-up period
-    const counts = STATES.map(() => STATES.map(() => 0));
+    const counts = stateList.map(() => stateList.map(() => 0));
     let fresh = 0;
     for (const row of states.values()) {
       const a = row[p - 1];
       const b = row[p];
-      if (a && b) counts[STATES.indexOf(a)][STATES.indexOf(b)] += 1;
+      if (a && b) counts[stateList.indexOf(a)][stateList.indexOf(b)] += 1;
       if (b === 'fresh') fresh += 1;
     }
     transitions.push({ from: periods[p - 1], to: periods[p], counts, fresh });
   }
-  return { periods, warmup, states, stateCounts, transitions, users: full.size };
+  return { periods, warmup, stateList, states, stateCounts, transitions, users: full.size };
 }
 
 /** Classified rows (user, period, state), sorted by user then period, as the spec's `classify` gives. */
@@ -237,7 +254,7 @@ export interface RefGrowth {
  */
 export function refFlowsOf(r: RefResult, t: RefTransition) {
   const p = r.periods.indexOf(t.to);
-  const isActive = (s: State | null) => s !== null && ACTIVE_STATES.includes(s);
+  const isActive = (s: string | null) => s !== null && (ACTIVE_STATES as readonly string[]).includes(s);
   const rates = t.counts.map((row) => {
     const n = row.reduce((a, b) => a + b, 0);
     return n === 0 ? null : row.map((c) => c / n);

@@ -4,7 +4,7 @@ import { mulberry32 } from '../stats/prng.js';
 
 // Fader & Hardie (2007), "How to project customer retention", J. Interactive Marketing 21(1):
 // survival % for years 0–7 with 1000 customers at year 0 (survivors = round(pct × 10)); MLE and
-// projections as listed in the project's check values (recomputed with scipy).
+// projections as listed in test/fixtures/published-values.md (recomputed with scipy).
 const REGULAR = [1000, 631, 468, 382, 326, 289, 262, 241];
 const HIGH_END = [1000, 869, 743, 653, 593, 551, 517, 491];
 

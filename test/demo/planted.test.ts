@@ -7,7 +7,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { CHANGE_WEEK, DEMO_WEEKS, PLANTED, PROMO_WEEK, simulateMakerspace } from '../../src/demo/makerspace.js';
-import { MemoryEngine } from '../../src/engines/memory.js';
+import { createEngine } from '../../src/engines/index.js';
+import { filesSource } from '../../src/engines/types.js';
+import { analysisWaist } from '../../src/waist/derive.js';
 import { summariseFlows, type FlowsSummary } from '../../src/flows/summary.js';
 import { loadRulesFile } from '../../src/rules/load.js';
 
@@ -20,8 +22,8 @@ beforeAll(async () => {
   const lines = ['user_id,timestamp,event,plan,channel'];
   members = simulateMakerspace(20260504, (e) => lines.push(`${e.user_id},${e.timestamp},${e.event},${e.plan},${e.channel}`)).members;
   writeFileSync(join(dir, 'events.csv'), lines.join('\n'));
-  const result = await new MemoryEngine().run({ files: [join(dir, 'events.csv')] }, loadRulesFile('rules/weekly.yaml'));
-  flows = summariseFlows(result.waist);
+  const { waist } = await createEngine('memory').run(filesSource([join(dir, 'events.csv')]), loadRulesFile('rules/weekly.yaml'));
+  flows = summariseFlows(analysisWaist(waist, { includePartial: true }).waist.tables);
 }, 60_000);
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 

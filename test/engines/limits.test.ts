@@ -1,8 +1,8 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { engineFootprint, formatBytes } from '../../src/engines/budget.js';
-import { runOnLog } from '../../src/engines/memory.js';
+import { engineFootprint, formatBytes } from '../../src/engines/memory/budget.js';
+import { runOnLog } from '../../src/engines/memory/index.js';
 import { readEvents } from '../../src/ingest/read.js';
 import { parseRules } from '../../src/rules/load.js';
 import { tempDir } from '../report/fixtures.js';
@@ -28,9 +28,9 @@ describe('the in-memory engine refuses a range too large for its memory budget',
   it('when narrowed with --from the same log fits: history before --from is crossed, not stored', async () => {
     const { rules, log } = await strayLog();
     const run = runOnLog(log, rules, { from: '2025-12-01' }, { budget: 10_000_000 });
-    expect(run.result.waist.periods[0]).toBe('2025-12-01');
+    expect(run.waist.tables.periods[0]).toBe('2025-12-01');
     // the 1926 members are dormant from 1926-01-09 (eight quiet days) and stay so
-    expect(run.result.waist.stateCounts[0]).toEqual([0, 0, 0, 0, 25]);
+    expect(run.waist.tables.stateCounts[0]).toEqual([0, 0, 0, 0, 25]);
   });
 });
 

@@ -1,13 +1,17 @@
 /**
- * The engine leaves out an incomplete last period when asked (RangeOptions.partial 'drop'), from the log
- * it already holds: the tables equal those of the same log with that period's rows removed before
- * reading (an independent filter in the test), and the row accounting says how many rows it held.
+ * An incomplete last period is left out of the waist an analysis reads (src/waist/derive.ts), from the
+ * waist the engine made of the log it holds: the tables equal those of the same log with that period's
+ * rows removed before reading (an independent filter in the test), and the row accounting says how
+ * many rows it held.
  */
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { runOnLog } from '../../src/engines/memory.js';
+import { runOnLog } from '../../src/engines/memory/index.js';
+import type { RangeOptions } from '../../src/engines/types.js';
+import type { EventLog } from '../../src/ingest/eventLog.js';
+import { analysisWaist } from '../../src/waist/derive.js';
 import type { RowAccount } from '../../src/ingest/eventLog.js';
 import { readEvents } from '../../src/ingest/read.js';
 import { parseRules } from '../../src/rules/load.js';
@@ -24,6 +28,13 @@ async function logOf(rows: [string, string][]) {
   const f = join(dir, `e${files++}.csv`);
   writeFileSync(f, ['user_id,timestamp,event', ...rows.map(([u, t]) => `${u},${t},booking_made`)].join('\n'));
   return readEvents([f], { rules });
+}
+
+/** What an analysis reads: left out unless `keep`; `leftOut` says whether it was. */
+function analysed(log: EventLog, range: RangeOptions = {}, keep = false) {
+  const full = runOnLog(log, rules, range).waist;
+  const { waist, dropped } = analysisWaist(full, { includePartial: keep });
+  return { waist: waist.tables, rows: waist.manifest.rows as unknown as RowAccount, users: waist.manifest.users, lastPeriod: { ...full.manifest.lastPeriod, leftOut: dropped !== undefined } };
 }
 
 /** read = used + notKeyEvent + afterRange + partial + Σ rejected (the identity of RowAccount). */
@@ -43,9 +54,9 @@ describe('leaving out an incomplete last period', () => {
         // the range runs from week 0 to week W, and without week W to week W − 1
         rows.push(['anchor', at(0, 0)], ['anchor', at(W - 1, 6, 20)], ['anchor', at(W, 0, 0)]);
         const dropped = await logOf(rows);
-        const r = runOnLog(dropped, rules, { partial: 'drop' }).result;
+        const r = analysed(dropped);
         const inLast = rows.filter(([, t]) => t >= at(W, 0, 0)).length;
-        const without = runOnLog(await logOf(rows.filter(([, t]) => t < at(W, 0, 0))), rules).result;
+        const without = analysed(await logOf(rows.filter(([, t]) => t < at(W, 0, 0))), {}, true);
         expect(r.lastPeriod).toMatchObject({ label: at(W, 0, 0).slice(0, 10), complete: false, leftOut: true });
         expect(r.waist).toEqual(without.waist);
         expect(r.users).toBe(without.users);
@@ -57,9 +68,9 @@ describe('leaving out an incomplete last period', () => {
     );
   }, 30_000); // a bound on a hang (25 logs, read from disk), not a timing assertion
 
-  it('keeps it by default, and then says it is incomplete', async () => {
+  it('keeps it when asked, and then says it is incomplete', async () => {
     const log = await logOf([['a', at(0, 2)], ['a', at(1, 2)], ['b', at(2, 3)], ['a', at(3, 0)]]);
-    const r = runOnLog(log, rules).result;
+    const r = analysed(log, {}, true);
     expect(r.lastPeriod).toMatchObject({ label: '2026-05-25', complete: false, leftOut: false });
     expect(r.waist.periods).toHaveLength(4);
     expect(r.rows).toMatchObject({ read: 4, used: 4, partial: 0 });
@@ -67,7 +78,7 @@ describe('leaving out an incomplete last period', () => {
 
   it('a last period with an event in its last seventh is complete and stays', async () => {
     const log = await logOf([['a', at(0, 2)], ['a', at(1, 2)], ['b', at(2, 3)], ['a', at(3, 6, 12)]]);
-    const r = runOnLog(log, rules, { partial: 'drop' }).result;
+    const r = analysed(log);
     expect(r.lastPeriod).toMatchObject({ complete: true, leftOut: false });
     expect(r.waist.periods).toHaveLength(4);
   });
@@ -80,7 +91,7 @@ describe('leaving out an incomplete last period', () => {
     const toKey = 2942; // the week of 2026-05-18: floor((20591 + 3) / 7), 2026-05-18 being day 20591
     const log = await readEvents([f], { rules, toKey });
     expect(log.rows.afterRange).toBe(2);
-    const r = runOnLog(log, rules, { to: '2026-05-18', partial: 'drop' }).result;
+    const r = analysed(log, { to: '2026-05-18' });
     expect(r.lastPeriod).toMatchObject({ label: '2026-05-18', complete: true, leftOut: false });
     expect(r.waist.periods).toEqual(['2026-05-04', '2026-05-11', '2026-05-18']);
     expect(balanced(r.rows)).toBe(true);
@@ -88,10 +99,10 @@ describe('leaving out an incomplete last period', () => {
 
   it('is kept when leaving it out would leave fewer than two periods, or none past the warm-up', async () => {
     const two = await logOf([['a', at(0, 2)], ['a', at(1, 0)]]);
-    expect(runOnLog(two, rules, { partial: 'drop' }).result.lastPeriod).toMatchObject({ complete: false, leftOut: false });
+    expect(analysed(two).lastPeriod).toMatchObject({ complete: false, leftOut: false });
     const three = await logOf([['a', at(0, 2)], ['a', at(1, 2)], ['a', at(2, 0)]]);
-    expect(runOnLog(three, rules, { partial: 'drop' }).result.lastPeriod.leftOut).toBe(true);
-    const warm = runOnLog(three, rules, { partial: 'drop', warmup: 2 }).result;
+    expect(analysed(three).lastPeriod.leftOut).toBe(true);
+    const warm = analysed(three, { warmup: 2 });
     expect(warm.lastPeriod.leftOut).toBe(false);
     expect(warm.rows.partial).toBe(0);
   });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { cohortShapes, curveShape, groupedCurve, groupedCurves } from '../../src/explain/cohortCurve.js';
-import { cohortRowFromUsers } from '../../src/explain/cohortExt.js';
+import { cohortRowFromUsers } from '../../src/engines/memory/cohortExt.js';
 
 describe('groupedCurve', () => {
   const rows = [

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { TidemarkError } from '../../src/errors.js';
-import { cohortRowFromUsers } from '../../src/explain/cohortExt.js';
+import { cohortRowFromUsers } from '../../src/engines/memory/cohortExt.js';
 import {
   classicRetention, cohortTriangle, onOrAfterRetention, windowRetention, type CohortRowExt,
 } from '../../src/explain/cohorts.js';

@@ -16,12 +16,12 @@ const UCB: [string, number, number, number, number][] = [
 const berkeley: KitagawaCounts[] = UCB.map(([key, ma, mr, wa, wr]) => ({ key, n0: ma + mr, retained0: ma, n1: wa + wr, retained1: wa }));
 
 // Preston, Heuveline & Guillot (2001), Demography, Table 2.1: mid-year population / deaths by age
-// (0, 1–4, 5–9, …, 80–84, 85+), as listed in the project's check values.
+// (0, 1–4, 5–9, …, 80–84, 85+), as listed in test/fixtures/published-values.md.
 const KAZ = [[174078, 3720], [754758, 1220], [879129, 396], [808510, 298], [720161, 561], [622988, 673], [733057, 752], [732312, 965], [612825, 1113], [487996, 1405], [284799, 1226], [503608, 2878], [301879, 3266], [374317, 5212], [256247, 6866], [154623, 6182], [149917, 8199], [88716, 9013], [58940, 10627]];
 const SWE = [[59727, 279], [229775, 42], [245172, 31], [240110, 33], [264957, 61], [287176, 87], [311111, 98], [280991, 140], [286899, 197], [308238, 362], [320172, 643], [242230, 738], [210785, 972], [216058, 1640], [224479, 2752], [222578, 4509], [184102, 6745], [140667, 9587], [110242, 17340]];
 
 describe('kitagawaFromCounts — published decompositions', () => {
-  it('Bickel et al. (1975): women − men = −0.141645 = rate +0.036028 + composition −0.177674 (project check values, recomputed with numpy)', () => {
+  it('Bickel et al. (1975): women − men = −0.141645 = rate +0.036028 + composition −0.177674 (published-values.md, recomputed with numpy)', () => {
     const r = kitagawaFromCounts(berkeley);
     expect(r.base).toBeCloseTo(1198 / 2691, 12);
     expect(r.compare).toBeCloseTo(557 / 1835, 12);

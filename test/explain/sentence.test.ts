@@ -77,9 +77,9 @@ describe('decompositionSentence', () => {
     );
   });
 
-  it('says when a period has no members', () => {
+  it('says when a period has no users', () => {
     const r = kitagawaFromCounts([{ key: 'fresh', n0: 0, retained0: 0, n1: 10, retained1: 3 }]);
-    expect(decompositionSentence(r, { grain: 'one-week' })).toBe('Overall one-week retention cannot be compared: there are no members in the earlier period.');
+    expect(decompositionSentence(r, { grain: 'one-week' })).toBe('Overall one-week retention cannot be compared: there are no users in the earlier period.');
   });
 
   it('adds that association is not cause when the groups are behaviours', () => {

@@ -78,6 +78,18 @@ describe('options checked before reading: hostile values', () => {
     ['project', '--what-if', 'lapsing->engaged*1.2'],
     ['project', '--what-if', 'dormant->fresh=0.1'],
     ['project', '--what-if', 'inflow.engaged=100'],
+    ['project', '--scenario', 'no name here'],
+    ['project', '--scenario', 'inflow=500'],
+    ['project', '--scenario', 'a=lapsing->engaged*1.2'],
+    ['project', '--scenario', 'a=+3000 dormant at +4'],
+    ['project', '--scenario', 'a=+1e400 fresh at +4'],
+    ['project', '--scenario', 'a=+3000 fresh at +99999999999999999999'],
+    ['project', '--scenario', 'a=+3000 fresh at +0'],
+    ['project', '--scenario', `${'x'.repeat(41)}=inflow*2`],
+    ['project', '--scenario', 'a=\u001b[31m->dormant*2'],
+    ['project', '--inflow-method', 'median;rm'],
+    ['project', '--season', '-1'],
+    ['project', '--season', '1.5'],
     ['cohorts', '--ages', 'x'],
     ['cohorts', '--ages', '0'],
     ['cohorts', '--ages', '1,,4'],
@@ -91,6 +103,9 @@ describe('options checked before reading: hostile values', () => {
     ['report', '--horizon', 'x'],
     ['report', '--seed', '1.5'],
     ['report', '--base', '2026-13-01'],
+    ['audience', '--period', 'last week'],
+    ['audience', '--period', '2026-9-14'],
+    ['audience', '--period', ''],
   ])('%s %s %j: exit 2 naming the flag, no event read', async (command, flag, value) => {
     const out = command === 'report' ? ['--out', join(c.dir, 'never')] : [];
     refusedAt(await run(command, '--events', UNREAD, flag, value, ...out), flag);

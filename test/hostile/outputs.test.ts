@@ -151,8 +151,9 @@ describe('control codes never reach the terminal raw', () => {
   it.each(NASTY)('in a column name (%j): a missing user column, an unknown --by', async (v) => {
     const f = t.file('cols.csv', `${csvCell(`id${v}`)},timestamp,event,${csvCell(`pl${v}an`)}\nm1,2026-03-02T10:00:00Z,booking,hobby\n`);
     expectRefusal(await run('flows', '--events', f), 1);
-    // an unknown --by column is a usage error found after reading (exit 2, naming --by)
-    expectRefusal(await run('explain', '--events', f, '--user-column', `id${v}`, '--by', `x${v}`), 2);
+    // an unknown --by column is a usage error found after reading (exit 2, naming --by); a header
+    // holding a carriage return is refused by the reader first (exit 1: CR alone as a line end)
+    expectRefusal(await run('explain', '--events', f, '--user-column', `id${v}`, '--by', `x${v}`), v.includes('\r') ? 1 : 2);
   });
 
   it.each(NASTY)('in a data value (%j): a bad timestamp, an event name in the report, a --by value in tables and sentences', async (v) => {

@@ -32,7 +32,7 @@ function machineRows(sets: number[][], span: number, lapseLimit: number, outStar
     let dormantAt = -1;
     for (let p = first; p < span; p++) {
       const before = String(snap.value);
-      [snap] = transition(m, snap, { type: 'PERIOD', active: on.has(p) });
+      [snap] = transition(m, snap, { type: 'PERIOD', active: on.has(p), events: on.has(p) ? 1 : 0 });
       if (snap.value === 'dormant' && dormantAt < 0) dormantAt = p;
       if (p >= outStart) rows.push(`${u} ${p} ${before} ${String(snap.value)} ${p - first}`);
     }

@@ -15,7 +15,7 @@ function walkedMoves(lapseLimit: number, length: number): { moves: Set<string>; 
     let [snap] = initialTransition(m);
     for (let p = 0; p < length; p++) {
       const before = String(snap.value);
-      [snap] = transition(m, snap, { type: 'PERIOD', active: Boolean((bits >> p) & 1) });
+      [snap] = transition(m, snap, { type: 'PERIOD', active: Boolean((bits >> p) & 1), events: (bits >> p) & 1 });
       const after = String(snap.value);
       if (before === 'unseen') {
         if (after !== 'unseen') arrivals.add(after);

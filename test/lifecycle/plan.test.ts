@@ -32,7 +32,7 @@ function walkMachine(lapseLimit: number, seq: boolean[], state = 'unseen', idle 
   const m = machineFor(lapseLimit);
   let snap = state === 'unseen' && idle === 0 ? initialTransition(m)[0] : m.resolveState({ value: state, context: { idle } });
   return seq.map((active) => {
-    [snap] = transition(m, snap, { type: 'PERIOD', active });
+    [snap] = transition(m, snap, { type: 'PERIOD', active, events: 0 });
     return { state: String(snap.value), idle: Math.min(snap.context.idle, lapseLimit) };
   });
 }

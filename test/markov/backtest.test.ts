@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { backtest } from '../../src/markov/backtest.js';
+import { backtest, intervalScore } from '../../src/markov/backtest.js';
 import { MAKERSPACE_P, exactTables, expectClose, expectRefusal } from './helpers.js';
 
 const start = [40, 100, 20, 30, 50];
@@ -73,7 +73,7 @@ describe('backtest', () => {
         sum += next.reduce((a, v, j) => a + Math.abs(v / total - actual[j] / actualTotal), 0) / S;
         n++;
       }
-      const r = backtest(tables, { horizon: 1, minFit: 2, window, samples: 2 });
+      const r = backtest(tables, { horizon: 1, minFit: 2, window, samples: 2, inflowMethod: 'mean' });
       expect(r.rows[0].origins).toBe(n);
       expectClose(r.rows[0].mae, sum / n, 1e-12);
     }
@@ -103,5 +103,52 @@ describe('backtest', () => {
     expectRefusal(() => backtest(tables, { horizon: 0 }), 'INPUT_INVALID', /horizon/);
     expectRefusal(() => backtest(tables, { minFit: 4, window: 2 }), 'INPUT_INVALID', /window must be a whole number from 4/);
     expectRefusal(() => backtest(tables, { band: [90, 10] }), 'INPUT_INVALID', /band must be/);
+  });
+});
+
+describe('backtest scores (interval score, baselines)', () => {
+  it('intervalScore follows Gneiting & Raftery (2007, §6.2): width plus 2/α times the miss (hand values)', () => {
+    expect(intervalScore(1, 3, 2, 0.2)).toBe(2); // inside: the width
+    expect(intervalScore(1, 3, 4, 0.2)).toBeCloseTo(2 + 10 * 1, 12); // above by 1
+    expect(intervalScore(1, 3, 0.5, 0.5)).toBeCloseTo(2 + 4 * 0.5, 12); // below by 0.5, α = 0.5
+  });
+
+  it('no-change and seasonal-naive baselines match a plain loop at one period ahead (normal intervals, FPP3 §5.5)', () => {
+    // arrivals with a 4-period cycle, so that the mix has a season of 4
+    const cyc = Array.from({ length: 16 }, (_, t) => [30, 90, 50, 70][t % 4]);
+    const tables = exactTables([MAKERSPACE_P], [40, 100, 20, 30, 50], cyc);
+    const r = backtest(tables, { horizon: 1, minFit: 4, window: 4, samples: 20, season: 4 });
+    const share = tables.stateCounts.map((x) => x.map((v) => v / x.reduce((a, b) => a + b, 0)));
+    const z = 1.2815515655446004; // Φ⁻¹(0.9), the 80% interval
+    let mae = 0, naive = 0, seasonal = 0, sCells = 0, cells = 0;
+    const rms = (v: number[]) => Math.sqrt(v.reduce((a, x) => a + x * x, 0) / v.length);
+    for (let k = 3; k < tables.transitions.length - 1; k++) {
+      const p = k + 1, first = Math.max(0, k + 1 - 4);
+      for (let s = 0; s < 5; s++) {
+        const a = share[p + 1][s];
+        const sdN = rms(Array.from({ length: p - first }, (_, i) => share[first + 1 + i][s] - share[first + i][s]));
+        naive += intervalScore(share[p][s] - z * sdN, share[p][s] + z * sdN, a, 0.2);
+        cells++;
+        const from = Math.max(first, 4);
+        if (p - from + 1 >= 2) {
+          const sdS = rms(Array.from({ length: p - from + 1 }, (_, i) => share[from + i][s] - share[from + i - 4][s]));
+          const f = share[p + 1 - 4][s];
+          seasonal += intervalScore(f - z * sdS, f + z * sdS, a, 0.2);
+          mae += Math.abs(f - a);
+          sCells++;
+        }
+      }
+    }
+    expect(r.rows[0].intervalScore.noChange.outer).toBeCloseTo(naive / cells, 12);
+    expect(r.rows[0].seasonalMae).toBeCloseTo(mae / sCells, 12);
+    expect(r.rows[0].intervalScore.seasonalNaive!.outer).toBeCloseTo(seasonal / sCells, 12);
+    expect(r.season).toBe(4);
+    expect(r.seasonalNote).toBeUndefined();
+  });
+
+  it('without a season of history the seasonal baseline is left out, and the output says why', () => {
+    const r = backtest(exactTables([MAKERSPACE_P], start, fresh), { horizon: 2, minFit: 2, samples: 10, season: 52 });
+    expect(r.rows.every((x) => x.seasonalMae === null && x.intervalScore.seasonalNaive === null)).toBe(true);
+    expect(r.seasonalNote).toMatch(/needs 54 periods of history before an origin/);
   });
 });

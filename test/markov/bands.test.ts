@@ -2,7 +2,6 @@ import { describe, expect, it } from 'vitest';
 import { projectionBands } from '../../src/markov/bands.js';
 import { normaliseCounts } from '../../src/markov/fit.js';
 import { project } from '../../src/markov/project.js';
-import { quantileSorted } from '../../src/markov/quantile.js';
 import { STATES, expectClose, expectRefusal } from './helpers.js';
 
 // Pooled weekly counts of the makerspace booking app (rows: fresh, engaged, returned, lapsing, dormant).
@@ -15,18 +14,6 @@ const counts = [
 ];
 const start = [50, 700, 60, 180, 900];
 const inflow = [50, 0, 0, 0, 0];
-
-describe('quantileSorted (Hyndman & Fan definition 7)', () => {
-  it('interpolates between order statistics (hand: h = 3·0.5 = 1.5 → 2.5; h = 3·0.1 = 0.3 → 1.3)', () => {
-    expect(quantileSorted([1, 2, 3, 4], 0.5)).toBe(2.5);
-    expectClose(quantileSorted([1, 2, 3, 4], 0.1), 1.3, 1e-12);
-    expect(quantileSorted([7], 0.9)).toBe(7);
-  });
-  it('refuses an empty sample and a level outside [0, 1]', () => {
-    expectRefusal(() => quantileSorted([], 0.5), 'INPUT_INVALID', /empty/);
-    expectRefusal(() => quantileSorted([1], 1.5), 'INPUT_INVALID', /\[0, 1\]/);
-  });
-});
 
 describe('projectionBands', () => {
   it('the same seed reproduces the output exactly; another seed differs', () => {

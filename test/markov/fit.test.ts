@@ -16,6 +16,8 @@ const transitions = [
 const tables: WaistTables = {
   states,
   activeStates: ['fresh', 'engaged'],
+  arrivalState: 'fresh',
+  exitState: states[states.length - 1],
   periods,
   warmup: 0,
   stateCounts: [[10, 30, 0], [12, 26, 14], [8, 29, 23], [10, 27, 33]],

@@ -59,7 +59,7 @@ export function exactTables(matrices: number[][][], start: number[], fresh: numb
     stateCounts.push(states.map((_, j) => counts.reduce((s, row) => s + row[j], 0) + (j === 0 ? f : 0)));
     return { from: periods[t], to: periods[t + 1], counts, fresh: f };
   });
-  return { states, activeStates: states.slice(0, 3), periods, warmup: 0, stateCounts, transitions, tenureCells: [], cohorts: [], durations: [] };
+  return { states, activeStates: states.slice(0, 3), arrivalState: states[0], exitState: states[states.length - 1], periods, warmup: 0, stateCounts, transitions, tenureCells: [], cohorts: [], durations: [] };
 }
 
 /** A lifecycle-shaped chain for the makerspace fixtures (rows: fresh, engaged, returned, lapsing, dormant). */

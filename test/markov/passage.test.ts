@@ -9,7 +9,7 @@ const drunkard = {
   matrix: [[1, 0, 0, 0, 0], [0.5, 0, 0.5, 0, 0], [0, 0.5, 0, 0.5, 0], [0, 0, 0.5, 0, 0.5], [0, 0, 0, 0, 1]],
 };
 
-describe('firstPassage: drunkard\'s walk (Grinstead & Snell, Example 11.14; values confirmed by recomputation, see CHECKS.md)', () => {
+describe('firstPassage: drunkard\'s walk (Grinstead & Snell, Example 11.14; values confirmed by recomputation, see published-values.md)', () => {
   const r = firstPassage(drunkard, ['0', '4']);
 
   it('fundamental matrix N = [[3/2,1,1/2],[1,2,1],[1/2,1,3/2]] over states 1, 2, 3', () => {
@@ -71,7 +71,7 @@ describe('firstPassage: infinite expectations are null with a reason', () => {
   });
 });
 
-describe('meanFirstPassage: Land of Oz (Grinstead & Snell, Example 11.1, §11.5; values confirmed by recomputation, see CHECKS.md)', () => {
+describe('meanFirstPassage: Land of Oz (Grinstead & Snell, Example 11.1, §11.5; values confirmed by recomputation, see published-values.md)', () => {
   const r = meanFirstPassage(oz);
 
   it('M = [[0,4,10/3],[8/3,0,8/3],[10/3,4,0]]', () => {

@@ -3,9 +3,9 @@ import { project } from '../../src/markov/project.js';
 import { columnToRow } from '../../src/markov/validate.js';
 import { expectClose, expectRefusal } from './helpers.js';
 
-// How the known values were confirmed: every Grinstead & Snell, Strang and Lay value below is listed in
-// the project's CHECKS notes, where each was recomputed independently (numpy) from secondary copies of
-// the example; Lay's example numbers are from memory (marked in the test title).
+// How the known values were confirmed: every Grinstead & Snell, Strang and Lay value below is listed
+// in test/fixtures/published-values.md, where each was recomputed independently (numpy) from
+// secondary copies of the example; Lay's example numbers are from memory (marked in the test title).
 describe('project: x(t+1) = x(t)·P + f', () => {
   it('a hand-computed 3-state projection with inflow (makerspace members: fresh, engaged, dormant)', () => {
     // P rows: fresh → (0, .6, .4), engaged → (0, .7, .3), dormant → (0, .2, .8); x0 = (50, 200, 100);

@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { projectionBands } from '../../src/markov/bands.js';
 import { communicatingClasses } from '../../src/markov/classes.js';
-import { vecMat } from '../../src/markov/linalg.js';
+import { vecMat } from '../../src/numerics/linalg.js';
 import { project } from '../../src/markov/project.js';
 import { parseScenario } from '../../src/markov/scenario.js';
 import { stationary } from '../../src/markov/stationary.js';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { matMul } from '../../src/markov/linalg.js';
+import { matMul } from '../../src/numerics/linalg.js';
 import { stationary } from '../../src/markov/stationary.js';
 import { columnToRow } from '../../src/markov/validate.js';
 import { MAKERSPACE_P, STATES, expectClose, expectRefusal } from './helpers.js';
@@ -12,11 +12,11 @@ function unique(chain: { states: string[]; matrix: number[][] }): number[] {
   return s.kind === 'unique' ? s.distribution : [];
 }
 
-// How the known values were confirmed: every Grinstead & Snell, Strang and Lay value below is listed in
-// the project's CHECKS notes, where each was recomputed independently (numpy) from secondary copies of
-// the example; Lay's example numbers are from memory (marked in the test title).
+// How the known values were confirmed: every Grinstead & Snell, Strang and Lay value below is listed
+// in test/fixtures/published-values.md, where each was recomputed independently (numpy) from
+// secondary copies of the example; Lay's example numbers are from memory (marked in the test title).
 describe('stationary: known values', () => {
-  it('Land of Oz fixed vector w = (0.4, 0.2, 0.4) (Grinstead & Snell, Examples 11.19–11.20; confirmed by recomputation, see CHECKS.md)', () => {
+  it('Land of Oz fixed vector w = (0.4, 0.2, 0.4) (Grinstead & Snell, Examples 11.19–11.20; confirmed by recomputation, see published-values.md)', () => {
     expectClose(unique(oz), [0.4, 0.2, 0.4], 1e-12);
   });
 
@@ -43,11 +43,11 @@ describe('stationary: known values', () => {
     expectClose(unique({ states: ['a', 'b', 'c'], matrix: columnToRow(a) }), [1 / 3, 1 / 3, 1 / 3], 1e-12);
   });
 
-  it('Lay §4.9: P = [[.6,.3],[.4,.7]] (column-stochastic, converted) → q = (3/7, 4/7) (example numbers from memory, confirmed by recomputation per CHECKS.md)', () => {
+  it('Lay §4.9: P = [[.6,.3],[.4,.7]] (column-stochastic, converted) → q = (3/7, 4/7) (example numbers from memory, confirmed by recomputation per published-values.md)', () => {
     expectClose(unique({ states: ['a', 'b'], matrix: columnToRow([[0.6, 0.3], [0.4, 0.7]]) }), [3 / 7, 4 / 7], 1e-12);
   });
 
-  it('Lay §4.9: 3-state P (converted) → P² and q = (.3, .6, .1) (example numbers from memory, confirmed by recomputation per CHECKS.md)', () => {
+  it('Lay §4.9: 3-state P (converted) → P² and q = (.3, .6, .1) (example numbers from memory, confirmed by recomputation per published-values.md)', () => {
     const lay = [[0.5, 0.2, 0.3], [0.3, 0.8, 0.3], [0.2, 0, 0.4]];
     const p = columnToRow(lay);
     // The row-stochastic P² is the transpose of Lay's (column-stochastic) P².

@@ -28,3 +28,47 @@ export async function runCli(args: string[]): Promise<{ code: number; out: strin
   const code = await main(args, io);
   return { code, out: io.out, err: io.err };
 }
+
+/** A small seeded generator (mulberry32), for logs that tests invent. */
+export function seeded(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/**
+ * A log unlike the demo, for checking layout and wording on data the project has never seen: daily
+ * activity from 2026-10-05 to 2027-04-18 (across a new year), about 8 new users a day and a one-off
+ * 600 on 2027-01-11, event names `visit` and `save`, and a `region` attribute with one very long value.
+ * Invented for layout checks only: no test reads a number from it.
+ */
+export function inventedLog(dir: string, seed = 7): { file: string; days: number; last: string } {
+  const rnd = seeded(seed);
+  const start = Date.UTC(2026, 9, 5);
+  const days = 196;
+  const regions = ['north', 'south', 'an island region whose name is far longer than any label should be'];
+  const rows = ['user_id,timestamp,event,region'];
+  let id = 0;
+  for (let d = 0; d < days; d++) {
+    const arrivals = d === 98 ? 600 : 4 + Math.floor(rnd() * 9);
+    for (let k = 0; k < arrivals; k++) {
+      const user = `u${(id++).toString(36)}`;
+      const region = regions[Math.floor(rnd() * regions.length)];
+      const sticky = rnd() < 0.3;
+      for (let a = 0; d + a < days; a++) {
+        const p = a === 0 ? 1 : sticky ? 0.3 : 0.45 * 0.9 ** a;
+        if (rnd() >= p) continue;
+        const ms = start + (d + a) * 86_400_000 + Math.floor(rnd() * 86_000_000);
+        rows.push(`${user},${new Date(ms).toISOString()},${rnd() < 0.7 ? 'visit' : 'save'},"${region}"`);
+      }
+    }
+  }
+  const file = join(dir, 'invented.csv');
+  writeFileSync(file, rows.join('\n'));
+  return { file, days, last: new Date(start + (days - 1) * 86_400_000).toISOString().slice(0, 10) };
+}

@@ -1,7 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { runOnLog } from '../../src/engines/memory.js';
+import { runOnLog } from '../../src/engines/memory/index.js';
 import { readEvents } from '../../src/ingest/read.js';
 import { REPORT_BACKTEST_ORIGINS, REPORT_COHORTS, buildReport } from '../../src/report/build.js';
 import type { CohortsOutput } from '../../src/explain/cohortReport.js';
@@ -21,9 +21,10 @@ describe('the report over many periods', () => {
     const f = join(tempDir(), 'e.csv');
     writeFileSync(f, rows.join('\n'));
     const rules = parseRules('grain: week\nlapseLimit: 2\n');
-    const { result } = runOnLog(await readEvents([f], { rules }), rules);
+    const { waist } = runOnLog(await readEvents([f], { rules }), rules);
+    const result = { waist: waist.tables };
     expect(result.waist.cohorts).toHaveLength(70);
-    const m = buildReport(result, rules);
+    const m = buildReport(waist);
     const cohorts = m.documents.find((d) => d.name === 'cohorts')!.value as CohortsOutput;
     expect(cohorts.triangle.map((r) => r.cohort)).toEqual(result.waist.cohorts.slice(-REPORT_COHORTS).map((r) => r.cohort));
     expect(m.warnings.join(' ')).toContain(`latest ${REPORT_COHORTS} of 70 acquisition cohorts`);

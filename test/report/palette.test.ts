@@ -1,12 +1,12 @@
 /**
- * The state palette stays distinguishable for the common colour-vision deficiencies.
+ * The palettes stay distinguishable for the common colour-vision deficiencies.
  * Simulation: Machado, Oliveira & Fernandes (2009), "A physiologically-based model for simulation of
  * color vision deficiency", IEEE TVCG 15(6) — severity-1.0 matrices applied in linear RGB (the matrix
  * values are from memory). Colour difference: CIE 1976 ΔE*ab from sRGB (IEC 61966-2-1) via XYZ (D65),
- * common practice. A ΔE above about 10 is plainly visible; we require 20 for every pair.
+ * common practice. A ΔE above about 10 is plainly visible; we require 20 for every pair within a set.
  */
 import { describe, expect, it } from 'vitest';
-import { STATE_COLOURS } from '../../src/report/palette.js';
+import { RAMP, SERIES, STATE_COLOURS, seriesColour, seriesDash } from '../../src/report/palette.js';
 
 const SIM: Record<string, number[][]> = {
   normal: [[1, 0, 0], [0, 1, 0], [0, 0, 1]],
@@ -22,20 +22,58 @@ function lab(rgb: number[]): number[] {
   const f = (t: number) => (t > 0.008856 ? Math.cbrt(t) : 7.787 * t + 16 / 116);
   return [116 * f(Y) - 16, 500 * (f(X / 0.95047) - f(Y)), 200 * (f(Y) - f(Z / 1.08883))];
 }
+/** CIELAB of `hex` as seen under the simulation `kind`. */
+function seen(hex: string, kind: string): number[] {
+  const m = SIM[kind];
+  const rgb = [1, 3, 5].map((i) => linear(parseInt(hex.slice(i, i + 2), 16) / 255));
+  return lab(m.map((row) => Math.min(1, Math.max(0, row[0] * rgb[0] + row[1] * rgb[1] + row[2] * rgb[2]))));
+}
+const deltaE = (a: string, b: string, kind: string) => Math.hypot(...seen(a, kind).map((v, k) => v - seen(b, kind)[k]));
+const KINDS = Object.keys(SIM);
 
 describe('state palette', () => {
-  it.each(Object.keys(SIM))('every pair of states differs by ΔE*ab ≥ 20 under %s', (kind) => {
-    const m = SIM[kind];
-    const labs = Object.entries(STATE_COLOURS).map(([state, hex]) => {
-      const rgb = [1, 3, 5].map((i) => linear(parseInt(hex.slice(i, i + 2), 16) / 255));
-      const sim = m.map((row) => Math.min(1, Math.max(0, row[0] * rgb[0] + row[1] * rgb[1] + row[2] * rgb[2])));
-      return { state, lab: lab(sim) };
-    });
-    for (let i = 0; i < labs.length; i++) {
-      for (let j = i + 1; j < labs.length; j++) {
-        const d = Math.hypot(...labs[i].lab.map((v, k) => v - labs[j].lab[k]));
-        expect(d, `${labs[i].state} vs ${labs[j].state}`).toBeGreaterThanOrEqual(20);
+  it.each(KINDS)('every pair of states differs by ΔE*ab ≥ 20 under %s', (kind) => {
+    const states = Object.entries(STATE_COLOURS);
+    for (let i = 0; i < states.length; i++) {
+      for (let j = i + 1; j < states.length; j++) {
+        expect(deltaE(states[i][1], states[j][1], kind), `${states[i][0]} vs ${states[j][0]}`).toBeGreaterThanOrEqual(20);
       }
     }
+  });
+});
+
+describe('series palette (colours that are not states)', () => {
+  it.each(KINDS)('every pair of series colours differs by ΔE*ab ≥ 20 under %s', (kind) => {
+    for (let i = 0; i < SERIES.length; i++) {
+      for (let j = i + 1; j < SERIES.length; j++) expect(deltaE(SERIES[i], SERIES[j], kind), `${SERIES[i]} vs ${SERIES[j]}`).toBeGreaterThanOrEqual(20);
+    }
+  });
+
+  it('no series colour can be taken for a state: ΔE*ab ≥ 30 from every state colour in normal vision, ≥ 10 under each deficiency', () => {
+    for (const s of SERIES) {
+      for (const [state, hex] of Object.entries(STATE_COLOURS)) {
+        expect(deltaE(s, hex, 'normal'), `${s} vs ${state}`).toBeGreaterThanOrEqual(30);
+        for (const kind of KINDS.slice(1)) expect(deltaE(s, hex, kind), `${s} vs ${state} under ${kind}`).toBeGreaterThanOrEqual(10);
+      }
+    }
+  });
+
+  it('beyond five series the dash pattern changes with the colour, so ten series are ten (colour, dash) pairs', () => {
+    const pairs = new Set(Array.from({ length: 10 }, (_, i) => `${seriesColour(i)} ${seriesDash(i).join(',')}`));
+    expect(pairs.size).toBe(10);
+    expect(seriesDash(0)).toEqual([]);
+  });
+});
+
+describe('sequential ramp', () => {
+  it.each(KINDS)('lightness falls at every stop, by L* ≥ 10, and neighbours differ by ΔE*ab ≥ 12, under %s', (kind) => {
+    for (let i = 1; i < RAMP.length; i++) {
+      expect(seen(RAMP[i - 1], kind)[0] - seen(RAMP[i], kind)[0], `${RAMP[i - 1]} → ${RAMP[i]}`).toBeGreaterThanOrEqual(10);
+      expect(deltaE(RAMP[i - 1], RAMP[i], kind)).toBeGreaterThanOrEqual(12);
+    }
+  });
+
+  it('uses no state colour', () => {
+    for (const r of RAMP) for (const hex of Object.values(STATE_COLOURS)) expect(deltaE(r, hex, 'normal')).toBeGreaterThanOrEqual(15);
   });
 });

@@ -22,7 +22,7 @@ describe('tidemark report on the demo', () => {
     const ev = demoEvents(work);
     ids = ev.ids;
     dir = join(work, 'out');
-    const r = await runCli(['report', '--events', ev.file, '--out', dir, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet']);
+    const r = await runCli(['report', '--events', ev.file, '--out', dir, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet', '--scenario', 'keep-lapsers=lapsing->dormant*0.8']);
     expect(r.code).toBe(0);
     headline = r.out;
     files = folder(dir);
@@ -51,11 +51,17 @@ describe('tidemark report on the demo', () => {
     expect(new Set(urls)).toEqual(new Set(['http://www.w3.org/2000/svg', 'http://www.w3.org/1999/xlink']));
   });
 
-  it('has at least six charts, each with a title and a reading', () => {
+  it('has at least six charts, each with a title and a reading; with --scenario, the scenario chart and its data', () => {
     const html = files.get('index.html')!;
+    expect(html).toMatch(/<figure class="chart" id="scenarios">/);
+    expect(files.get('scenarios.csv')!.split('\n')[0]).toBe('scenario,step,period,active,active_lower,active_upper,difference,difference_lower,difference_upper');
     const figures = html.match(/<figure class="chart"/g) ?? [];
     expect(figures.length).toBeGreaterThanOrEqual(6);
-    expect((html.match(/<svg/g) ?? []).length).toBe(figures.length);
+    // each chart is drawn twice, for wide and for narrow screens (report/frame.ts), under an HTML title
+    expect((html.match(/<div class="frame wide"/g) ?? []).length).toBe(figures.length);
+    expect((html.match(/<div class="frame narrow/g) ?? []).length).toBe(figures.length);
+    expect((html.match(/<svg[^>]*class="marks"/g) ?? []).length).toBe(2 * figures.length);
+    expect((html.match(/<figure class="chart"[^>]*>\n<h3>.{5,}?<\/h3>/g) ?? []).length).toBe(figures.length);
     expect((html.match(/<p class="reading">[^<]{20,}/g) ?? []).length).toBe(figures.length);
   });
 
@@ -73,14 +79,59 @@ describe('tidemark report on the demo', () => {
     expect(html).toMatch(/Cautions/);
     expect(html).toMatch(/personal data/);
     expect(html).toMatch(/correlation, not a cause/);
-    expect(headline).toMatch(/Overall one-week retention fell/);
+    // the story printed on the terminal: the fall, beyond chance, and the shift toward newcomers as its main part
+    expect(headline).toMatch(/one-week retention fell from [\d.]+%\s+to\s+[\d.]+%/);
+    expect(headline).toMatch(/more than chance\s+explains/);
+    expect(headline).toMatch(/the shift toward newcomers\s+cost/);
+  });
+
+  it('tells the story in at most five lines, every one on the chosen comparison, the numbers checked against flows.json', () => {
+    const digest = files.get('digest.txt')!;
+    const story = digest.split('\n').filter((l) => l.startsWith('- '));
+    expect(story.length).toBeGreaterThanOrEqual(4);
+    expect(story.length).toBeLessThanOrEqual(5);
+    const [moved, matters, why, next] = story;
+    for (const l of [moved, matters, why]) expect(l).toContain('(2026-08-10 → 2026-09-14)');
+    // the projection runs 12 weeks on from the latest week: 2026-11-23 + 84 days
+    expect(next).toContain(`(2026-11-23 → ${new Date(Date.UTC(2026, 10, 23) + 84 * 86_400_000).toISOString().slice(0, 10)})`);
+    // independent sums over flows.json: active users in each period, arrivals between, overall retention into each
+    const flows = JSON.parse(files.get('flows.json')!) as { states: string[]; periods: string[]; stateCounts: Record<string, number>[]; transitions: { to: string; fresh: number; retention: Record<string, { n: number; retained: number }> }[] };
+    const active = ['fresh', 'engaged', 'returned'];
+    const activeIn = (p: string) => active.reduce((a, s) => a + flows.stateCounts[flows.periods.indexOf(p)][s], 0);
+    expect(moved).toContain(`active users ${activeIn('2026-08-10').toLocaleString('en-US')} → ${activeIn('2026-09-14').toLocaleString('en-US')}`);
+    const arrived = flows.transitions.filter((t) => t.to > '2026-08-10' && t.to <= '2026-09-14').reduce((a, t) => a + t.fresh, 0);
+    expect(moved).toContain(`${arrived.toLocaleString('en-US')} users arrived`);
+    const into = (p: string) => {
+      const t = flows.transitions.find((x) => x.to === p)!;
+      const kept = active.reduce((a, s) => a + t.retention[s].retained, 0);
+      return `${((100 * kept) / active.reduce((a, s) => a + t.retention[s].n, 0)).toFixed(1)}%`;
+    };
+    expect(matters).toContain(`one-week retention fell from ${into('2026-08-10')} to ${into('2026-09-14')}`);
+    expect(why).toMatch(/the shift toward newcomers cost/);
+  });
+
+  it('writes digest.txt: plain text, at most 15 lines, with the comparison and the cautions, and no markup or escapes', () => {
+    const digest = files.get('digest.txt')!;
+    const lines = digest.trimEnd().split('\n');
+    expect(lines.length).toBeLessThanOrEqual(15);
+    expect(lines[1]).toBe('Every finding compares 2026-08-10 → 2026-09-14 (as chosen).');
+    expect(digest).toMatch(/Cautions: .*aggregates only.*correlation, not a cause/);
+    // no Markdown or HTML: no emphasis, escapes, entities, tags or headings
+    expect(digest).not.toMatch(/\*\*|\\[_*\[\]<>#|`]|&(lt|gt|amp|#\d+);|<\/?[a-z]|^#/m);
+  });
+
+  it('explains the terms of the trade it uses, once, on the page', () => {
+    const html = files.get('index.html')!;
+    expect(html).toMatch(/<dt>quick ratio<\/dt><dd>users who arrived or came back for each user who went quiet/);
+    expect(html).toMatch(/<dt>lapsing \(lapsing users\)<\/dt><dd>quiet for up to 2 weeks in a row\.<\/dd>/);
+    expect(html).toMatch(/<dt>significant<\/dt>/);
   });
 
   it('is deterministic: a second run differs only in the generated-at line', async () => {
     const work = tempDir();
     const ev = demoEvents(work);
     const again = join(work, 'again');
-    await runCli(['report', '--events', ev.file, '--out', again, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet']);
+    await runCli(['report', '--events', ev.file, '--out', again, '--base', '2026-08-10', '--compare', '2026-09-14', '--by', 'channel', '--quiet', '--scenario', 'keep-lapsers=lapsing->dormant*0.8']);
     const second = folder(again);
     expect([...second.keys()].sort()).toEqual([...files.keys()].sort());
     for (const [name, text] of files) expect(second.get(name)!.replace(GENERATED, ''), name).toBe(text.replace(GENERATED, ''));
@@ -127,6 +178,7 @@ describe('hostile strings from data', () => {
 
   it('escapeHtml and mdEscape neutralise markup (hand-checked examples)', () => {
     expect(escapeHtml(`<a href="x" onclick='y'>&\``)).toBe('&lt;a href=&quot;x&quot; onclick=&#39;y&#39;&gt;&amp;&#96;');
-    expect(mdEscape('[a](javascript:b) <i>|*')).toBe('\\[a\\]\\(javascript:b) &lt;i&gt;\\|\\*');
+    // a lone * pairs with nothing, so it is left as it is (CommonMark 0.31 §6.2: emphasis needs a closing delimiter)
+    expect(mdEscape('[a](javascript:b) <i>|*')).toBe('\\[a\\]\\(javascript:b) &lt;i&gt;\\|*');
   });
 });

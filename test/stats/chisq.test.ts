@@ -5,7 +5,7 @@ import { chiSquareSf } from '../../src/stats/chisq.js';
 const rel = (a: number, b: number): number => Math.abs(a - b) / Math.abs(b);
 
 describe('chiSquareSf', () => {
-  it('Freireich et al. (1963) log-rank: χ² = 16.7929 on 1 df → p = 4.1688e-05 (project check values)', () => {
+  it('Freireich et al. (1963) log-rank: χ² = 16.7929 on 1 df → p = 4.1688e-05 (published-values.md)', () => {
     expect(chiSquareSf(16.7929, 1)).toBeCloseTo(4.1688e-5, 8);
   });
 

@@ -3,7 +3,7 @@ import { newcombeDifference } from '../../src/stats/newcombe.js';
 
 describe('newcombeDifference (hybrid score, method 10)', () => {
   // Newcombe (1998b), Statistics in Medicine 17:873–890, Table II, method 10 (no continuity
-  // correction), as listed in the project's check values (confirmed by recomputation with numpy).
+  // correction), as listed in test/fixtures/published-values.md (confirmed by recomputation with numpy).
   it.each([
     [56, 70, 48, 80, 0.0524, 0.3339],
     [9, 10, 3, 10, 0.1705, 0.809],

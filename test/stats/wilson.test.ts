@@ -6,7 +6,7 @@ import { wilsonInterval } from '../../src/stats/wilson.js';
 
 describe('wilsonInterval', () => {
   // Newcombe (1998a), Statistics in Medicine 17:857–872, method 3 (Wilson score, no continuity
-  // correction), as listed in the project's check values (confirmed by recomputation with numpy).
+  // correction), as listed in test/fixtures/published-values.md (confirmed by recomputation with numpy).
   it.each([
     [81, 263, 0.2553, 0.3662],
     [15, 148, 0.0624, 0.1605],

@@ -8,7 +8,7 @@ import { FREIREICH, PLACEBO, SIX_MP, rowsOf } from './freireich.js';
 describe('kaplanMeier — Freireich et al. (1963) 6-MP', () => {
   const km = kaplanMeier(rowsOf('6-MP', SIX_MP));
 
-  it('matches the published table (t: at risk, events, S, Greenwood SE; project check values)', () => {
+  it('matches the published table (t: at risk, events, S, Greenwood SE; published-values.md)', () => {
     const table: [number, number, number, number, number][] = [
       [6, 21, 3, 0.8571, 0.0764], [7, 17, 1, 0.8067, 0.0869], [10, 15, 1, 0.7529, 0.0963], [13, 12, 1, 0.6902, 0.1068],
       [16, 11, 1, 0.6275, 0.1141], [22, 7, 1, 0.5378, 0.1282], [23, 6, 1, 0.4482, 0.1346],
@@ -54,7 +54,7 @@ describe('kaplanMeier — Freireich et al. (1963) 6-MP', () => {
     expect(km.points.at(-1)!.censored).toBe(5);
   });
 
-  it('medians: 23 weeks for 6-MP and 8 for placebo (Freireich et al. 1963, project check values)', () => {
+  it('medians: 23 weeks for 6-MP and 8 for placebo (Freireich et al. 1963, published-values.md)', () => {
     expect(km.median).toBe(23);
     expect(kaplanMeierByGroup(FREIREICH).map((g) => [g.group, g.curve.median])).toEqual([['6-MP', 23], ['placebo', 8]]);
   });

@@ -23,7 +23,7 @@ const C = fromArrays('c',
   [1, 1, 0, 0, 1, 1, 1, 1, 1, 1, 1, 1, 1, 0, 1, 1, 1, 0, 0, 1, 1, 1, 0, 1, 0, 1, 1, 0, 1, 0, 1, 1, 0, 1, 1, 1, 1, 1, 1, 1]);
 
 describe('logRank — published and scipy values', () => {
-  it('Freireich et al. (1963): χ² 16.7929, p 4.1688e-05, O₁ = 9, E₁ = 19.2505 (project check values)', () => {
+  it('Freireich et al. (1963): χ² 16.7929, p 4.1688e-05, O₁ = 9, E₁ = 19.2505 (published-values.md)', () => {
     const r = logRank(FREIREICH);
     expect(r.df).toBe(1);
     expect(r.chiSquare).toBeCloseTo(16.7929, 4);

@@ -7,9 +7,9 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { afterAll, describe, expect, it } from 'vitest';
-import { MemoryEngine } from '../../src/engines/memory.js';
+import { createEngine } from '../../src/engines/index.js';
+import { filesSource } from '../../src/engines/types.js';
 import { analysisWaist } from '../../src/waist/derive.js';
-import { waistFromResult } from '../../src/waist/build.js';
 import { readWaist } from '../../src/waist/read.js';
 import { writeWaist } from '../../src/waist/write.js';
 import { WAIST_VERSION } from '../../src/waist/manifest.js';
@@ -48,8 +48,7 @@ function write(log: Log): string {
 
 async function waistOf(file: string, log: Log, to?: string) {
   const rules = rulesOf(log.rules);
-  const result = await new MemoryEngine().run({ files: [file] }, rules, { by: log.by ? 'plan' : undefined, to });
-  return waistFromResult(result, rules, 'memory');
+  return (await createEngine('memory').run(filesSource([file]), rules, { by: log.by ? 'plan' : undefined, to })).waist;
 }
 
 describe('writeWaist → readWaist', () => {
@@ -142,5 +141,13 @@ describe('readWaist refuses', () => {
     edit(dir, 'durations.csv', () => 'split,group\n');
     expect((await expectTidemarkError(() => readWaist(dir), 'INPUT_INVALID')).oneLine()).toMatch(/durations\.csv:1: the header has no column cohort/);
     await expectTidemarkError(() => readWaist(join(dir, 'nope')), 'FILE_NOT_FOUND');
+  });
+});
+
+describe('the manifest JSON Schema', () => {
+  it('src/waist/manifest.schema.json is the schema the code exports (run `npm run schema` after changing it)', async () => {
+    const { waistManifestJsonSchema } = await import('../../src/waist/manifest.js');
+    const onDisk = JSON.parse(readFileSync(new URL('../../src/waist/manifest.schema.json', import.meta.url), 'utf8'));
+    expect(onDisk).toEqual(JSON.parse(JSON.stringify(waistManifestJsonSchema())));
   });
 });

@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { Option } from 'commander';
 import { TidemarkError, showValue } from '../../errors.js';
 import { cohortReport, type CohortsOutput } from '../../explain/cohortReport.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -32,7 +32,7 @@ function windowOf(text: string): [number, number] {
 export function formatCohorts(c: CohortsOutput, format: Format, extra: object = {}): string {
   if (format === 'json') return json({ ...c, ...extra });
   const cells = c.triangle.flatMap((r) => r.cells.map((x) => [r.cohort, x.age, x.n, x.active, x.share]));
-  if (format === 'csv') return toCsv(['cohort', 'age', 'members', 'active', 'share'], cells);
+  if (format === 'csv') return toCsv(['cohort', 'age', 'users', 'active', 'share'], cells);
   const show = [1, 2, 4, 8, 12];
   const out = ['Cohort triangle: share of each acquisition cohort active N periods after its first'];
   out.push(textTable(['cohort', 'n', ...show.map((a) => `+${a}`), 'shape'], c.triangle.map((r, i) => [
@@ -40,7 +40,7 @@ export function formatCohorts(c: CohortsOutput, format: Format, extra: object = 
   ])).trimEnd());
   out.push('', 'Pooled over the cohorts that reached each age (Wilson 95%):');
   const row = (r: CohortsOutput['classic'][number], label: string) => [label, r.pooled.n, pct(r.pooled.rate), r.pooled.lower === null ? '-' : `${pct(r.pooled.lower)}-${pct(r.pooled.upper)}`, r.cohorts.length];
-  out.push(textTable(['measure', 'members', 'rate', '95% interval', 'cohorts'], [
+  out.push(textTable(['measure', 'users', 'rate', '95% interval', 'cohorts'], [
     ...c.classic.map((r) => row(r, `active at +${r.from}`)),
     ...c.onOrAfter.map((r) => row(r, `active at +${r.from} or later`)),
     ...(c.window ? [row(c.window, `active in +${c.window.from}..+${c.window.to}`)] : []),
@@ -53,13 +53,10 @@ export function formatCohorts(c: CohortsOutput, format: Format, extra: object = 
 }
 
 export async function runCohorts(o: CohortsCliOptions, io: Io): Promise<void> {
-  const rules = resolveRules(o);
-  const measure = { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group, minN: rules.minCell };
-  const run = eventRun(o, rules, true);
-  const r = await runEngine(run, rules);
-  noteRun(io, o, r);
-  notePartial(io, o, r, run.range);
-  emit(formatCohorts(cohortReport(r.waist.cohorts, measure), o.format, partialJson(r)), o.out, io);
+  const measure = { ages: ages(o.ages), window: windowOf(o.window), groupBy: o.group };
+  const input = await analysisInput(o, io, { partial: 'drop' });
+  const c = cohortReport(input.waist.tables.cohorts, { ...measure, minN: input.waist.manifest.rules.minCell });
+  emit(formatCohorts(c, o.format, partialJson(input)), o.out, io);
 }
 
 export function cohortsCommand(program: Command, io: Io): void {
@@ -69,5 +66,5 @@ export function cohortsCommand(program: Command, io: Io): void {
     .option('--ages <list>', 'ages N for N-period and on-or-after retention', '1,4,12')
     .option('--window <a..b>', 'ages for window retention (active at least once in them)', '4..8')
     .addOption(new Option('--group <by>', 'group cohorts for the grouped curves').choices(['month', 'all', 'cohort']).default('month'));
-  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: CohortsCliOptions) => runCohorts(opts, io));
+  addFormatOptions(addPartialOption(addEventOptions(addWaistOption(cmd))), 'table').action((opts: CohortsCliOptions) => runCohorts(opts, io));
 }

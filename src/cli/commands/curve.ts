@@ -1,10 +1,10 @@
 /** `tidemark curve`: shifted-beta-geometric fit of a cohort's survivors, and its projection. */
 import type { Command } from 'commander';
-import { checkSurvivors, fitSbg, MIN_FIT_AGES, type SbgFit } from '../../curve/sbg.js';
+import { checkSurvivors, MIN_FIT_AGES, type SbgFit } from '../../curve/sbg.js';
+import { cohortCurves, fitCurves, type CurveOutput } from '../../curve/run.js';
 import { TidemarkError, showValue } from '../../errors.js';
-import { cohortSurvivors } from '../../curve/survivors.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
-import { wholeNumber } from '../options.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, type CommonOptions } from '../common.js';
+import { asFlags, wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -15,11 +15,7 @@ export interface CurveCliOptions extends Omit<CommonOptions, 'events'> {
   minSize: string;
 }
 
-export interface CurveOutput {
-  model: string;
-  fits: ({ cohort: string; survivors: number[] } & Omit<SbgFit, 'projection'> & { projection: { t: number; survival: number }[] })[];
-  skipped: { cohort: string; reason: string }[];
-}
+export type { CurveOutput };
 
 /** Longest projection of a curve, in periods. */
 export const MAX_CURVE_HORIZON = 1000;
@@ -39,9 +35,9 @@ export function formatCurve(c: CurveOutput, format: Format, extra: object = {}):
     f.cohort, f.survivors[0], f.alpha.toFixed(3), f.beta.toFixed(3), f.logLikelihood.toFixed(2), pct(f.projection[f.survivors.length - 1]?.survival), pct(f.projection[f.projection.length - 1].survival), f.expectedRemainingLifetime.toFixed(1),
     ...(flagged ? [fitFlag(f) || 'ok'] : []),
   ])).trimEnd());
-  out.push(`"more periods": expected further periods a member still alive at the last observed age stays (summed over the next ${c.fits[0]?.lifetimeCap ?? 100}).`);
+  out.push(`"more periods": expected further periods a user still alive at the last observed age stays (summed over the next ${c.fits[0]?.lifetimeCap ?? 100}).`);
   if (c.fits.some((f) => !f.converged)) out.push('not converged: the search stopped before the likelihood settled; alpha and beta are the best values found, not a maximum.');
-  if (c.fits.some((f) => f.boundary)) out.push('on boundary: the best fit lies at the edge of the search (ln alpha or ln beta near ±15): the survivors push the model to a limit (say, members who all leave at once mixed with members who never leave), so alpha and beta are bounds, not estimates; read the projection with care.');
+  if (c.fits.some((f) => f.boundary)) out.push('on boundary: the best fit lies at the edge of the search (ln alpha or ln beta near ±15): the survivors push the model to a limit (say, users who all leave at once mixed with users who never leave), so alpha and beta are bounds, not estimates; read the projection with care.');
   for (const s of c.skipped) out.push(`skipped ${s.cohort}: ${s.reason}`);
   return wrapProse(`${out.join('\n')}\n`);
 }
@@ -53,7 +49,7 @@ export function aliveOption(text: string): number[] {
   const bad = nums.findIndex((x) => !Number.isFinite(x));
   if (bad >= 0) throw new TidemarkError('USAGE', `entry ${bad + 1} ('${showValue(parts[bad])}') is not a count ≥ 0`, { key: '--alive' }, 'Give counts like 1000,631,468,382');
   const rise = nums.findIndex((x, i) => i > 0 && x > nums[i - 1]);
-  if (rise > 0) throw new TidemarkError('USAGE', `entry ${rise + 1} (${nums[rise]}) is above entry ${rise} (${nums[rise - 1]}): survivors can only stay level or fall`, { key: '--alive' }, 'Give the members still active at ages 0, 1, 2, …');
+  if (rise > 0) throw new TidemarkError('USAGE', `entry ${rise + 1} (${nums[rise]}) is above entry ${rise} (${nums[rise - 1]}): survivors can only stay level or fall`, { key: '--alive' }, 'Give the users still active at ages 0, 1, 2, …');
   if (nums.length < MIN_FIT_AGES) {
     throw new TidemarkError('USAGE', `${nums.length === 1 ? 'one age' : `${nums.length} ages`} cannot identify the curve: a fit of two parameters needs survivors at ${MIN_FIT_AGES} ages or more`, { key: '--alive' }, 'Give counts at ages 0, 1 and 2 at least');
   }
@@ -69,41 +65,17 @@ export function aliveOption(text: string): number[] {
 export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {
   const horizon = wholeNumber(o.horizon, '--horizon', 0, MAX_CURVE_HORIZON);
   const minSize = wholeNumber(o.minSize, '--min-size', 1);
-  const model = 'shifted-beta-geometric (Fader & Hardie 2007)';
-  let inputs: { cohort: string; survivors: number[] }[];
+  let out: CurveOutput;
   let extra: object = {};
   if (o.alive !== undefined) {
-    if (o.events) throw new TidemarkError('USAGE', 'give either --alive or --events, not both', { key: '--alive' });
-    inputs = [{ cohort: 'given', survivors: aliveOption(o.alive) }];
+    if (o.events || o.db || o.waist || o.store) throw new TidemarkError('USAGE', `give either --alive or ${o.events ? '--events' : o.waist ? '--waist' : '--store'}, not both`, { key: '--alive' });
+    out = fitCurves([{ cohort: 'given', survivors: aliveOption(o.alive) }], { horizon, minSize, given: true });
   } else {
-    if (!o.events) throw new TidemarkError('USAGE', 'give --alive n0,n1,… or --events', { key: '--alive' }, 'See tidemark curve --help');
-    const rules = resolveRules(o as CommonOptions);
-    const run = eventRun(o as CommonOptions, rules, true);
-    const r = await runEngine(run, rules);
-    noteRun(io, o, r);
-    notePartial(io, o, r, run.range);
-    extra = partialJson(r);
-    inputs = cohortSurvivors(r.waist, rules.lapseLimit);
+    if (!o.events && !o.db && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --alive n0,n1,…, --events, --waist or --store', { key: '--alive' }, 'See tidemark curve --help');
+    const input = await analysisInput(o as CommonOptions, io, { partial: 'drop' });
+    extra = partialJson(input);
+    out = asFlags(() => cohortCurves(input.waist.tables, input.waist.manifest.rules.lapseLimit, { horizon, minSize }), {});
   }
-  const out: CurveOutput = { model, fits: [], skipped: [] };
-  for (const { cohort, survivors } of inputs) {
-    if (!o.alive && survivors.length < MIN_FIT_AGES) {
-      out.skipped.push({ cohort, reason: `observed over ${survivors.length} ages, too few to fit` });
-      continue;
-    }
-    if (!o.alive && survivors[0] < minSize) {
-      out.skipped.push({ cohort, reason: `${survivors[0]} members, fewer than --min-size ${minSize}` });
-      continue;
-    }
-    try {
-      const fit = fitSbg(survivors, { horizon: Math.max(horizon, survivors.length - 1) });
-      out.fits.push({ cohort, survivors, ...fit });
-    } catch (e) {
-      if (o.alive || !(e instanceof TidemarkError) || e.code !== 'NOT_ENOUGH_DATA') throw e;
-      out.skipped.push({ cohort, reason: e.message });
-    }
-  }
-  if (out.fits.length === 0) throw new TidemarkError('NOT_ENOUGH_DATA', 'no cohort could be fitted', {}, out.skipped[0]?.reason);
   emit(formatCurve(out, o.format, extra), o.out, io);
 }
 
@@ -115,6 +87,6 @@ export function curveCommand(program: Command, io: Io): void {
     .option('--events <files...>', 'fit every acquisition cohort from events instead')
     .option('--horizon <n>', `last age to project to (0 to ${MAX_CURVE_HORIZON})`, '12')
     .option('--min-size <n>', 'with --events: skip cohorts smaller than this', '30');
-  addPartialOption(addEventOptions(cmd, false));
+  addPartialOption(addEventOptions(addWaistOption(cmd), false));
   addFormatOptions(cmd, 'table').action((opts: CurveCliOptions) => runCurve(opts, io));
 }

@@ -6,18 +6,23 @@ import { dirname, join } from 'node:path';
 import type { Command } from 'commander';
 import { CHANGE_WEEK, DEMO_START, PROMO_WEEK, simulateMakerspace } from '../../demo/makerspace.js';
 import { explainRetention } from '../../explain/run.js';
+import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { computeProjection } from '../../markov/run.js';
-import { buildReport } from '../../report/build.js';
+import { reportOf } from '../../report/run.js';
 import { writeReport } from '../../report/write.js';
-import { loadRulesFile } from '../../rules/load.js';
-import { DEFAULT_RULES, intOption, rowLine } from '../common.js';
+import { waistWithSections } from '../../report/sections/fromEvents.js';
+import { filesSource } from '../../engines/types.js';
+import { resolveRules } from '../../rules/resolve.js';
+import { intOption, rowLine } from '../common.js';
 import { csvField, terminalText } from '../format.js';
 import { writeFileAtomic } from '../../output/atomic.js';
 import type { Io } from '../io.js';
 import { formatExplain } from './explain.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
 import { formatProjection } from './project.js';
-import { headline, reportRun } from './report.js';
+import { headline } from './report.js';
+import { stateLabelsOf, stateWithRole } from '../../waist/manifest.js';
+import { baseState } from '../../lifecycle/states.js';
 
 export interface DemoOptions {
   out: string;
@@ -25,6 +30,10 @@ export interface DemoOptions {
   seed: string;
   generatedAt?: string;
 }
+
+/** The demo's scenarios: keep more lapsing members, and an open day's newcomers. */
+/** The demo's scenarios, built from the roles of the states (no state is named outside src/lifecycle). */
+export const DEMO_SCENARIOS = [`keep-lapsers=${baseState('lapse')}->${baseState('exit')}*0.8`, `open-day=+1500 ${baseState('arrival')} at +4`];
 
 const weekLabel = (w: number) => new Date(DEMO_START + w * 7 * 86_400_000).toISOString().slice(0, 10);
 
@@ -37,23 +46,25 @@ export async function runDemo(o: DemoOptions, io: Io & { stdoutIsTTY?: boolean }
   writeFileAtomic(eventsFile, `${lines.join('\n')}\n`);
   io.stderr(terminalText(`demo: ${members.toLocaleString('en-US')} members, ${events.toLocaleString('en-US')} events of a fictional makerspace → ${eventsFile}\n`));
 
-  const rules = loadRulesFile(DEFAULT_RULES);
+  const rules = resolveRules();
   const base = weekLabel(CHANGE_WEEK - 1); // retention into the week before the change
   const compare = weekLabel(PROMO_WEEK + 1); // retention into the week after the promotion
-  const { result, dropped } = await reportRun({ events: [eventsFile], by: 'channel' }, rules);
-  io.stderr(`${rowLine(result.rows)}\n`);
-  const model = buildReport(result, rules, { base, compare, droppedPartial: dropped });
+  const full = await waistWithSections(filesSource([eventsFile]), rules, { by: 'channel' });
+  const { model, waist } = reportOf(full, { base, compare, scenarios: DEMO_SCENARIOS });
+  io.stderr(`${rowLine(waist.manifest.rows)}\n`);
   const files = await writeReport(model, o.out, o.generatedAt ?? new Date().toISOString());
   io.stderr(terminalText(`demo: report written to ${o.out}/index.html (${files.length} files)\n`));
 
-  const explained = explainRetention(result.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell });
-  const projection = computeProjection({ tables: result.waist }, { fit: '8', horizon: 12, whatIf: ['lapsing->dormant*0.8'], until: 'dormant', samples: 300, seed: 1, band: [10, 90], backtestHorizon: 4 });
+  const explained = explainRetention(waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell, stateLabels: stateLabelsOf(waist.manifest.states) });
+  const exit = stateWithRole(waist.manifest.states, 'exit');
+  const scheme = { grain: rules.grain, weekStart: rules.weekStart };
+  const projection = computeProjection({ tables: waist.tables }, { fit: '8', horizon: 12, scenarios: DEMO_SCENARIOS, moves: lifecycleMoves(rules), until: exit, samples: 300, seed: 1, band: [10, 90], backtestHorizon: 8, scheme });
   const colour = Boolean(io.stdoutIsTTY);
   io.stdout([
     headline(model, colour),
     `== Why retention moved (the planted change: new onboarding, and a change for long-standing members, from ${weekLabel(CHANGE_WEEK)}; a promotion in ${weekLabel(PROMO_WEEK)})`,
     formatExplain(explained, 'table'),
-    '== The audience in 12 weeks, and what if a fifth fewer lapsing members went dormant',
+    '== The audience in 12 weeks, and two scenarios: a fifth fewer lapsing members go dormant; an open day brings 1,500 newcomers in week 4',
     formatProjection(projection, 'table'),
   ].join('\n'));
 }

@@ -2,13 +2,14 @@
 import type { Command } from 'commander';
 import { explainRetention, type Decomposition, type ExplainOutput } from '../../explain/run.js';
 import type { RetentionChange } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, periodFlagHint, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, periodFlagHint, type CommonOptions } from '../common.js';
 import { asFlags, dateOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
 import { addPerPersonOption, type PerPersonOption } from '../perPerson.js';
 import { showValue } from '../../errors.js';
 import { GRAIN_NOUN } from '../../periods/calendar.js';
+import { stateLabelsOf } from '../../waist/manifest.js';
 
 export interface ExplainCliOptions extends CommonOptions, PerPersonOption {
   base?: string;
@@ -57,15 +58,12 @@ export function formatExplain(e: ExplainOutput, format: Format): string {
 }
 
 export async function runExplain(o: ExplainCliOptions, io: Io): Promise<void> {
-  const rules = resolveRules(o);
   const base = dateOption(o.base, '--base');
   const compare = dateOption(o.compare, '--compare');
-  const run = eventRun(o, rules, true, o.by);
-  const r = await runEngine(run, rules);
-  noteRun(io, o, r);
-  notePartial(io, o, r, run.range);
-  const e = asFlags(() => explainRetention(r.waist, { base, compare, grainWord: `one-${GRAIN_NOUN[rules.grain]}`, minCell: rules.minCell }), { base: '--base', compare: '--compare' }, periodFlagHint(r, rules, { base, compare }));
-  emit(formatExplain({ ...e, ...partialJson(r) }, o.format), o.out, io);
+  const input = await analysisInput(o, io, { partial: 'drop', by: o.by });
+  const m = input.waist.manifest;
+  const e = asFlags(() => explainRetention(input.waist.tables, { base, compare, grainWord: `one-${GRAIN_NOUN[m.rules.grain]}`, minCell: m.rules.minCell, stateLabels: stateLabelsOf(m.states) }), { base: '--base', compare: '--compare' }, periodFlagHint(input, { base, compare }));
+  emit(formatExplain({ ...e, ...partialJson(input) }, o.format), o.out, io);
 }
 
 export function explainCommand(program: Command, io: Io): void {
@@ -76,5 +74,5 @@ export function explainCommand(program: Command, io: Io): void {
     .option('--compare <period>', 'compared period (default: the latest)')
     .option('--by <column>', 'also decompose over an attribute column (plan, region, channel…), by the user\'s value in the earlier period (refused when its values are nearly unique per user)');
   addPerPersonOption(cmd);
-  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: ExplainCliOptions) => runExplain(opts, io));
+  addFormatOptions(addPartialOption(addEventOptions(addWaistOption(cmd))), 'table').action((opts: ExplainCliOptions) => runExplain(opts, io));
 }

@@ -1,9 +1,8 @@
 /** `tidemark flows`: transition matrices, status-split retention and growth accounting per period. */
 import type { Command } from 'commander';
-import type { EngineResult } from '../../engines/types.js';
 import { summariseFlows, type FlowsSummary } from '../../flows/summary.js';
-import type { Rules } from '../../rules/schema.js';
-import { addEventOptions, addFormatOptions, eventRun, note, noteRun, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import type { Waist } from '../../waist/types.js';
+import { addEventOptions, addFormatOptions, addWaistOption, analysisInput, type CommonOptions } from '../common.js';
 import { asFlags, selectionOption } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -14,18 +13,21 @@ export interface FlowsOptions extends CommonOptions {
 
 export interface FlowsOutput extends FlowsSummary {
   rules: { name?: string; version?: string; grain: string; timezone: string };
-  rows: EngineResult['rows'];
-  lastPeriod: EngineResult['lastPeriod'];
+  rows: Waist['manifest']['rows'];
+  /** The last period; flows never leave it out (`leftOut` false), they note when it is incomplete. */
+  lastPeriod: Waist['manifest']['lastPeriod'] & { leftOut: false };
   users: number;
 }
 
-export function flowsOutput(result: EngineResult, rules: Rules, pool?: string): FlowsOutput {
+/** The flows of a waist, with its rules, row accounting and last period. */
+export function flowsOutput(w: Waist, pool?: string): FlowsOutput {
+  const r = w.manifest.rules;
   return {
-    rules: { name: rules.name, version: rules.version, grain: rules.grain, timezone: rules.timezone },
-    ...summariseFlows(result.waist, pool),
-    rows: result.rows,
-    lastPeriod: result.lastPeriod,
-    users: result.users,
+    rules: { name: r.name ?? undefined, version: r.version ?? undefined, grain: r.grain, timezone: r.timezone },
+    ...summariseFlows(w.tables, pool),
+    rows: w.manifest.rows,
+    lastPeriod: { ...w.manifest.lastPeriod, leftOut: false },
+    users: w.manifest.users,
   };
 }
 
@@ -69,7 +71,7 @@ function flowsTable(f: FlowsOutput): string {
     t.growth.quickRatio === null ? '-' : t.growth.quickRatio.toFixed(2),
     ...f.activeStates.map((s) => pct(t.retention[s]?.rate)),
   ]);
-  out.push(textTable(['into', 'active', 'fresh', 'back', 'lost', 'quick', ...f.activeStates.map((s) => `r.${s}`)], rows).trimEnd());
+  out.push(textTable(['into', 'active', 'new', 'back', 'lost', 'quick', ...f.activeStates.map((s) => `r.${s}`)], rows).trimEnd());
   if (f.pooled) {
     out.push('', `Pooled ${f.pooled.transitions} transitions (${f.pooled.from} to ${f.pooled.to}): row shares`);
     const pr = f.states.map((s, i) => [s, ...f.states.map((_, j) => (f.pooled!.rates[i] ? pct(f.pooled!.rates[i]![j]) : '-')), f.pooled!.n[i]]);
@@ -79,11 +81,9 @@ function flowsTable(f: FlowsOutput): string {
 }
 
 export async function runFlows(o: FlowsOptions, io: Io): Promise<void> {
-  const rules = resolveRules(o);
   if (o.pool !== undefined) selectionOption(o.pool, '--pool');
-  const result = await runEngine(eventRun(o, rules, false), rules);
-  noteRun(io, o, result);
-  const out = asFlags(() => flowsOutput(result, rules, o.pool), { range: '--pool' });
+  const { waist } = await analysisInput(o, io, { partial: 'keep' });
+  const out = asFlags(() => flowsOutput(waist, o.pool), { range: '--pool' });
   emit(formatFlows(out, o.format), o.out, io);
 }
 
@@ -92,5 +92,5 @@ export function flowsCommand(program: Command, io: Io): void {
     .command('flows')
     .description('transition counts and rates between lifecycle states, period by period, with retention and growth accounting')
     .option('--pool <range>', 'transitions to pool into one matrix: all, N (the last N) or FROM..TO (period labels; either side may be empty)', 'all');
-  addFormatOptions(addEventOptions(cmd), 'table').action((opts: FlowsOptions) => runFlows(opts, io));
+  addFormatOptions(addEventOptions(addWaistOption(cmd)), 'table').action((opts: FlowsOptions) => runFlows(opts, io));
 }

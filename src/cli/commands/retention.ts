@@ -2,7 +2,7 @@
 import type { Command } from 'commander';
 import { collapseCells } from '../../explain/run.js';
 import { retentionRates, type RetentionRate } from '../../explain/retention.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, type CommonOptions } from '../common.js';
 import { emit, json, pct, textTable, toCsv, wrapProse, type Format } from '../format.js';
 import type { Io } from '../io.js';
 
@@ -28,13 +28,11 @@ export function formatRetention(rows: RetentionRate[], format: Format, split: bo
 }
 
 export async function runRetention(o: RetentionCliOptions, io: Io): Promise<void> {
-  const rules = resolveRules(o);
-  const run = eventRun(o, rules, true);
-  const r = await runEngine(run, rules);
-  noteRun(io, o, r);
-  notePartial(io, o, r, run.range);
-  const cells = o.tenure ? r.waist.tenureCells : collapseCells(r.waist.tenureCells, 'state');
-  emit(formatRetention(retentionRates(cells, { minN: rules.minCell }), o.format, Boolean(o.tenure), rules.minCell, partialJson(r)), o.out, io);
+  const input = await analysisInput(o, io, { partial: 'drop' });
+  const t = input.waist.tables;
+  const minCell = input.waist.manifest.rules.minCell;
+  const cells = o.tenure ? t.tenureCells : collapseCells(t.tenureCells, 'state');
+  emit(formatRetention(retentionRates(cells, { minN: minCell }), o.format, Boolean(o.tenure), minCell, partialJson(input)), o.out, io);
 }
 
 export function retentionCommand(program: Command, io: Io): void {
@@ -42,5 +40,5 @@ export function retentionCommand(program: Command, io: Io): void {
     .command('retention')
     .description('retention per period by prior state (and tenure band), with Wilson 95% intervals and small-cell flags')
     .option('--tenure', 'split by the tenure bands of the rules too');
-  addFormatOptions(addPartialOption(addEventOptions(cmd)), 'table').action((opts: RetentionCliOptions) => runRetention(opts, io));
+  addFormatOptions(addPartialOption(addEventOptions(addWaistOption(cmd))), 'table').action((opts: RetentionCliOptions) => runRetention(opts, io));
 }

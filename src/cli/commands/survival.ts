@@ -5,7 +5,7 @@ import { TidemarkError } from '../../errors.js';
 import type { DurationRow } from '../../flows/types.js';
 import { parseDurationsCsv } from '../../survival/durations.js';
 import { mergeCohorts, survivalCurves, type SurvivalOutput } from '../../survival/run.js';
-import { addEventOptions, addFormatOptions, addPartialOption, eventRun, note, noteRun, notePartial, partialJson, resolveRules, rowLine, runEngine, type CommonOptions } from '../common.js';
+import { addEventOptions, addFormatOptions, addPartialOption, addWaistOption, analysisInput, partialJson, type CommonOptions } from '../common.js';
 import { wholeNumber } from '../options.js';
 import { emit, json, pct, textTable, toCsv, type Format, wrapProse } from '../format.js';
 import type { Io } from '../io.js';
@@ -44,7 +44,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
   const merge = wholeNumber(o.merge, '--merge', 1);
   if (merge > 1 && o.by !== 'cohort') throw new TidemarkError('USAGE', 'pools cohorts: use it with --by cohort', { key: '--merge' });
   if (o.durations) {
-    if (o.events) throw new TidemarkError('USAGE', 'give either --events or --durations, not both', { key: '--durations' });
+    if (o.events || o.db || o.waist || o.store) throw new TidemarkError('USAGE', `give either ${o.events ? '--events' : o.waist ? '--waist' : '--store'} or --durations, not both`, { key: '--durations' });
     if (o.by !== 'none') throw new TidemarkError('USAGE', 'applies to --events; a durations file gives its groups in its group column', { key: '--by' });
     let text: string;
     try {
@@ -56,15 +56,12 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     by = rows.some((r) => r.group !== '') ? 'group' : 'none';
     if (by === 'none') rows = rows.map((r) => ({ ...r, group: 'all' }));
   } else {
-    if (!o.events) throw new TidemarkError('USAGE', 'give --events (with --rules) or --durations', { key: '--events' }, 'See tidemark survival --help');
+    if (!o.events && !o.db && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist, --store or --durations', { key: '--events' }, 'See tidemark survival --help');
     const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
-    const rules = resolveRules(o as CommonOptions);
-    const run = eventRun(o as CommonOptions, rules, true, column);
-    const r = await runEngine(run, rules);
-    noteRun(io, o, r);
-    notePartial(io, o, r, run.range);
-    extra = partialJson(r);
-    rows = column ? r.waist.segmentDurations!.rows : r.waist.durations;
+    const input = await analysisInput(o as CommonOptions, io, { partial: 'drop', by: column });
+    extra = partialJson(input);
+    const t = input.waist.tables;
+    rows = column ? t.segmentDurations!.rows : t.durations;
     if (o.by === 'none') rows = rows.map((x) => ({ ...x, group: 'all' }));
     if (o.by === 'cohort') rows = mergeCohorts(rows, merge);
   }
@@ -76,11 +73,11 @@ export function survivalCommand(program: Command, io: Io): void {
   const cmd = program
     .command('survival')
     .description('Kaplan-Meier curves of the time from first active to first dormant, with the log-rank test across groups')
-    .option('--events <files...>', 'event log(s): CSV or NDJSON')
+    .option('--events <files...>', 'event log(s): CSV, NDJSON (either may be .gz) or Parquet')
     .option('--durations <file>', 'durations computed elsewhere: CSV with duration, observed (1/0) and an optional group column')
     .option('--by <group>', 'none, cohort, or an attribute column (its value in the user\'s first active period; refused when its values are nearly unique per user)', 'none')
     .option('--merge <k>', 'with --by cohort: pool k consecutive cohorts into one curve', '1');
   addPerPersonOption(cmd);
-  addPartialOption(addEventOptions(cmd, false));
+  addPartialOption(addEventOptions(addWaistOption(cmd), false));
   addFormatOptions(cmd, 'table').action((opts: SurvivalCliOptions) => runSurvival(opts, io));
 }

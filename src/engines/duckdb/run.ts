@@ -36,9 +36,6 @@ export interface DuckdbOptions {
   onStage?(stage: string, seconds: number): void;
 }
 
-/** The tables stored once per run (and tm_attr with --by); the rest are queries on them. */
-const STORED = ['tm_ev', 'tm_life'] as const;
-
 /** Rows of a query as objects, BIGINT and HUGEINT as numbers. */
 async function rowsOf(c: DuckDBConnection, sql: string): Promise<Record<string, string | number | null>[]> {
   const reader = await c.runAndReadAll(sql);
@@ -84,7 +81,7 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       t0 = t;
     };
     const stored = new Set<string>();
-    for (const name of [...STORED, ...(prepared.source.has.by ? ['tm_attr'] : [])]) {
+    for (const name of ['tm_ev', ...(prepared.source.has.by ? ['tm_attr'] : []), 'tm_life']) {
       await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
       stored.add(name);
       stage(name);
@@ -96,6 +93,8 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
     const bad = Object.values(readerRejects).reduce((a, b) => a + b, 0) + accounting.filter((a) => a.status === 'rejected' && a.reason !== BLANK_REASON).reduce((a, b) => a + b.n, 0);
     if (bad > 0 && !skip) await throwFirstBadRow(input, rules, toKey, readerRejects, accounting);
     const facts = await factsOf(query, compiled, accounting, readerRejects, prepared.source.attributes.length);
+    // one header line a CSV file, as the memory engine counts them
+    facts.headerLines = 'db' in input ? 0 : input.files.filter((f) => fileFormat(f, input.format) === 'csv').length;
     const periods = facts.range.used_rows > 0 ? (await query(compiled.facts.periods)).map((r) => String(r.label)) : [];
     const manifest = manifestOf(facts, periods, {
       rules,

@@ -154,10 +154,11 @@ const pointer = (key: string) => q(`/${key.replace(/~/g, '~0').replace(/\//g, '~
 const NUMERIC_JSON = "('BIGINT', 'UBIGINT', 'DOUBLE')";
 
 /** A JSON member as the memory engine's text(): strings as they are, numbers as JavaScript prints them, objects as JSON, null as missing. */
+/** A member as text, as src/ingest/ndjson.ts reads it: strings, numbers and booleans; null, objects and arrays are no value. */
 function jsonText(key: string): string {
   const path = pointer(key);
   const t = `json_type(line, ${path})`;
-  return `CASE WHEN NOT ok THEN NULL WHEN ${t} IN ${NUMERIC_JSON} THEN ${jsNumber(`CAST(json_extract(line, ${path}) AS DOUBLE)`)} WHEN ${t} = 'NULL' THEN NULL ELSE json_extract_string(line, ${path}) END`;
+  return `CASE WHEN NOT ok THEN NULL WHEN ${t} IN ${NUMERIC_JSON} THEN ${jsNumber(`CAST(json_extract(line, ${path}) AS DOUBLE)`)} WHEN ${t} IN ('NULL', 'OBJECT', 'ARRAY') THEN NULL ELSE json_extract_string(line, ${path}) END`;
 }
 
 const BLANK_LINE = `regexp_full_match(l0, ${q(renderPattern(BLANK, 'noncapturing').source)})`;
@@ -192,6 +193,9 @@ async function ndjsonSelect(file: string, i: number, rules: Rules, attributes: s
   // one column a line: the delimiter is four control characters no JSON line holds
   const read = `read_csv(${q(file)}, auto_detect = false, header = false, delim = chr(30) || chr(31) || chr(30) || chr(31), quote = '', escape = '', columns = {'line': 'VARCHAR'}, strict_mode = false, ignore_errors = true, store_rejects = true, rejects_table = ${q(rej)}, rejects_scan = ${q(`${rej}_scan`)}, max_line_size = 10000000)`;
   const tsPath = pointer(cols.timestamp);
+  // an id is a string or a whole number written plainly within 2^53 − 1, as src/ingest/ndjson.ts reads it
+  // (DuckDB types 7.0 and 7e0 as DOUBLE, larger whole numbers as HUGEINT)
+  const userPath = pointer(cols.user);
   const tsNumeric = `ok AND json_type(line, ${tsPath}) IN ${NUMERIC_JSON}`;
   return {
     base: `${jsonText(cols.user)} AS user_id,
@@ -199,7 +203,9 @@ async function ndjsonSelect(file: string, i: number, rules: Rules, attributes: s
   CASE WHEN ${tsNumeric} THEN CAST(json_extract(line, ${tsPath}) AS DOUBLE) END AS ts_num,
   CAST(NULL AS BIGINT) AS ts_instant, CAST(NULL AS BIGINT) AS ts_local,
   ${jsonText(cols.event)} AS event,
-  CASE WHEN is_blank THEN ${q(BLANK_REASON)} WHEN NOT ok THEN 'not valid JSON' END AS pre_reason`,
+  CASE WHEN is_blank THEN ${q(BLANK_REASON)} WHEN NOT ok THEN 'not valid JSON'
+    WHEN json_type(line, ${userPath}) IN ('OBJECT', 'ARRAY', 'BOOLEAN', 'DOUBLE', 'HUGEINT') THEN 'bad user id'
+    WHEN json_type(line, ${userPath}) IN ('UBIGINT', 'BIGINT') AND abs(CAST(json_extract(line, ${userPath}) AS DOUBLE)) > 9007199254740991 THEN 'bad user id' END AS pre_reason`,
     // the JSON functions fail on text that is not JSON, and DuckDB may compute a repeated expression
     // for every row before any CASE picks (common subexpressions): they only ever see valid JSON
     from: `(SELECT jline AS line, is_blank, NOT is_blank AND valid AND json_type(jline) = 'OBJECT' AS ok

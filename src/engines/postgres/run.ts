@@ -26,6 +26,8 @@ export interface PostgresInput {
   table?: string;
   /** A file holding one SELECT whose rows are the events. */
   query?: string;
+  /** One SELECT whose rows are the events (in place of `query`). */
+  queryText?: string;
   skipBadRows?: boolean;
 }
 
@@ -36,8 +38,6 @@ const OID_KIND: Record<number, ColumnKind> = {
   1082: 'local', // date
   20: 'number', 21: 'number', 23: 'number', 700: 'number', 701: 'number', 1700: 'number', // int8, int2, int4, float4, float8, numeric
 };
-
-const STORED = ['tm_ev', 'tm_life'] as const;
 
 /** The URL with its password left out, for messages. */
 function safeUrl(url: string): string {
@@ -57,7 +57,7 @@ export async function runPostgres(input: PostgresInput, rules: Rules, range: Ran
   if (fromKey !== undefined && toKey !== undefined && fromKey > toKey) {
     throw new TidemarkError('RANGE_INVALID', `the range starts in ${periodLabel(fromKey, scheme)}, after its end ${periodLabel(toKey, scheme)}`, { key: 'from' }, 'Put the earlier date first');
   }
-  if ((input.table === undefined) === (input.query === undefined)) {
+  if ((input.table === undefined) === (input.query === undefined && input.queryText === undefined)) {
     throw new TidemarkError('USAGE', 'give either a table or a query', { key: 'table' }, 'For example --table events, or --query events.sql');
   }
   const D = DIALECT.postgres;
@@ -67,13 +67,16 @@ export async function runPostgres(input: PostgresInput, rules: Rules, range: Ran
     place = input.table;
   } else {
     let text: string;
-    try {
-      text = readFileSync(input.query as string, 'utf8');
-    } catch {
-      throw new TidemarkError('FILE_NOT_FOUND', 'cannot read the query file', { file: input.query }, 'Give a file holding one SELECT');
+    if (input.queryText !== undefined) text = input.queryText;
+    else {
+      try {
+        text = readFileSync(input.query as string, 'utf8');
+      } catch {
+        throw new TidemarkError('FILE_NOT_FOUND', 'cannot read the query file', { file: input.query }, 'Give a file holding one SELECT');
+      }
     }
     relation = `(${text.trim().replace(/;\s*$/, '')}) AS tm_query`;
-    place = input.query as string;
+    place = input.query ?? 'the query';
   }
   const client = new pg.Client({ connectionString: input.url });
   try {
@@ -97,7 +100,7 @@ export async function runPostgres(input: PostgresInput, rules: Rules, range: Ran
     const source = tableSource(D, relation, columns, rules, range.by, place);
     const compiled = compile({ dialect: D, rules, source, range: { fromKey, toKey, warmup: range.warmup } });
     const stored = new Set<string>();
-    for (const name of [...STORED, ...(source.has.by ? ['tm_attr'] : [])]) {
+    for (const name of ['tm_ev', ...(source.has.by ? ['tm_attr'] : []), 'tm_life']) {
       await run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
       await run(`ANALYZE ${name}`);
       stored.add(name);

@@ -1,114 +1,175 @@
 /**
  * The flow between states over one transition: two stacked columns (states before, states after)
- * joined by ribbons whose width is the number of users moving. Drawn with Vega-Lite area marks:
- * each ribbon is sampled along x and eased with a smoothstep curve, so it is a filled band between
- * two curves.
+ * joined by ribbons whose width is the number of users moving. Drawn with Vega-Lite area marks: each
+ * ribbon is sampled along x and eased with a smoothstep curve, so it is a filled band between two
+ * curves.
+ *
+ * Two rules keep the moves readable:
+ * - **Arrivals enter from the top**, on their own track: the arrival state's block heads the later
+ *   column and the earlier column starts below it, so the arrivals' ribbon crosses no other ribbon.
+ *   It is coloured as the state users arrive in (arrivals are not a state before).
+ * - **The largest resting group is shortened** when, drawn to scale, it would take more than a third
+ *   of the height: its ribbon is drawn at half the height of everything else (so a third of the
+ *   diagram), crossed by a break mark and labelled with its true count. Every other ribbon is to
+ *   scale, and the blocks' labels give true counts.
  */
 import type { TopLevelSpec } from 'vega-lite';
-import { stateColours } from '../palette.js';
-import { type Chart, WIDTH } from './types.js';
+import { plural } from '../../text/plural.js';
+import { WIDE, type Frame } from '../frame.js';
+import { type Chart } from './types.js';
 
 const STEPS = 24;
-const GAP = 0.02; // gap between stacked states, as a share of the total
+const GAP = 0.02; // gap between stacked states, as a share of the drawn total
+/** Where the arrivals' ribbon starts, on the x scale of the columns (0 and 1). */
+const ARRIVAL_X = 0.34;
 
 export interface FlowInput {
   states: string[];
   from: string;
   to: string;
   counts: number[][];
+  /** Users who arrived in `to`, and the state they arrive in. */
   fresh: number;
+  arrival: string;
+  /** A colour per state. */
+  colours: string[];
+}
+
+/** The drawn height of the largest resting group: itself, or half of all else when it would take over a third. */
+export function shortenedStay(stay: number, rest: number): number {
+  return stay > rest / 2 ? rest / 2 : stay;
+}
+
+/**
+ * Move labels (by their middle `mid`, ascending) apart so that neighbours are at least `sep` apart,
+ * keeping them inside 0 … `max`: a forward pass pushes down, a backward pass pulls up from the end.
+ */
+export function dodge<T extends { mid: number }>(labels: T[], sep: number, max: number): T[] {
+  const out = [...labels].sort((a, b) => a.mid - b.mid).map((l) => ({ ...l }));
+  for (let k = 1; k < out.length; k++) out[k].mid = Math.max(out[k].mid, out[k - 1].mid + sep);
+  if (out.length) out[out.length - 1].mid = Math.min(out[out.length - 1].mid, max - sep / 2);
+  for (let k = out.length - 2; k >= 0; k--) out[k].mid = Math.min(out[k].mid, out[k + 1].mid - sep);
+  return out;
 }
 
 export function flowRibbons(f: FlowInput): Chart {
   const S = f.states.length;
-  const left = f.counts.map((row) => row.reduce((a, b) => a + b, 0));
-  const right = f.states.map((_, j) => f.counts.reduce((a, row) => a + row[j], 0) + (f.states[j] === 'fresh' ? f.fresh : 0));
-  const total = Math.max(left.reduce((a, b) => a + b, 0) + f.fresh, right.reduce((a, b) => a + b, 0));
-  const gap = GAP * total;
-  // stack positions; a virtual "arriving" block on the left carries the fresh inflow
-  const leftBlocks = [...f.states.map((s, i) => ({ state: s, n: left[i] })), { state: 'arriving', n: f.fresh }];
-  const place = (blocks: { state: string; n: number }[]) => {
-    let y = 0;
-    return blocks.map((b) => {
-      const y0 = y;
-      y += b.n + (b.n > 0 ? gap : 0);
-      return { ...b, y0, y1: y0 + b.n };
-    });
-  };
-  const L = place(leftBlocks);
-  const R = place(f.states.map((s, j) => ({ state: s, n: right[j] })));
-  const lCursor = L.map((b) => b.y0);
-  const rCursor = R.map((b) => b.y0);
-  const ribbons: { link: string; from: string; x: number; y: number; y2: number; users: number }[] = [];
-  const table: Chart['table'] = { name: 'flow-latest', header: ['period_from', 'period_to', 'state_from', 'state_to', 'users'], rows: [] };
-  const addLink = (li: number, j: number, n: number, fromLabel: string) => {
-    if (n <= 0) return;
-    const a0 = lCursor[li], b0 = rCursor[j];
-    lCursor[li] += n;
-    rCursor[j] += n;
-    for (let k = 0; k <= STEPS; k++) {
-      const x = k / STEPS;
-      const e = x * x * (3 - 2 * x);
-      const y = a0 + (b0 - a0) * e;
-      ribbons.push({ link: `${fromLabel}>${f.states[j]}`, from: fromLabel, x, y, y2: y + n, users: n });
+  const a = f.states.indexOf(f.arrival);
+  const left = f.counts.map((row) => row.reduce((x, y) => x + y, 0));
+  const right = f.states.map((_, j) => f.counts.reduce((x, row) => x + row[j], 0) + (j === a ? f.fresh : 0));
+  // the largest resting group, and how tall it is drawn
+  const r = f.states.map((_, i) => i).sort((x, y) => f.counts[y][y] - f.counts[x][x])[0];
+  const stay = r === undefined ? 0 : f.counts[r][r];
+  const all = left.reduce((x, y) => x + y, 0) + f.fresh;
+  const drawnStay = shortenedStay(stay, all - stay);
+  const cut = stay - drawnStay;
+  const shortened = cut > 0;
+  const drawn = (i: number, j: number) => (shortened && i === r && j === r ? drawnStay : f.counts[i][j]);
+  const leftDrawn = left.map((n, i) => n - (shortened && i === r ? cut : 0));
+  const rightDrawn = right.map((n, j) => n - (shortened && j === r ? cut : 0));
+  const gap = GAP * Math.max(all - cut, 1);
+  // later column: the arrival state first; earlier column: starts below the arrivals
+  const rightOrder = [a, ...f.states.map((_, j) => j).filter((j) => j !== a)].filter((j) => j >= 0);
+  const stack = (order: number[], sizes: number[], start: number) => {
+    const y0 = new Array<number>(S).fill(0);
+    let y = start;
+    for (const i of order) {
+      y0[i] = y;
+      y += sizes[i] + (sizes[i] > 0 ? gap : 0);
     }
-    table.rows.push([f.from, f.to, fromLabel, f.states[j], n]);
+    return y0;
   };
-  for (let i = 0; i < S; i++) for (let j = 0; j < S; j++) addLink(i, j, f.counts[i][j], f.states[i]);
-  addLink(S, f.states.indexOf('fresh'), f.fresh, 'arriving');
+  const arrivalsOnTop = a >= 0 && f.fresh > 0;
+  const leftTop = arrivalsOnTop ? rightDrawn[a] + gap : 0;
+  const L0 = stack(f.states.map((_, i) => i), leftDrawn, leftTop);
+  const R0 = stack(rightOrder, rightDrawn, 0);
+  const lCursor = [...L0];
+  // arrivals fill the top of the arrival state's block; moves into it (if any) come below them
+  const rCursor = R0.map((y, j) => (j === a ? y + f.fresh : y));
+  const ribbons: { link: string; from: string; colour: string; x: number; y: number; y2: number }[] = [];
+  const table: Chart['table'] = { name: 'flow-latest', header: ['period_from', 'period_to', 'state_from', 'state_to', 'users'], rows: [] };
+  const band = (link: string, colourOf: string, xStart: number, a0: number, b0: number, n: number) => {
+    for (let k = 0; k <= STEPS; k++) {
+      const x = xStart + ((1 - xStart) * k) / STEPS;
+      const t = k / STEPS;
+      const e = t * t * (3 - 2 * t);
+      const y = a0 + (b0 - a0) * e;
+      ribbons.push({ link, from: colourOf, colour: colourOf, x, y, y2: y + n });
+    }
+  };
+  let stayMid: { y: number; y2: number } | undefined;
+  for (let i = 0; i < S; i++) {
+    for (let j = 0; j < S; j++) {
+      const n = drawn(i, j);
+      if (f.counts[i][j] <= 0) continue;
+      const a0 = lCursor[i], b0 = rCursor[j];
+      lCursor[i] += n;
+      rCursor[j] += n;
+      band(`${f.states[i]}>${f.states[j]}`, f.states[i], 0, a0, b0, n);
+      if (shortened && i === r && j === r) stayMid = { y: (a0 + b0) / 2, y2: (a0 + b0) / 2 + n };
+      table.rows.push([f.from, f.to, f.states[i], f.states[j], f.counts[i][j]]);
+    }
+  }
+  if (arrivalsOnTop) {
+    band(`arriving>${f.arrival}`, f.arrival, ARRIVAL_X, R0[a], R0[a], f.fresh);
+    table.rows.push([f.from, f.to, 'arriving', f.arrival, f.fresh]);
+  }
+  const label = (state: string, n: number) => `${state}\n${n.toLocaleString('en-US')}`;
   const blocks = [
-    ...L.filter((b) => b.n > 0).map((b) => ({ side: 0, state: b.state, y: b.y0, y2: b.y1, label: `${b.state} ${b.n.toLocaleString('en-US')}` })),
-    ...R.filter((b) => b.n > 0).map((b) => ({ side: 1, state: b.state, y: b.y0, y2: b.y1, label: `${b.state} ${b.n.toLocaleString('en-US')}` })),
-  ];
-  const colourStates = [...f.states, 'arriving'];
-  const colours = [...stateColours(f.states), '#B9C3CE'];
+    ...f.states.map((s, i) => ({ side: 0, state: s, y: L0[i], y2: L0[i] + leftDrawn[i], label: label(s, left[i]), n: left[i] })),
+    ...f.states.map((s, j) => ({ side: 1, state: s, y: R0[j], y2: R0[j] + rightDrawn[j], label: label(s, right[j]), n: right[j] })),
+  ].filter((b) => b.n > 0);
   const maxY = Math.max(...blocks.map((b) => b.y2), 1);
-  const yScale = { domain: [maxY, 0], nice: false } as const;
-  const spec: TopLevelSpec = {
-    $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
-    width: WIDTH,
-    height: 320,
-    title: { text: `Where users went, ${f.from} to ${f.to}`, subtitle: 'Ribbon width = users moving between states; the grey block on the left is new arrivals' },
-    layer: [
-      {
-        data: { values: ribbons },
-        mark: { type: 'area', opacity: 0.45, interpolate: 'linear' },
-        encoding: {
-          x: { field: 'x', type: 'quantitative', scale: { domain: [-0.3, 1.3] }, axis: null },
-          y: { field: 'y', type: 'quantitative', scale: yScale, axis: null },
-          y2: { field: 'y2' },
-          detail: { field: 'link' },
-          color: { field: 'from', type: 'nominal', scale: { domain: colourStates, range: colours }, legend: null },
-          tooltip: [{ field: 'link', title: 'move' }, { field: 'users', title: 'users', format: ',' }],
-        },
-      },
-      {
-        data: { values: blocks },
-        mark: { type: 'rect', width: 14, xOffset: 0 },
-        encoding: {
-          x: { field: 'side', type: 'quantitative' },
-          y: { field: 'y', type: 'quantitative', scale: yScale },
-          y2: { field: 'y2' },
-          color: { field: 'state', type: 'nominal', scale: { domain: colourStates, range: colours }, legend: null },
-        },
-      },
-      ...[0, 1].map((side) => ({
-        data: { values: blocks.filter((b) => b.side === side).map((b) => ({ ...b, mid: (b.y + b.y2) / 2 })) },
-        mark: { type: 'text', fontSize: 11, align: side === 0 ? 'right' : 'left', dx: side === 0 ? -12 : 12 },
-        encoding: {
-          x: { field: 'side', type: 'quantitative' },
-          y: { field: 'mid', type: 'quantitative', scale: yScale },
-          text: { field: 'label' },
-        },
-      })),
-    ],
-  } as unknown as TopLevelSpec;
+  const yScale = { domain: [maxY, 0], nice: false, zero: false } as const;
+  const colour = { field: 'colour', type: 'nominal', scale: { domain: f.states, range: f.colours }, legend: null } as const;
+  const draw = (fr: Frame): TopLevelSpec => {
+    const font = fr.fontSize;
+    const height = fr.name === 'wide' ? 340 : 320;
+    const xScale = { domain: [fr.name === 'wide' ? -0.3 : -0.42, fr.name === 'wide' ? 1.3 : 1.42], nice: false, zero: false };
+    const x = (field: string) => ({ field, type: 'quantitative', scale: xScale, axis: null });
+    const y = (field: string) => ({ field, type: 'quantitative', scale: yScale, axis: null });
+    return {
+      $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
+      width: fr.width,
+      height,
+      autosize: { type: 'fit-x', contains: 'padding' },
+      layer: [
+        { data: { values: ribbons }, mark: { type: 'area', opacity: 0.45, interpolate: 'linear' }, encoding: { x: x('x'), y: y('y'), y2: { field: 'y2' }, detail: { field: 'link' }, color: colour } },
+        { data: { values: blocks.map((b) => ({ ...b, colour: b.state })) }, mark: { type: 'rect', width: 14 }, encoding: { x: x('side'), y: y('y'), y2: { field: 'y2' }, color: colour } },
+        ...[0, 1].map((side) => ({
+          data: { values: dodge(blocks.filter((b) => b.side === side).map((b) => ({ ...b, mid: (b.y + b.y2) / 2 })), (2.4 * font * maxY) / height, maxY) },
+          mark: { type: 'text', fontSize: font, align: side === 0 ? 'right' : 'left', dx: side === 0 ? -11 : 11, baseline: 'middle', lineBreak: '\n', color: '#1b2733' },
+          encoding: { x: x('side'), y: y('mid'), text: { field: 'label' } },
+        })),
+        ...(arrivalsOnTop ? [
+          { data: { values: [{ x: ARRIVAL_X, y: R0[a], y2: R0[a] + f.fresh, colour: f.arrival }] }, mark: { type: 'rect', width: 8 }, encoding: { x: x('x'), y: y('y'), y2: { field: 'y2' }, color: colour } },
+          { data: { values: [{ x: ARRIVAL_X, y: R0[a] + f.fresh / 2, text: `arriving\n${f.fresh.toLocaleString('en-US')} new` }] }, mark: { type: 'text', fontSize: font, align: 'right', dx: -8, baseline: 'middle', lineBreak: '\n', color: '#1b2733' }, encoding: { x: x('x'), y: y('y'), text: { field: 'text' } } },
+        ] : []),
+        ...(stayMid ? [
+          // the break mark: two white strokes across the shortened ribbon, and its true count beside them
+          { data: { values: [-0.012, 0.012].map((d) => ({ x: 0.49 + d, x2: 0.51 + d, y: stayMid!.y2 + gap * 0.6, y2: stayMid!.y - gap * 0.6 })) }, mark: { type: 'rule', color: 'white', strokeWidth: 4 }, encoding: { x: x('x'), x2: { field: 'x2' }, y: y('y'), y2: { field: 'y2' } } },
+          // left of the break, inside the ribbon: the later column's labels sit right of it
+          { data: { values: [{ x: 0.46, y: (stayMid.y + stayMid.y2) / 2, text: `${stay.toLocaleString('en-US')} stayed\n(shortened)` }] }, mark: { type: 'text', fontSize: font, align: 'right', baseline: 'middle', lineBreak: '\n', color: '#1b2733' }, encoding: { x: x('x'), y: y('y'), text: { field: 'text' } } },
+        ] : []),
+      ],
+    } as unknown as TopLevelSpec;
+  };
   // reading: the biggest move between different states, and the biggest inflow
   let best = { n: 0, from: '', to: '' };
   for (let i = 0; i < S; i++) for (let j = 0; j < S; j++) if (i !== j && f.counts[i][j] > best.n) best = { n: f.counts[i][j], from: f.states[i], to: f.states[j] };
-  const stayed = f.states.map((s, i) => ({ s, n: f.counts[i][i] })).sort((a, b) => b.n - a.n)[0];
+  const stayed = f.states.map((s, i) => ({ s, n: f.counts[i][i] })).sort((x, y) => y.n - x.n)[0];
+  const arrived = `${plural(f.fresh, 'user')} arrived`;
   const reading = best.n > 0
-    ? `The largest move was ${best.from} → ${best.to} (${best.n.toLocaleString('en-US')} users, ${((best.n / Math.max(left[f.states.indexOf(best.from)], 1)) * 100).toFixed(0)}% of ${best.from}); ${f.fresh.toLocaleString('en-US')} users arrived${stayed.n > 0 ? `, and the largest group staying put was ${stayed.s} (${stayed.n.toLocaleString('en-US')})` : ''}.`
-    : `No user changed state; ${f.fresh.toLocaleString('en-US')} users arrived.`;
-  return { id: 'flow-latest', title: `Flows ${f.from} → ${f.to}`, reading, spec, table };
+    ? `The largest move was ${best.from} → ${best.to} (${plural(best.n, 'user')}, ${((best.n / Math.max(left[f.states.indexOf(best.from)], 1)) * 100).toFixed(0)}% of ${best.from}); ${arrived}${stayed && stayed.n > 0 ? `, and the largest group staying put was ${stayed.s} (${stayed.n.toLocaleString('en-US')})` : ''}.`
+    : `No user changed state; ${arrived}.`;
+  return {
+    id: 'flow-latest',
+    title: `Where users went, ${f.from} to ${f.to}`,
+    subtitle: `Ribbon width = users moving between states; new users arrive from the top${shortened ? `; the ${f.states[r]} users who stayed ${f.states[r]} are drawn shortened (not to scale), so that the moves stay readable` : ''}`,
+    reading,
+    spec: draw(WIDE),
+    draw,
+    legend: f.states.map((s, i) => ({ label: s, colour: f.colours[i] })),
+    table,
+  };
 }

@@ -1,0 +1,26 @@
+/** How complete the last period of a log is. */
+import type { EventLog } from './eventLog.js';
+import { periodEndDay, periodLabel, periodStartDay, type PeriodScheme } from '../periods/calendar.js';
+
+const DAY = 86_400_000;
+
+/**
+ * How complete the period `lastKey` is: the latest event in it, as a share of the period's wall-clock
+ * length. Complete when that event lies in the period's last seventh, or when later events exist (in the
+ * log, or dropped at reading as after --to): then the data did not stop there. `rows` counts its events.
+ */
+export function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { label: string; coverage: number; complete: boolean; rows: number } {
+  let maxWall = -Infinity, rows = 0, later = log.rows.afterRange > 0;
+  for (let i = 0; i < log.size; i++) {
+    const k = log.period[i];
+    if (k === lastKey) {
+      rows++;
+      if (log.wallMs[i] > maxWall) maxWall = log.wallMs[i];
+    } else if (k > lastKey) later = true;
+  }
+  const startMs = periodStartDay(lastKey, scheme) * DAY;
+  const endMs = periodEndDay(lastKey, scheme) * DAY;
+  const coverage = later ? 1 : Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));
+  return { label: periodLabel(lastKey, scheme), coverage, complete: later || maxWall >= endMs - (endMs - startMs) / 7, rows };
+}
+

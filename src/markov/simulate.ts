@@ -1,0 +1,192 @@
+/**
+ * Simulated futures of the audience, for bands that hold what the past says can happen (see
+ * DEVELOPERS.md, "Projection bands"). Each sampled path:
+ * 1. draws each row's level from Dirichlet(m·(1/v − 1) + prior on the observed moves), v the level
+ *    variance of `rateVariation`, and the inflow's center (and slope) from a normal with its standard
+ *    deviation; the estimated variances φ, δ (and the inflow's) are scaled by ν/χ²_ν, ν = periods − 2,
+ *    since a few periods estimate them only roughly ({@link varianceFactor});
+ * 2. every period, moves each row's level one step of a Dirichlet random walk (concentration 1/δ − 1),
+ *    draws that period's rates around it (concentration 1/φ − 1), and the period's arrivals
+ *    (level walk σ²_η, noise σ_ε);
+ * 3. moves the users by multinomial draws (the binomial noise of a finite audience) and adds the
+ *    arrivals.
+ * Scenarios edit each path's rates and arrivals after they are drawn, and use the same random numbers
+ * as the baseline (common random numbers), so their difference from the baseline has a band of its own.
+ */
+import { TidemarkError } from '../errors.js';
+import { multinomial } from '../numerics/binomial.js';
+import { dirichletUnchecked } from '../numerics/dirichlet.js';
+import { mulberry32, normal, type Rng } from '../numerics/random.js';
+import { gamma } from '../numerics/gamma.js';
+import { quantileSorted } from '../numerics/quantile.js';
+import type { InflowEstimate } from './inflow.js';
+import { MAX_VARIATION, type RowVariation } from './variation.js';
+
+/** Pseudo-count added to each observed move when a row's level is drawn (Jeffreys). */
+export const LEVEL_PRIOR = 0.5;
+
+/** What the paths are drawn from. */
+export interface PathModel {
+  rows: readonly RowVariation[];
+  inflow: Pick<InflowEstimate, 'center' | 'slope' | 'noiseSd' | 'drift' | 'centerSd' | 'slopeSd'> & { periods?: number };
+  /** How the arrivals split over the states (shares summing to 1, or all 0 for no inflow). */
+  split: readonly number[];
+}
+
+/** Edits of one scenario, by state index (checked by the caller). */
+export interface PathEdits {
+  /** Per row, the edited moves in order: scale the entry by `value`, or set it to `value`. */
+  rows: Map<number, { j: number; op: 'scale' | 'set'; value: number }[]>;
+  /** Inflow edits in order; `state` undefined for the total. `set` scales to value / fitted center. */
+  inflow: { state?: number; op: 'scale' | 'set'; value: number }[];
+  /** Extra users arriving in `state` at `step`. */
+  campaigns: { state: number; count: number; step: number }[];
+}
+
+export interface Simulation {
+  samples: number;
+  horizon: number;
+  states: number;
+  /** One per scenario (index 0: the baseline): counts[(k·(H + 1) + t)·S + s] of path k. */
+  counts: Float64Array[];
+}
+
+/** The largest number of numbers a simulation may hold (samples × steps × states × scenarios). */
+export const MAX_CELLS = 50_000_000;
+
+/**
+ * Draws `samples` paths of `horizon` periods from `start` (whole counts), for the baseline and each
+ * scenario. Same seed, same paths.
+ *
+ * @throws TidemarkError `INPUT_INVALID` when the paths would hold more than {@link MAX_CELLS} numbers.
+ * @example simulatePaths(model, [50, 700, 60, 180, 900], 8, { samples: 200, seed: 1 }).counts[0].length // 200·9·5
+ */
+export function simulatePaths(model: PathModel, start: readonly number[], horizon: number, o: { samples: number; seed: number; edits?: readonly PathEdits[] }): Simulation {
+  const S = model.rows.length;
+  const scen = [undefined, ...(o.edits ?? [])];
+  const stride = (horizon + 1) * S;
+  if (o.samples * stride * scen.length > MAX_CELLS) {
+    throw new TidemarkError('INPUT_INVALID', `${o.samples} samples of ${horizon} periods for ${scen.length} scenarios would hold more than ${MAX_CELLS.toLocaleString('en-US')} numbers`, { key: 'samples' }, 'use fewer samples, a shorter horizon or fewer scenarios');
+  }
+  const counts = scen.map(() => new Float64Array(o.samples * stride));
+  const x0 = start.map((v) => Math.max(0, Math.round(v)));
+  const levelAlpha = model.rows.map((r) => r.rates && r.rates.map((m) => (m > 0 ? m * (1 / r.level - 1) + LEVEL_PRIOR : 0)));
+  const center = model.inflow.center;
+  const stateCenter = model.split.map((f) => f * center);
+  for (let k = 0; k < o.samples; k++) {
+    const rng = mulberry32(streamSeed(o.seed, k, 0));
+    // the variances were estimated from a few periods: each path draws them from a scaled inverse chi-square
+    const rows = model.rows.map((r) => {
+      const f = varianceFactor(rng, r.periods - 2);
+      return { ...r, noise: Math.min(MAX_VARIATION, r.noise * f), drift: Math.min(MAX_VARIATION, r.drift * f) };
+    });
+    const level = levelAlpha.map((a) => (a === null ? null : dirichletUnchecked(rng, a)));
+    let inflowLevel = center + model.inflow.centerSd * normal(rng);
+    const slope = model.inflow.slope + model.inflow.slopeSd * normal(rng);
+    const fi = varianceFactor(rng, (model.inflow.periods ?? 0) - 2);
+    const inflowDrift = model.inflow.drift * fi;
+    const inflowNoiseSd = Math.max(Math.sqrt(center), model.inflow.noiseSd * Math.sqrt(fi));
+    const xs = scen.map(() => x0.slice());
+    const noise: Rng[] = scen.map(() => mulberry32(streamSeed(o.seed, k, 1)));
+    scen.forEach((_, c) => counts[c].set(x0, k * stride));
+    for (let t = 1; t <= horizon; t++) {
+      const rates = rows.map((r, i) => {
+        const lv = level[i];
+        if (lv === null) return null;
+        if (r.drift > 0) level[i] = dirichletUnchecked(rng, lv.map((v) => v * (1 / r.drift - 1)));
+        return r.noise > 0 ? dirichletUnchecked(rng, (level[i] as number[]).map((v) => v * (1 / r.noise - 1))) : (level[i] as number[]).slice();
+      });
+      inflowLevel += Math.sqrt(inflowDrift) * normal(rng);
+      const total = Math.max(0, inflowLevel + slope * t + inflowNoiseSd * normal(rng));
+      scen.forEach((edit, c) => {
+        const x = xs[c];
+        const next = new Array<number>(S).fill(0);
+        for (let i = 0; i < S; i++) {
+          if (x[i] === 0) continue;
+          const p = rates[i];
+          if (p === null) {
+            next[i] += x[i];
+            continue;
+          }
+          const row = edit?.rows.get(i);
+          const moved = multinomial(noise[c], x[i], row ? editRow(p, row, i) : p);
+          for (let j = 0; j < S; j++) next[j] += moved[j];
+        }
+        const arrivals = model.split.map((f) => f * total);
+        if (edit) applyInflowEdits(arrivals, edit, center, stateCenter, t);
+        for (let j = 0; j < S; j++) next[j] += Math.round(arrivals[j]);
+        xs[c] = next;
+        counts[c].set(next, k * stride + t * S);
+      });
+    }
+  }
+  return { samples: o.samples, horizon, states: S, counts };
+}
+
+/**
+ * A sampled row with a scenario's edits: scaled entries are capped at 1; if the edited entries add up
+ * to more than 1 they are scaled down to 1 together; the other entries keep their proportions and fill
+ * the rest (the rest goes to the diagonal when they are all 0 and it is not edited).
+ */
+export function editRow(p: readonly number[], edits: readonly { j: number; op: 'scale' | 'set'; value: number }[], diagonal: number): number[] {
+  const pins = new Map<number, number>();
+  for (const e of edits) pins.set(e.j, e.op === 'set' ? e.value : Math.min(1, (pins.get(e.j) ?? p[e.j]) * e.value));
+  let fixed = 0;
+  for (const v of pins.values()) fixed += v;
+  const shrink = fixed > 1 ? 1 / fixed : 1;
+  const rest = p.reduce((s, v, j) => s + (pins.has(j) ? 0 : v), 0);
+  const remainder = Math.max(0, 1 - fixed * shrink);
+  const out = p.map((v, j) => (pins.has(j) ? (pins.get(j) as number) * shrink : rest > 0 ? (v * remainder) / rest : 0));
+  if (rest === 0 && remainder > 0 && !pins.has(diagonal)) out[diagonal] += remainder;
+  return out;
+}
+
+export function applyInflowEdits(arrivals: number[], edit: PathEdits, center: number, stateCenter: readonly number[], step: number): void {
+  for (const e of edit.inflow) {
+    if (e.state === undefined) {
+      const k = e.op === 'scale' ? e.value : center > 0 ? e.value / center : 0;
+      for (let j = 0; j < arrivals.length; j++) arrivals[j] *= k;
+      if (e.op === 'set' && center === 0 && arrivals.length > 0) arrivals[0] = e.value;
+    } else if (e.op === 'scale') arrivals[e.state] *= e.value;
+    else arrivals[e.state] = stateCenter[e.state] > 0 ? (arrivals[e.state] * e.value) / stateCenter[e.state] : e.value;
+  }
+  for (const c of edit.campaigns) if (c.step === step) arrivals[c.state] += c.count;
+}
+
+/**
+ * A draw of ν/χ²_ν, the factor by which a variance estimated with ν degrees of freedom is scaled in one
+ * path (the scaled-inverse-χ² posterior of a normal variance; Gelman et al., *Bayesian Data Analysis*,
+ * 3rd ed., §3.2). ν < 1 (too few periods) gives 1: those rows have no estimated variation anyway.
+ */
+export function varianceFactor(rng: Rng, df: number): number {
+  return df >= 1 ? df / (2 * gamma(rng, df / 2)) : 1;
+}
+
+/** A seed for path k's stream: a 32-bit mix of the seed, the path and the stream number. */
+function streamSeed(seed: number, k: number, stream: number): number {
+  let h = Math.imul(seed ^ 0x9e3779b9, 0x85ebca6b) ^ Math.imul(k + 1, 0xc2b2ae35) ^ Math.imul(stream + 1, 0x27d4eb2f);
+  h ^= h >>> 16;
+  h = Math.imul(h, 0x7feb352d);
+  h ^= h >>> 15;
+  return h >>> 0;
+}
+
+/**
+ * Percentiles across paths of a quantity of each path at each step (Hyndman & Fan definition 7):
+ * out[q][t] for `levels` in [0, 100].
+ */
+export function pathPercentiles(sim: Simulation, levels: readonly number[], of: (counts: Float64Array, base: number) => number, which = 0, minus?: number): number[][] {
+  const { samples, horizon, states } = sim;
+  const stride = (horizon + 1) * states;
+  const sorted = new Float64Array(samples);
+  const out = levels.map(() => new Array<number>(horizon + 1).fill(0));
+  for (let t = 0; t <= horizon; t++) {
+    for (let k = 0; k < samples; k++) {
+      const base = k * stride + t * states;
+      sorted[k] = of(sim.counts[which], base) - (minus === undefined ? 0 : of(sim.counts[minus], base));
+    }
+    sorted.sort();
+    levels.forEach((l, q) => (out[q][t] = quantileSorted(sorted, l / 100)));
+  }
+  return out;
+}

@@ -1,0 +1,53 @@
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { IdDictionary } from '../../src/ingest/idDictionary.js';
+
+describe('IdDictionary', () => {
+  it('gives the codes a string-keyed Map would, whether an id comes as a string or as UTF-8 bytes (fast-check; the Map is the reference)', () => {
+    const id = fc.oneof(fc.constantFrom('', 'm1', 'm2', 'José', 'Jose\u0301', '🛠', 'a'.repeat(40)), fc.string({ maxLength: 12, unit: 'binary' }).filter((s) => /^(?:[^\ud800-\udfff]|[\ud800-\udbff][\udc00-\udfff])*$/.test(s)) /* well-formed: the readers refuse the rest */, fc.nat(5000).map((n) => `u${n}`));
+    fc.assert(
+      fc.property(fc.array(fc.tuple(id, fc.boolean()), { maxLength: 3000 }), (ops) => {
+        const d = new IdDictionary();
+        const ref = new Map<string, number>();
+        for (const [s, asBytes] of ops) {
+          const want = ref.get(s);
+          if (asBytes) {
+            const b = Buffer.from(`,${s},`); // the id inside a larger buffer, as in a read
+            expect(d.find(b, 1, b.length - 1)).toBe(want ?? -1);
+          }
+          const got = d.code(s);
+          if (want === undefined) ref.set(s, got);
+          expect(got).toBe(ref.get(s));
+          expect(d.values[got]).toBe(s);
+        }
+        expect(d.values.length).toBe(ref.size);
+      }),
+      { seed: 53, numRuns: 60 },
+    );
+  });
+
+  it('"José" precomposed and decomposed are two ids (bytes, not normalised text)', () => {
+    const d = new IdDictionary();
+    expect(d.code('Jos\u00e9')).not.toBe(d.code('Jose\u0301'));
+  });
+});
+
+describe('IdDictionary.merge', () => {
+  it('merging the dictionary of a later part gives the codes one dictionary over both parts gives (fast-check)', () => {
+    const text = (b: Uint8Array, s: number, e: number) => Buffer.from(b.subarray(s, e)).toString('utf8');
+    fc.assert(
+      fc.property(fc.array(fc.nat(300).map((n) => `m${n}`), { maxLength: 500 }), fc.nat(500), (ids, cut) => {
+        const one = new IdDictionary();
+        const want = ids.map((s) => one.code(s));
+        const first = new IdDictionary(), second = new IdDictionary();
+        const k = Math.min(cut, ids.length);
+        const a = ids.slice(0, k).map((s) => first.code(s));
+        const b = ids.slice(k).map((s) => second.code(s));
+        const map = first.merge(second.toBytes(), text);
+        expect([...a, ...b.map((c) => map[c])]).toEqual(want);
+        expect(first.values).toEqual(one.values);
+      }),
+      { seed: 41, numRuns: 200 },
+    );
+  });
+});

@@ -1,0 +1,40 @@
+/**
+ * Active periods: the grid count and the sort must give the same table; both are checked against an
+ * independent count written here (a Map of user|period → events).
+ */
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import type { EventLog } from '../../src/ingest/eventLog.js';
+import { activePeriods } from '../../src/lifecycle/activity.js';
+
+function logOf(rows: [number, number][], users: number): EventLog {
+  return { size: rows.length, user: Int32Array.from(rows.map((r) => r[0])), period: Int32Array.from(rows.map((r) => r[1])), users: Array.from({ length: users }, (_, i) => `m${i}`) } as unknown as EventLog;
+}
+
+describe('activePeriods', () => {
+  it('grid and sort give the independent count, for any minEvents and range (fast-check)', () => {
+    fc.assert(
+      fc.property(fc.integer({ min: 1, max: 30 }), fc.array(fc.tuple(fc.nat(29), fc.integer({ min: 95, max: 125 })), { maxLength: 400 }), fc.integer({ min: 1, max: 4 }), fc.integer({ min: 95, max: 110 }), fc.integer({ min: 1, max: 30 }),
+        (users, raw, minEvents, startKey, span) => {
+          const rows = raw.map(([u, p]) => [u % users, p] as [number, number]);
+          const log = logOf(rows, users);
+          const want = new Map<string, number>();
+          for (const [u, p] of rows) if (p >= startKey && p < startKey + span) want.set(`${u}|${p - startKey}`, (want.get(`${u}|${p - startKey}`) ?? 0) + 1);
+          const expected = [...want].filter(([, n]) => n >= minEvents).map(([k, n]) => [...k.split('|').map(Number), n]).sort((a, b) => a[0] - b[0] || a[1] - b[1]);
+          for (const grid of [true, false]) {
+            const a = activePeriods(log, minEvents, startKey, span, grid);
+            expect(Array.from(a.user, (u, i) => [u, a.offset[i], a.events[i]])).toEqual(expected);
+          }
+        }),
+      { seed: 1707, numRuns: 300 },
+    );
+  });
+
+  it("a period with more events than a byte holds (70,000) is counted exactly by the grid and the sort", () => {
+    const rows: [number, number][] = Array.from({ length: 70_000 }, () => [1, 3]);
+    rows.push([0, 2]);
+    for (const grid of [true, false]) expect(Array.from(activePeriods(logOf(rows, 2), 1, 0, 5, grid).events)).toEqual([1, 70_000]);
+    // and a threshold above 255 counts from the overflow
+    expect(Array.from(activePeriods(logOf(rows, 2), 300, 0, 5).user)).toEqual([1]);
+  });
+});
