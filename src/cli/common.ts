@@ -1,5 +1,5 @@
 /** Options shared by the commands that read events or a waist. */
-import { readFileSync } from 'node:fs';
+import { readFileSync, statSync } from 'node:fs';
 import { Command, Option } from 'commander';
 import { TidemarkError, escapeControls, showValue } from '../errors.js';
 import { createEngine, ENGINE_NAMES } from '../engines/index.js';
@@ -185,6 +185,8 @@ export function eventRun(o: CommonOptions, rules: Rules, by?: string): EventRun 
  * JSON (and not --quiet).
  */
 export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'quiet'>, run: EventRun, rules: Rules, io?: Io): Promise<EngineRun> {
+  const hint = io && !o.quiet ? largeInputHint(run.source, o.engine) : undefined;
+  if (hint && io) io.stderr(`${hint}\n`);
   const bar = io ? runProgress(io, o.format !== 'json' && !o.quiet) : undefined;
   try {
     return await createEngine(o.engine, { onProgress: bar?.onProgress }).run(run.source, rules, run.range);
@@ -193,6 +195,28 @@ export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'qu
   } finally {
     bar?.stop();
   }
+}
+
+/** Event files at least this large (bytes on disk, compressed or not) get a hint to use the duckdb engine. */
+export const LARGE_INPUT_BYTES = 1_000_000_000;
+
+/**
+ * A one-line note on standard error when the memory engine is about to read event files of at least
+ * {@link LARGE_INPUT_BYTES} in all: the duckdb engine reads them out of core. Undefined otherwise (another
+ * engine, a database source, smaller files, files that cannot be listed: the run reports those).
+ */
+export function largeInputHint(source: EventSource, engine: string | undefined): string | undefined {
+  if ((engine ?? 'memory') !== 'memory' || source.kind !== 'files') return undefined;
+  let bytes = 0;
+  for (const f of source.files) {
+    try {
+      bytes += statSync(f).size;
+    } catch {
+      return undefined;
+    }
+  }
+  if (bytes < LARGE_INPUT_BYTES) return undefined;
+  return `note: ${(bytes / 1e9).toFixed(1)} GB of events for the memory engine; --engine duckdb reads large logs out of core, in less memory`;
 }
 
 /** As {@link runEngine}, streaming the classification to `sink`. */

@@ -4,13 +4,15 @@
  * anything is read with exit 2 and one line naming the flag (common CLI practice: 2 = usage).
  * PostgreSQL takes part when a server is reachable (.ci/run starts one; see test/engines/sqlEngines.ts).
  */
-import { rmSync, writeFileSync } from 'node:fs';
+import { rmSync, truncateSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { DuckDBInstance } from '@duckdb/node-api';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli, seeded, tempDir } from '../report/fixtures.js';
 import { pgReachable, pgUrl } from '../engines/sqlEngines.js';
+import { LARGE_INPUT_BYTES, largeInputHint } from '../../src/cli/common.js';
+import { filesSource } from '../../src/engines/types.js';
 
 const dir = tempDir('tidemark-engines-cli-');
 /** A path that cannot be read: a command that opened it would fail with exit 1, not 2. */
@@ -122,5 +124,22 @@ describe('database options are refused before anything is read (the paths cannot
     [['classify', '--engine', 'duckdb', '--events', MISSING], '--engine'],
   ])('%j names %s', async (argv, flag) => {
     expectFlagRefusal(await runCli(argv), flag);
+  });
+});
+
+describe('a hint to use the duckdb engine for large files', () => {
+  it(`from ${LARGE_INPUT_BYTES / 1e9} GB of event files on the memory engine, and only then`, () => {
+    // a sparse file: its size is set, nothing is written or read
+    const big = join(dir, 'big.csv');
+    writeFileSync(big, '');
+    truncateSync(big, LARGE_INPUT_BYTES);
+    expect(largeInputHint(filesSource([big]), undefined)).toMatch(/^note: 1\.0 GB of events for the memory engine; --engine duckdb/);
+    expect(largeInputHint(filesSource([big]), 'memory')).toBeDefined();
+    expect(largeInputHint(filesSource([big]), 'duckdb')).toBeUndefined();
+    expect(largeInputHint(filesSource([EVENTS]), 'memory')).toBeUndefined();
+    expect(largeInputHint(filesSource([big, MISSING]), 'memory')).toBeUndefined();
+    expect(largeInputHint({ kind: 'table', db: DB, table: 'bookings' }, 'duckdb')).toBeUndefined();
+    truncateSync(big, LARGE_INPUT_BYTES - 1);
+    expect(largeInputHint(filesSource([big]), 'memory')).toBeUndefined();
   });
 });
