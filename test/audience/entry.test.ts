@@ -4,11 +4,10 @@
  * lapsing or dormant; dormant to returned or dormant; new users arrive in fresh), and against the
  * xstate machine itself walked over every activity sequence (independent of moves.ts and plan.ts).
  */
-import { initialTransition, transition } from 'xstate';
 import { describe, expect, it } from 'vitest';
 import { entryNames, entrySpec, type EntryRules } from '../../src/audience/entry.js';
 import { TidemarkError } from '../../src/errors.js';
-import { lifecycleMachine } from '../../src/lifecycle/machine.js';
+import { walkedMoves } from '../lifecycle/walk.js';
 
 const RULES: EntryRules = { lapseLimit: 2, activity: { minEvents: 1 }, splits: [] };
 const SPLIT: EntryRules = { ...RULES, splits: [{ state: 'engaged', atLeast: 3, names: ['steady', 'keen'] }] };
@@ -82,31 +81,9 @@ describe('entrySpec with a split state (engaged → steady, keen)', () => {
   });
 });
 
-/**
- * Every (state before, state after) pair the xstate machine makes, and its arrivals, over every
- * activity sequence of up to `length` periods (as in test/lifecycle/moves.test.ts).
- */
-function walked(lapseLimit: number, length: number): { moves: Set<string>; arrivals: Set<string> } {
-  const m = lifecycleMachine({ lapseLimit });
-  const moves = new Set<string>();
-  const arrivals = new Set<string>();
-  for (let bits = 0; bits < 2 ** length; bits++) {
-    let [snap] = initialTransition(m);
-    for (let p = 0; p < length; p++) {
-      const before = String(snap.value);
-      [snap] = transition(m, snap, { type: 'PERIOD', active: Boolean((bits >> p) & 1), events: (bits >> p) & 1 });
-      const after = String(snap.value);
-      if (before === 'unseen') {
-        if (after !== 'unseen') arrivals.add(after);
-      } else moves.add(`${before}->${after}`);
-    }
-  }
-  return { moves, arrivals };
-}
-
 describe('entrySpec accepts exactly the entries the machine makes', () => {
   it.each([0, 1, 2, 3])('lapseLimit %i: every (entered, from) pair, accepted iff some path makes it', (L) => {
-    const { moves, arrivals } = walked(L, L + 4);
+    const { moves, arrivals } = walkedMoves(L, L + 4);
     const rules = { ...RULES, lapseLimit: L };
     const names = entryNames(rules);
     for (const into of names) {

@@ -9,22 +9,12 @@ import { createWriteStream, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { runCli, tempDir } from '../report/fixtures.js';
+import { bookings } from './bookings.js';
 
 const dir = tempDir('tidemark-options-');
 /** A path that cannot be read: any command that opened it would fail with exit 1, not 2. */
 const MISSING = join(dir, 'no-such-folder', 'bookings.csv');
 
-const DAY = 86_400_000;
-const MONDAY = Date.UTC(2026, 2, 2);
-/** 60 members over 6 weeks, most weeks active; the data stop on Wednesday of week 6 (incomplete). */
-function bookings(): string {
-  const rows = ['user_id,timestamp,event,plan'];
-  for (let m = 0; m < 60; m++) {
-    for (let w = 0; w < 6; w++) if ((m + w) % 3 !== 0) rows.push(`m${m},${new Date(MONDAY + w * 7 * DAY + (m % 5) * DAY + 3_600_000).toISOString()},booking_made,${m % 2 ? 'studio' : 'hobby'}`);
-    rows.push(`m${m},${new Date(MONDAY + 6 * 7 * DAY + Math.min(m % 7, 2) * DAY + 3_600_000).toISOString()},booking_made,hobby`);
-  }
-  return rows.join('\n');
-}
 const EVENTS = join(dir, 'bookings.csv');
 writeFileSync(EVENTS, bookings());
 

@@ -112,3 +112,14 @@ export async function expectTidemarkError(fn: () => Promise<unknown> | unknown, 
   expect(err.code, err.message).toBe(code);
   return err;
 }
+
+/** The TidemarkError a synchronous call throws (any other error is rethrown; no error fails the test). */
+export function tidemarkErrorOf(fn: () => unknown): TidemarkError {
+  try {
+    fn();
+  } catch (e) {
+    if (e instanceof TidemarkError) return e;
+    throw e;
+  }
+  throw new Error('expected a TidemarkError');
+}

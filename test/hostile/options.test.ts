@@ -8,21 +8,11 @@ import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { corpusDir, expectClean, expectRefusal, run } from './harness.js';
+import { bookings } from '../cli/bookings.js';
 
 const c = corpusDir();
 afterAll(() => c.done());
 
-const DAY = 86_400_000;
-const MONDAY = Date.UTC(2026, 2, 2);
-/** 60 members over 6 weeks, two weeks on and one off; the data stop on Wednesday of week 6. */
-function bookings(): string {
-  const rows = ['user_id,timestamp,event,plan'];
-  for (let m = 0; m < 60; m++) {
-    for (let w = 0; w < 6; w++) if ((m + w) % 3 !== 0) rows.push(`m${m},${new Date(MONDAY + w * 7 * DAY + (m % 5) * DAY + 3_600_000).toISOString()},booking_made,${m % 2 ? 'studio' : 'hobby'}`);
-    rows.push(`m${m},${new Date(MONDAY + 6 * 7 * DAY + Math.min(m % 7, 2) * DAY + 3_600_000).toISOString()},booking_made,hobby`);
-  }
-  return rows.join('\n');
-}
 const EVENTS = c.file('bookings.csv', bookings());
 /** An events path no command may open before refusing a bad option. */
 const UNREAD = join(c.dir, 'never-read', 'bookings.csv');

@@ -4,21 +4,12 @@
  */
 import { execFileSync, spawn } from 'node:child_process';
 import { join } from 'node:path';
-import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { readEvents, type ReadEventsOptions } from '../../src/ingest/read.js';
-import type { EventLog } from '../../src/ingest/eventLog.js';
-import { expectTidemarkError, rulesOf, tempDir } from '../core/helpers.js';
-import { expectBalanced, physicalLines } from './helpers.js';
+import { describe, expect, it } from 'vitest';
+import { readEvents } from '../../src/ingest/read.js';
+import { expectTidemarkError } from '../core/helpers.js';
+import { expectBalanced, physicalLines, read, readerDir, rules, usersOf } from './helpers.js';
 
-let t: ReturnType<typeof tempDir>;
-beforeEach(() => {
-  t = tempDir();
-});
-afterEach(() => t.done());
-
-const rules = rulesOf({ grain: 'day', lapseLimit: 2 });
-const usersOf = (log: EventLog) => Array.from(log.user, (u) => log.users[u]);
-const read = (f: string, o: Partial<ReadEventsOptions> = {}) => readEvents([f], { rules, ...o });
+const t = readerDir();
 const row = (id: string, extra = 'x') => `${id},2026-03-01T10:00:00Z,booking,${extra}`;
 const HEAD = 'user_id,timestamp,event,note';
 

@@ -2,10 +2,12 @@
  * Helpers for the reader tests: drive the CSV scanner over bytes in chunks of a chosen size, an
  * independent RFC 4180 parser, an RFC 4180 writer, and the physical line count of a byte string.
  */
-import { expect } from 'vitest';
+import { afterEach, beforeEach, expect } from 'vitest';
 import { CsvScanner, ESCAPED, NEED_MORE, RECORD, END, UNCLOSED, TOO_LONG } from '../../src/ingest/csvScan.js';
 import { DEFAULT_LIMITS, type ScanLimits } from '../../src/ingest/limits.js';
-import type { RowAccount } from '../../src/ingest/eventLog.js';
+import type { EventLog, RowAccount } from '../../src/ingest/eventLog.js';
+import { readEvents, type ReadEventsOptions } from '../../src/ingest/read.js';
+import { rulesOf, tempDir } from '../core/helpers.js';
 
 export interface ScannedRecord {
   status: 'record' | 'unclosed' | 'too long';
@@ -127,3 +129,25 @@ export function expectBalanced(rows: RowAccount): void {
   const l = rows.lines;
   expect(l.read, JSON.stringify(rows)).toBe(l.header + l.blank + l.records + l.rejected);
 }
+
+/** A fresh temporary folder for each test of the calling file (made before it, removed after). */
+export function readerDir(): { readonly dir: string; file(name: string, text: string | Uint8Array): string } {
+  let cur: ReturnType<typeof tempDir> | undefined;
+  beforeEach(() => {
+    cur = tempDir();
+  });
+  afterEach(() => cur?.done());
+  return {
+    get dir() {
+      return cur!.dir;
+    },
+    file: (name, text) => cur!.file(name, text),
+  };
+}
+
+/** The rules the reader tests use: daily grain, lapse limit 2. */
+export const rules = rulesOf({ grain: 'day', lapseLimit: 2 });
+/** The users of a log, event by event. */
+export const usersOf = (log: EventLog): string[] => Array.from(log.user, (u) => log.users[u]);
+/** Read one file with the reader tests' rules. */
+export const read = (f: string, o: Partial<ReadEventsOptions> = {}): Promise<EventLog> => readEvents([f], { rules, ...o });

@@ -2,23 +2,13 @@
  * The NDJSON reader: ids (strings; numbers only as plain safe integers), the raw-token lookup, lines,
  * bounds, encodings.
  */
-import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { readEvents, type ReadEventsOptions } from '../../src/ingest/read.js';
-import type { EventLog } from '../../src/ingest/eventLog.js';
+import { describe, expect, it } from 'vitest';
 import { rawMember } from '../../src/ingest/jsonRaw.js';
 import { userIdOf } from '../../src/ingest/ndjson.js';
-import { expectTidemarkError, rulesOf, tempDir } from '../core/helpers.js';
-import { expectBalanced } from './helpers.js';
+import { expectTidemarkError } from '../core/helpers.js';
+import { expectBalanced, read, readerDir, usersOf } from './helpers.js';
 
-let t: ReturnType<typeof tempDir>;
-beforeEach(() => {
-  t = tempDir();
-});
-afterEach(() => t.done());
-
-const rules = rulesOf({ grain: 'day', lapseLimit: 2 });
-const usersOf = (log: EventLog) => Array.from(log.user, (u) => log.users[u]);
-const read = (f: string, o: Partial<ReadEventsOptions> = {}) => readEvents([f], { rules, ...o });
+const t = readerDir();
 const TS = '"timestamp":"2026-03-01T10:00:00Z","event":"booking"';
 const line = (id: string, extra = '') => `{"user_id":${id},${TS}${extra}}`;
 

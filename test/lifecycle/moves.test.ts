@@ -1,29 +1,6 @@
-import { initialTransition, transition } from 'xstate';
 import { describe, expect, it } from 'vitest';
-import { lifecycleMachine } from '../../src/lifecycle/machine.js';
 import { lifecycleMoves } from '../../src/lifecycle/moves.js';
-
-/**
- * Every move the xstate machine itself makes (not its tabulation), over every activity sequence of
- * up to `length` periods: an exhaustive walk, independent of moves.ts and plan.ts.
- */
-function walkedMoves(lapseLimit: number, length: number): { moves: Set<string>; arrivals: Set<string> } {
-  const m = lifecycleMachine({ lapseLimit });
-  const moves = new Set<string>();
-  const arrivals = new Set<string>();
-  for (let bits = 0; bits < 2 ** length; bits++) {
-    let [snap] = initialTransition(m);
-    for (let p = 0; p < length; p++) {
-      const before = String(snap.value);
-      [snap] = transition(m, snap, { type: 'PERIOD', active: Boolean((bits >> p) & 1), events: (bits >> p) & 1 });
-      const after = String(snap.value);
-      if (before === 'unseen') {
-        if (after !== 'unseen') arrivals.add(after);
-      } else moves.add(`${before}->${after}`);
-    }
-  }
-  return { moves, arrivals };
-}
+import { walkedMoves } from './walk.js';
 
 describe('lifecycleMoves', () => {
   it('lists exactly the moves the machine makes on every path (lapse limits 0 to 3, exhaustive)', () => {

@@ -11,6 +11,7 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import { TidemarkError } from '../../src/errors.js';
 import { REPORT_MARKER, recoverFolder, replaceFolder, writeFileAtomic } from '../../src/output/atomic.js';
 import { corpusDir } from '../hostile/harness.js';
+import { tidemarkErrorOf } from '../core/helpers.js';
 
 let t: ReturnType<typeof corpusDir>;
 beforeEach(() => {
@@ -21,16 +22,6 @@ afterEach(() => t.done());
 /** An error as the file system raises it (Node's ErrnoException shape). */
 function fsError(code: string): Error {
   return Object.assign(new Error(`${code}: simulated`), { code });
-}
-
-function caught(fn: () => unknown): TidemarkError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof TidemarkError) return e;
-    throw e;
-  }
-  throw new Error('expected a TidemarkError');
 }
 
 function folder(dir: string): Record<string, string> {
@@ -61,7 +52,7 @@ describe('writeFileAtomic(file, data)', () => {
 
   it('on a full disk: says the disk is full, keeps the old file, removes the temporary file', () => {
     const f = t.file('flows.json', 'old');
-    const e = caught(() => writeFileAtomic(f, 'new', { step: () => { throw fsError('ENOSPC'); } }));
+    const e = tidemarkErrorOf(() => writeFileAtomic(f, 'new', { step: () => { throw fsError('ENOSPC'); } }));
     expect(e.code).toBe('FILE_UNWRITABLE');
     expect(e.oneLine()).toMatch(/the disk is full/);
     expect(e.where.file).toBe(f);
@@ -71,7 +62,7 @@ describe('writeFileAtomic(file, data)', () => {
 
   it('refuses a folder as the output file', () => {
     mkdirSync(join(t.dir, 'out'));
-    expect(caught(() => writeFileAtomic(join(t.dir, 'out'), 'x')).oneLine()).toMatch(/it is a folder/);
+    expect(tidemarkErrorOf(() => writeFileAtomic(join(t.dir, 'out'), 'x')).oneLine()).toMatch(/it is a folder/);
   });
 
   it('writes through a symbolic link to its target and keeps the link', () => {
@@ -127,7 +118,7 @@ describe('replaceFolder(dir, files)', () => {
     replaceFolder(dir, A);
     const before = folder(dir);
     let n = 0;
-    const e = caught(() => replaceFolder(dir, B, { step: () => { if (++n === 2) throw fsError('ENOSPC'); } }));
+    const e = tidemarkErrorOf(() => replaceFolder(dir, B, { step: () => { if (++n === 2) throw fsError('ENOSPC'); } }));
     expect(e.code).toBe('FILE_UNWRITABLE');
     expect(e.oneLine()).toMatch(/the disk is full/);
     expect(e.oneLine()).toMatch(/previous report is left as it was/);
@@ -138,7 +129,7 @@ describe('replaceFolder(dir, files)', () => {
   it('other write failures name what happened (no permission, read-only, quota)', () => {
     const dir = join(t.dir, 'weekly');
     for (const [code, text] of [['EACCES', /no permission/], ['EROFS', /read-only/], ['EDQUOT', /quota/], ['EIO', /cannot write the report folder \(EIO\)/]] as const) {
-      const e = caught(() => replaceFolder(dir, A, { step: () => { throw fsError(code); } }));
+      const e = tidemarkErrorOf(() => replaceFolder(dir, A, { step: () => { throw fsError(code); } }));
       expect(e.oneLine(), code).toMatch(text);
     }
     expect(readdirSync(t.dir)).toEqual([]);
@@ -148,7 +139,7 @@ describe('replaceFolder(dir, files)', () => {
     const dir = join(t.dir, 'data');
     mkdirSync(dir);
     writeFileSync(join(dir, 'events.csv'), 'user_id,timestamp\n');
-    const e = caught(() => replaceFolder(dir, A));
+    const e = tidemarkErrorOf(() => replaceFolder(dir, A));
     expect(e.oneLine()).toMatch(/not part of a tidemark report/);
     expect(folder(dir)).toEqual({ 'events.csv': 'user_id,timestamp\n' });
   });
@@ -167,7 +158,7 @@ describe('replaceFolder(dir, files)', () => {
 
   it('refuses a file where the folder should be', () => {
     const f = t.file('weekly', 'x');
-    expect(caught(() => replaceFolder(f, A)).oneLine()).toMatch(/is a file, not a folder/);
+    expect(tidemarkErrorOf(() => replaceFolder(f, A)).oneLine()).toMatch(/is a file, not a folder/);
     expect(readFileSync(f, 'utf8')).toBe('x');
   });
 

@@ -17,21 +17,10 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { REPORT_MARKER, recoverFolder, replaceFolder } from '../../src/output/atomic.js';
 import { corpusDir } from '../hostile/harness.js';
 import { reportVersion, stepsOf } from './reportVersions.js';
+import { mulberry32 } from '../stats/prng.js';
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const WRITER = fileURLToPath(new URL('./killWriter.ts', import.meta.url));
-
-/** mulberry32, a small seeded generator (common practice for reproducible test draws). */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function folder(dir: string): Record<string, string> {
   return Object.fromEntries(readdirSync(dir).sort().map((f) => [f, readFileSync(join(dir, f), 'utf8')]));
@@ -78,7 +67,7 @@ afterAll(() => t.done());
 describe('kill the report writer at random points (SIGKILL, seeded)', () => {
   const n = stepsOf('B');
   const files = reportVersion('B').size;
-  const draw = rng(20261202);
+  const draw = mulberry32(20261202);
   // the steps: 1..files (each file written), files+1 written, +2 old set aside, +3 new in place, +4 old removed
   const steps = [...new Set([files + 2, files + 3, ...Array.from({ length: 24 }, () => 1 + Math.floor(draw() * n))])];
   const delays = Array.from({ length: 8 }, () => Math.round(draw() * 30));

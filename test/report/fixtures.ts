@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { main } from '../../src/cli/main.js';
 import { bufferIo } from '../../src/cli/io.js';
 import { simulateMakerspace } from '../../src/demo/makerspace.js';
+import { mulberry32 } from '../stats/prng.js';
 
 export function tempDir(prefix = 'tidemark-report-'): string {
   return mkdtempSync(join(tmpdir(), prefix));
@@ -29,17 +30,8 @@ export async function runCli(args: string[]): Promise<{ code: number; out: strin
   return { code, out: io.out, err: io.err };
 }
 
-/** A small seeded generator (mulberry32), for logs that tests invent. */
-export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** A small seeded generator (mulberry32, test/stats/prng.ts), for logs that tests invent. */
+export const seeded = mulberry32;
 
 /**
  * A log unlike the demo, for checking layout and wording on data the project has never seen: daily

@@ -1,16 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { TidemarkError } from '../../src/errors.js';
 import { parseDurationsCsv } from '../../src/survival/durations.js';
-
-function errorOf(fn: () => unknown): TidemarkError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof TidemarkError) return e;
-    throw e;
-  }
-  throw new Error('expected a TidemarkError');
-}
+import { tidemarkErrorOf } from '../core/helpers.js';
 
 describe('parseDurationsCsv', () => {
   it('reads one member per row and adds equal rows together', () => {
@@ -37,34 +27,34 @@ describe('parseDurationsCsv', () => {
   });
 
   it('names line and column for a bad value', () => {
-    const e = errorOf(() => parseDurationsCsv('duration,observed\n3,1\n-2,1\n', 'd.csv'));
+    const e = tidemarkErrorOf(() => parseDurationsCsv('duration,observed\n3,1\n-2,1\n', 'd.csv'));
     expect(e.code).toBe('INPUT_INVALID');
     expect(e.where).toEqual({ file: 'd.csv', line: 3, column: 'duration' });
     expect(e.oneLine()).toBe("d.csv:3, column duration: duration must be a number ≥ 0, got '-2'");
 
-    const o = errorOf(() => parseDurationsCsv('duration,observed\n3,yes\n', 'd.csv'));
+    const o = tidemarkErrorOf(() => parseDurationsCsv('duration,observed\n3,yes\n', 'd.csv'));
     expect(o.where).toEqual({ file: 'd.csv', line: 2, column: 'observed' });
 
-    const u = errorOf(() => parseDurationsCsv('duration,observed,users\n3,1,\n', 'd.csv'));
+    const u = tidemarkErrorOf(() => parseDurationsCsv('duration,observed,users\n3,1,\n', 'd.csv'));
     expect(u.where).toEqual({ file: 'd.csv', line: 2, column: 'users' });
   });
 
   it('names the line of a short row or an unterminated quote', () => {
-    expect(errorOf(() => parseDurationsCsv('duration,observed,group\n3,1\n', 'd.csv')).where).toEqual({ file: 'd.csv', line: 2 });
-    expect(errorOf(() => parseDurationsCsv('duration,observed,group\n3,1,"open\n', 'd.csv')).where).toEqual({ file: 'd.csv', line: 2 });
+    expect(tidemarkErrorOf(() => parseDurationsCsv('duration,observed,group\n3,1\n', 'd.csv')).where).toEqual({ file: 'd.csv', line: 2 });
+    expect(tidemarkErrorOf(() => parseDurationsCsv('duration,observed,group\n3,1,"open\n', 'd.csv')).where).toEqual({ file: 'd.csv', line: 2 });
   });
 
   it('requires a header with duration and observed, and suggests a fix for a typo', () => {
-    const missing = errorOf(() => parseDurationsCsv('duration,group\n3,a\n', 'd.csv'));
+    const missing = tidemarkErrorOf(() => parseDurationsCsv('duration,group\n3,a\n', 'd.csv'));
     expect(missing.where).toEqual({ file: 'd.csv', line: 1, column: 'observed' });
-    const typo = errorOf(() => parseDurationsCsv('duration,observd\n3,1\n', 'd.csv'));
+    const typo = tidemarkErrorOf(() => parseDurationsCsv('duration,observd\n3,1\n', 'd.csv'));
     expect(typo.where).toEqual({ file: 'd.csv', line: 1, column: 'observd' });
     expect(typo.hint).toBe("did you mean 'observed'?");
-    expect(errorOf(() => parseDurationsCsv('', 'd.csv')).where).toEqual({ file: 'd.csv', line: 1 });
-    expect(errorOf(() => parseDurationsCsv('duration,observed,duration\n1,1,1\n', 'd.csv')).where.column).toBe('duration');
+    expect(tidemarkErrorOf(() => parseDurationsCsv('', 'd.csv')).where).toEqual({ file: 'd.csv', line: 1 });
+    expect(tidemarkErrorOf(() => parseDurationsCsv('duration,observed,duration\n1,1,1\n', 'd.csv')).where.column).toBe('duration');
   });
 
   it('a header without rows is NOT_ENOUGH_DATA', () => {
-    expect(errorOf(() => parseDurationsCsv('duration,observed\n\n', 'd.csv')).code).toBe('NOT_ENOUGH_DATA');
+    expect(tidemarkErrorOf(() => parseDurationsCsv('duration,observed\n\n', 'd.csv')).code).toBe('NOT_ENOUGH_DATA');
   });
 });
