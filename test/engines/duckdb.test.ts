@@ -13,7 +13,7 @@ import { runDuckdb } from '../../src/engines/duckdb/run.js';
 import { parseRules } from '../../src/rules/load.js';
 import { createEngine } from '../../src/engines/index.js';
 import { filesSource } from '../../src/engines/types.js';
-import { mulberry32 } from '../../src/numerics/random.js';
+import { mulberry32 } from '../stats/prng.js';
 import { tempDir } from '../core/helpers.js';
 import { comparable, memoryWaist, withoutLines } from './sqlEngines.js';
 

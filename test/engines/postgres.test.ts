@@ -9,7 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { TidemarkError } from '../../src/errors.js';
 import { runPostgres } from '../../src/engines/postgres/run.js';
 import { parseRules } from '../../src/rules/load.js';
-import { mulberry32 } from '../../src/numerics/random.js';
+import { mulberry32 } from '../stats/prng.js';
 import { tempDir } from '../core/helpers.js';
 import { comparable, memoryWaist, pgReachable, pgUrl, withoutLines } from './sqlEngines.js';
 

@@ -15,7 +15,7 @@ import { withCtes } from '../../src/sql/query.js';
 import { parseTimestamp } from '../../src/ingest/timestamp.js';
 import { ZoneClock } from '../../src/periods/zone.js';
 import { parseRules } from '../../src/rules/load.js';
-import { mulberry32 } from '../../src/numerics/random.js';
+import { mulberry32 } from '../stats/prng.js';
 import { pgReachable, pgUrl } from '../engines/sqlEngines.js';
 
 const ZONES = ['UTC', 'America/Chicago', 'Europe/Berlin', 'Pacific/Auckland', 'Asia/Kolkata', 'Australia/Lord_Howe'];
