@@ -5,11 +5,12 @@
  * the same events as CSV (the reference semantics; the files are written from one seeded log).
  */
 import { join } from 'node:path';
-import { readFileSync, writeFileSync } from 'node:fs';
+import { readFileSync, truncateSync, writeFileSync } from 'node:fs';
 import { gzipSync } from 'node:zlib';
 import { DuckDBInstance } from '@duckdb/node-api';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runDuckdb } from '../../src/engines/duckdb/run.js';
+import { duckdbMemoryLimit } from '../../src/engines/duckdb/index.js';
 import { parseRules } from '../../src/rules/load.js';
 import { createEngine } from '../../src/engines/index.js';
 import { filesSource } from '../../src/engines/types.js';
@@ -117,3 +118,17 @@ function localText(ms: number): string {
   const p = Object.fromEntries(parts.map((x) => [x.type, x.value]));
   return `${p.year}-${p.month}-${p.day}T${p.hour}:${p.minute}:${p.second}`;
 }
+
+describe('the memory limit of the duckdb engine of the commands', () => {
+  it('is 1 GB for up to 1 GB of event files, 2 GB beyond and for a database table (README, "Performance")', () => {
+    // a sparse file: its size is set, nothing is written or read
+    const big = join(t.dir, 'big.parquet');
+    writeFileSync(big, '');
+    truncateSync(big, 1e9);
+    expect(duckdbMemoryLimit(filesSource([big]))).toBe('1GB');
+    truncateSync(big, 1e9 + 1);
+    expect(duckdbMemoryLimit(filesSource([big]))).toBe('2GB');
+    expect(duckdbMemoryLimit(filesSource([csvFile]))).toBe('1GB');
+    expect(duckdbMemoryLimit({ kind: 'table', db: 'x.duckdb', table: 'bookings' })).toBe('2GB');
+  });
+});

@@ -3,7 +3,7 @@
  * gzip) or a table or view of a DuckDB database file, run as the compiled SQL on embedded DuckDB
  * (./run.ts). Only the waist comes back.
  */
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { TidemarkError } from '../../errors.js';
@@ -25,16 +25,30 @@ export function duckdbInput(source: EventSource): DuckdbInput {
 }
 
 /**
- * DuckDB's memory limit for the engine of the commands: out of core beyond it (DuckDB's own default is
- * 80% of the machine's memory). At 10M events it kept the process's peak at 1.5 GB instead of 1.9 GB,
- * for about 9% more time (README, "Performance").
+ * DuckDB's memory limit for the engine of the commands, out of core beyond it (DuckDB's own default is
+ * 80% of the machine's memory): 1 GB for event files of up to 1 GB on disk, 2 GB for larger ones and
+ * for a database table (whose size is not known here). Measured (README, "Performance"): 10M events
+ * (0.5 GB of CSV) peaked at 1.5 GB with 1 GB instead of 1.9 GB without a limit, for about 9% more
+ * time; 100M events (1.6 GB of Parquet) ran out of a 1 GB limit (a step that does not spill) and
+ * completed with 2 GB at a peak of 2.9 GB.
  */
-export const DUCKDB_MEMORY_LIMIT = '1GB';
+export function duckdbMemoryLimit(source: EventSource): string {
+  if (source.kind !== 'files') return '2GB';
+  let bytes = 0;
+  for (const f of source.files) {
+    try {
+      bytes += statSync(f).size;
+    } catch {
+      // a missing file is reported by the run
+    }
+  }
+  return bytes <= 1e9 ? '1GB' : '2GB';
+}
 
 export class DuckdbEngine implements Engine {
   readonly name = 'duckdb';
 
-  /** `options` default to {@link DUCKDB_MEMORY_LIMIT} and a spill folder of the run's own in the temp folder, removed after. */
+  /** `options` default to {@link duckdbMemoryLimit} and a spill folder of the run's own in the temp folder, removed after. */
   constructor(private readonly options: DuckdbOptions = {}) {}
 
   async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineRun> {
@@ -43,7 +57,7 @@ export class DuckdbEngine implements Engine {
     // DuckDB spills beside a database file, or into ./.tmp for one in memory: never into the user's folder
     const spill = this.options.tempDirectory ? undefined : mkdtempSync(join(tmpdir(), 'tidemark-duckdb-'));
     try {
-      return { waist: await runDuckdb(input, rules, range, { memoryLimit: DUCKDB_MEMORY_LIMIT, tempDirectory: spill, ...this.options }) };
+      return { waist: await runDuckdb(input, rules, range, { memoryLimit: duckdbMemoryLimit(source), tempDirectory: spill, ...this.options }) };
     } finally {
       if (spill) rmSync(spill, { recursive: true, force: true });
     }

@@ -8,7 +8,7 @@
  */
 import { performance } from 'node:perf_hooks';
 import { DuckDBInstance, type DuckDBConnection } from '@duckdb/node-api';
-import { TidemarkError } from '../../errors.js';
+import { TidemarkError, showValue } from '../../errors.js';
 import { readEvents } from '../../ingest/read.js';
 import { optionKey } from '../../periods/range.js';
 import { periodLabel, type PeriodScheme } from '../../periods/calendar.js';
@@ -116,7 +116,11 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
     if (e instanceof TidemarkError) throw e;
     // DuckDB's own refusal (a file it cannot read, a type it cannot cast): one line, naming the source
     const where = 'db' in input ? input.db : input.files.join(', ');
-    throw new TidemarkError('FILE_UNREADABLE', `DuckDB could not read the events: ${String((e as Error).message).split('\n')[0]}`, { file: where }, 'Check the files, or run the memory engine to find the row');
+    const text = String((e as Error).message).split('\n')[0];
+    if (/out of memory/i.test(text)) {
+      throw new TidemarkError('INPUT_INVALID', `DuckDB ran out of its memory limit (${showValue(options.memoryLimit ?? 'its default', 20)}): ${text}`, { file: where }, 'Narrow the range with --from/--to, or run the library with a larger memoryLimit');
+    }
+    throw new TidemarkError('FILE_UNREADABLE', `DuckDB could not read the events: ${text}`, { file: where }, 'Check the files, or run the memory engine to find the row');
   } finally {
     c.closeSync();
     instance.closeSync();
