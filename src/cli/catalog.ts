@@ -118,6 +118,12 @@ export const CATALOG: readonly CatalogEntry[] = [
     load: async () => (await import('./commands/waist.js')).waistCommand,
   },
   {
+    name: 'sql',
+    term: 'sql [options]',
+    description: 'write the rules as SQL for a warehouse: one query a waist table, the manifest, and a README on exporting the results for --waist',
+    load: async () => (await import('./commands/sql.js')).sqlCommand,
+  },
+  {
     name: 'update',
     term: 'update [options]',
     description: 'apply new event files to a store (created when missing) and print what changed since the last update',

@@ -1,4 +1,5 @@
 /** Options shared by the commands that read events or a waist. */
+import { readFileSync, statSync } from 'node:fs';
 import { Command, Option } from 'commander';
 import { TidemarkError, escapeControls, showValue } from '../errors.js';
 import { createEngine, ENGINE_NAMES } from '../engines/index.js';
@@ -42,6 +43,12 @@ export interface CommonOptions {
   store?: string;
   /** The engine that reads the events. */
   engine?: string;
+  /** A DuckDB database file or a postgres:// URL (engines duckdb and postgres). */
+  db?: string;
+  /** A table or view in --db holding the events. */
+  table?: string;
+  /** A file holding one SELECT on --db whose rows are the events (engine postgres). */
+  query?: string;
 }
 
 export function addFormatOptions(cmd: Command, dflt: Format): Command {
@@ -67,6 +74,9 @@ export function addEventOptions(cmd: Command, withEvents = true): Command {
     .option('--from <date>', 'first period to output (YYYY-MM-DD inside it); earlier events still shape states')
     .option('--to <date>', 'last period to analyse (YYYY-MM-DD inside it); later events are ignored')
     .option('--warmup <n>', 'leading periods classified but left out of flows and retention (overrides the rules)')
+    .option('--db <file|url>', 'read the events from a database instead of --events: a DuckDB file (--engine duckdb) or postgres://… (--engine postgres)')
+    .option('--table <name>', 'the table or view in --db holding the events')
+    .option('--query <file>', 'a file holding one SELECT on --db whose rows are the events (--engine postgres)')
     .option('--skip-bad-rows', 'skip and count bad rows instead of stopping at the first')
     .addOption(new Option('--input-format <format>', 'event file format, when the extension does not tell (gzip is recognised by itself)').choices(['csv', 'ndjson', 'parquet']))
     .option('--delimiter <char>', 'CSV field delimiter (default ","; use "\\t" for tab)')
@@ -81,13 +91,52 @@ export function resolveRules(o: CommonOptions): Rules {
   return resolveRulesFile({ file: o.rules, columns: { user: o.userColumn, timestamp: o.timestampColumn, event: o.eventColumn } });
 }
 
-export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter'>): EventSource {
+export function sourceOf(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter' | 'engine' | 'db' | 'table' | 'query'>): EventSource {
+  if (o.db !== undefined || o.table !== undefined || o.query !== undefined) return databaseSource(o);
+  if ((o.engine ?? 'memory') === 'postgres') {
+    throw new TidemarkError('USAGE', 'reads a table or a query on a PostgreSQL server, not event files', { key: '--engine' }, 'For example --engine postgres --db postgres://user@host/db --table events');
+  }
   if (!o.events || o.events.length === 0) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
   const delimiter = o.delimiter === '\\t' || o.delimiter === 'tab' ? '\t' : o.delimiter;
   if (delimiter !== undefined && (delimiter.length !== 1 || delimiter.charCodeAt(0) > 127 || delimiter === '"' || delimiter === '\n' || delimiter === '\r')) {
     throw new TidemarkError('USAGE', `must be one ASCII character other than a quote or a line break, not '${showValue(o.delimiter)}'`, { key: '--delimiter' }, "For example --delimiter ';' or --delimiter '\\t'");
   }
   return filesSource(o.events, { format: o.inputFormat, skipBadRows: o.skipBadRows, delimiter });
+}
+
+const POSTGRES_URL = /^postgres(ql)?:\/\//i;
+
+/**
+ * A table or query in a database as the source, every option checked before anything is read:
+ * --table or --query (one of them) with --db, an engine that reads databases, a URL for postgres and
+ * a file for duckdb, no --events beside them.
+ */
+function databaseSource(o: Pick<CommonOptions, 'events' | 'inputFormat' | 'skipBadRows' | 'delimiter' | 'engine' | 'db' | 'table' | 'query'>): EventSource {
+  const engine = o.engine ?? 'memory';
+  if (o.table !== undefined && o.query !== undefined) throw new TidemarkError('USAGE', 'give either --table or --query, not both', { key: '--query' });
+  const what = o.table !== undefined ? '--table' : o.query !== undefined ? '--query' : undefined;
+  if (what === undefined) throw new TidemarkError('USAGE', 'needs --table NAME (or --query FILE with --engine postgres)', { key: '--db' }, 'For example --db events.duckdb --table events --engine duckdb');
+  if (o.db === undefined) throw new TidemarkError('USAGE', 'needs --db: the database to read it from', { key: what }, 'For example --db events.duckdb, or --db postgres://user@host/db');
+  if (o.events !== undefined) throw new TidemarkError('USAGE', 'give either --events or --db, not both', { key: '--db' });
+  const given = ([['inputFormat', '--input-format'], ['delimiter', '--delimiter']] as const).find(([k]) => o[k] !== undefined);
+  if (given) throw new TidemarkError('USAGE', 'applies to event files, not a database', { key: given[1] });
+  if (engine === 'memory') {
+    throw new TidemarkError('USAGE', `${what} needs an engine that reads databases: the memory engine reads event files`, { key: '--engine' }, POSTGRES_URL.test(o.db) ? 'Add --engine postgres' : 'Add --engine duckdb');
+  }
+  const url = POSTGRES_URL.test(o.db);
+  if (engine === 'postgres' && !url) throw new TidemarkError('USAGE', `the postgres engine needs a server URL, not '${showValue(o.db, 60)}'`, { key: '--db' }, 'For example --db postgres://user@host:5432/db');
+  if (engine === 'duckdb' && url) throw new TidemarkError('USAGE', 'the duckdb engine reads a DuckDB database file, not a server', { key: '--db' }, 'Use --engine postgres for a PostgreSQL server');
+  if (o.query !== undefined) {
+    if (engine !== 'postgres') throw new TidemarkError('USAGE', 'needs --engine postgres (with DuckDB, make the query a view and give it as --table)', { key: '--query' });
+    let text: string;
+    try {
+      text = readFileSync(o.query, 'utf8');
+    } catch {
+      throw new TidemarkError('FILE_NOT_FOUND', 'cannot read the query file', { file: o.query }, 'Give a file holding one SELECT');
+    }
+    return { kind: 'query', db: o.db, query: text, skipBadRows: o.skipBadRows };
+  }
+  return { kind: 'table', db: o.db, table: o.table as string, skipBadRows: o.skipBadRows };
 }
 
 /**
@@ -136,6 +185,8 @@ export function eventRun(o: CommonOptions, rules: Rules, by?: string): EventRun 
  * JSON (and not --quiet).
  */
 export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'quiet'>, run: EventRun, rules: Rules, io?: Io): Promise<EngineRun> {
+  const hint = io && !o.quiet ? largeInputHint(run.source, o.engine) : undefined;
+  if (hint && io) io.stderr(`${hint}\n`);
   const bar = io ? runProgress(io, o.format !== 'json' && !o.quiet) : undefined;
   try {
     return await createEngine(o.engine, { onProgress: bar?.onProgress }).run(run.source, rules, run.range);
@@ -144,6 +195,28 @@ export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'qu
   } finally {
     bar?.stop();
   }
+}
+
+/** Event files at least this large (bytes on disk, compressed or not) get a hint to use the duckdb engine. */
+export const LARGE_INPUT_BYTES = 1_000_000_000;
+
+/**
+ * A one-line note on standard error when the memory engine is about to read event files of at least
+ * {@link LARGE_INPUT_BYTES} in all: the duckdb engine reads them out of core. Undefined otherwise (another
+ * engine, a database source, smaller files, files that cannot be listed: the run reports those).
+ */
+export function largeInputHint(source: EventSource, engine: string | undefined): string | undefined {
+  if ((engine ?? 'memory') !== 'memory' || source.kind !== 'files') return undefined;
+  let bytes = 0;
+  for (const f of source.files) {
+    try {
+      bytes += statSync(f).size;
+    } catch {
+      return undefined;
+    }
+  }
+  if (bytes < LARGE_INPUT_BYTES) return undefined;
+  return `note: ${(bytes / 1e9).toFixed(1)} GB of events for the memory engine; --engine duckdb reads large logs out of core, in less memory`;
 }
 
 /** As {@link runEngine}, streaming the classification to `sink`. */
@@ -163,6 +236,7 @@ const EVENT_ONLY: [keyof CommonOptions, string][] = [
   ['events', '--events'], ['rules', '--rules'], ['from', '--from'], ['to', '--to'], ['warmup', '--warmup'],
   ['skipBadRows', '--skip-bad-rows'], ['inputFormat', '--input-format'], ['delimiter', '--delimiter'],
   ['userColumn', '--user-column'], ['timestampColumn', '--timestamp-column'], ['eventColumn', '--event-column'], ['engine', '--engine'],
+  ['db', '--db'], ['table', '--table'], ['query', '--query'],
 ];
 
 /**
@@ -233,7 +307,7 @@ export async function waistInput(o: CommonOptions, spec: { by?: string; sections
     }
     return { waist: spec.by === undefined ? withoutSplit(read) : read, flags: {} };
   }
-  if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log, waist or store given', { key: '--events' }, 'For example --events events.csv, --waist DIR or --store DIR');
+  if (o.events === undefined && o.db === undefined && o.table === undefined && o.query === undefined) throw new TidemarkError('USAGE', 'no event log, waist or store given', { key: '--events' }, 'For example --events events.csv, --waist DIR or --store DIR');
   const rules = resolveRules(o);
   const run = eventRun(o, rules, spec.by);
   if (spec.sections && (o.engine ?? 'memory') === 'memory') {

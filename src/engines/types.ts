@@ -18,8 +18,9 @@ export type EventSource =
       /** CSV field delimiter (default ','). */
       delimiter?: string;
     }
-  | { kind: 'table'; db: string; table: string }
-  | { kind: 'query'; db: string; query: string };
+  | { kind: 'table'; db: string; table: string; skipBadRows?: boolean }
+  /** `query`: the text of one SELECT whose rows are the events. */
+  | { kind: 'query'; db: string; query: string; skipBadRows?: boolean };
 
 /** Event files as a source. */
 export function filesSource(files: string[], o: { format?: EventFormat; skipBadRows?: boolean; delimiter?: string } = {}): EventSource {

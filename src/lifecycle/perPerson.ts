@@ -43,11 +43,7 @@ export interface ColumnUniqueness {
  */
 export function columnUniqueness(log: EventLog, column: string): ColumnUniqueness {
   const col = log.attributes.find((a) => a.name === column);
-  if (!col) {
-    const names = log.attributes.map((a) => a.name);
-    throw new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(column, 40)}' to split by`, { key: 'by' },
-      suggestion(column, names) ?? (names.length ? `Columns you can split by: ${names.map((n) => showValue(n, 40)).join(', ')}` : 'The events have no extra columns'));
-  }
+  if (!col) throw noSplitColumn(column, log.attributes.map((a) => a.name));
   // owner[v]: the one user seen with value v so far, -1 none yet, -2 two or more users
   const owner = new Int32Array(col.values.length).fill(-1);
   const hasValue = new Uint8Array(log.users.length);
@@ -67,8 +63,19 @@ export function columnUniqueness(log: EventLog, column: string): ColumnUniquenes
     usersWithValue += hasValue[u];
     usersWithOwnValue += own[u];
   }
+  return uniquenessOf(column, usersWithValue, usersWithOwnValue);
+}
+
+/** The measure from its two counts (an engine that counts them elsewhere, in SQL say, shares the rule). */
+export function uniquenessOf(column: string, usersWithValue: number, usersWithOwnValue: number): ColumnUniqueness {
   const share = usersWithValue === 0 ? null : usersWithOwnValue / usersWithValue;
   return { column, usersWithValue, usersWithOwnValue, share, perPerson: share !== null && share > PER_PERSON_SHARE && usersWithValue >= PER_PERSON_MIN_USERS };
+}
+
+/** The refusal of a `--by` column the events lack, with "did you mean" or the columns there are. */
+export function noSplitColumn(column: string, names: readonly string[]): TidemarkError {
+  return new TidemarkError('INPUT_INVALID', `the events have no column '${showValue(column, 40)}' to split by`, { key: 'by' },
+    suggestion(column, names) ?? (names.length ? `Columns you can split by: ${names.map((n) => showValue(n, 40)).join(', ')}` : 'The events have no extra columns'));
 }
 
 /** Every attribute column of the log with its uniqueness, per-person ones first (for a data check). */
@@ -82,7 +89,15 @@ export function perPersonColumns(log: EventLog): ColumnUniqueness[] {
  *   naming the column, the share and the flag that forces it.
  */
 export function checkSplitColumn(log: EventLog, column: string, allow = false): ColumnUniqueness {
-  const u = columnUniqueness(log, column);
+  return checkUniqueness(columnUniqueness(log, column), allow);
+}
+
+/**
+ * Refuse a per-person column unless `allow` (the check of {@link checkSplitColumn}, on counts made anywhere).
+ * @throws TidemarkError INPUT_INVALID as checkSplitColumn.
+ */
+export function checkUniqueness(u: ColumnUniqueness, allow = false): ColumnUniqueness {
+  const column = u.column;
   if (u.perPerson && !allow) {
     throw new TidemarkError('INPUT_INVALID',
       `column '${showValue(column, 40)}' looks like a per-person column: ${u.usersWithOwnValue.toLocaleString('en-US')} of ${u.usersWithValue.toLocaleString('en-US')} users (${Math.round(u.share! * 100)}%) hold a value no other user holds, so splitting by it would publish one value per person`,

@@ -113,9 +113,13 @@ async function offeredEngines(): Promise<string[]> {
     c.on('close', () => resolve(out));
   });
   // commander wraps long help lines: `--engine <name>  … (choices:\n   "memory", "duckdb", default: "memory")`
-  const m = /--engine[^\n]*(?:\n[^\n-][^\n]*)*?choices:\s*([^)]*)\)/.exec(help);
+  // read within the option's own lines: other options' help may mention --engine or have choices
+  const block = /^\s*--engine <name>.*(?:\n(?!\s*--)[^\n]*)*/m.exec(help)?.[0] ?? '';
+  const m = /choices:\s*([^)]*)\)/.exec(block);
   const names = m ? [...m[1].replace(/default:.*$/s, '').matchAll(/"([^"]+)"/g)].map((x) => x[1]) : [];
-  return names.length > 0 ? names : ['memory'];
+  // the postgres engine reads a table on a server, not the bench's files
+  const files = names.filter((n) => n !== 'postgres');
+  return files.length > 0 ? files : ['memory'];
 }
 
 interface Row {

@@ -68,10 +68,10 @@ export async function runCurve(o: CurveCliOptions, io: Io): Promise<void> {
   let out: CurveOutput;
   let extra: object = {};
   if (o.alive !== undefined) {
-    if (o.events || o.waist || o.store) throw new TidemarkError('USAGE', `give either --alive or ${o.events ? '--events' : o.waist ? '--waist' : '--store'}, not both`, { key: '--alive' });
+    if (o.events || o.db || o.waist || o.store) throw new TidemarkError('USAGE', `give either --alive or ${o.events ? '--events' : o.waist ? '--waist' : '--store'}, not both`, { key: '--alive' });
     out = fitCurves([{ cohort: 'given', survivors: aliveOption(o.alive) }], { horizon, minSize, given: true });
   } else {
-    if (!o.events && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --alive n0,n1,…, --events, --waist or --store', { key: '--alive' }, 'See tidemark curve --help');
+    if (!o.events && !o.db && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --alive n0,n1,…, --events, --waist or --store', { key: '--alive' }, 'See tidemark curve --help');
     const input = await analysisInput(o as CommonOptions, io, { partial: 'drop' });
     extra = partialJson(input);
     out = asFlags(() => cohortCurves(input.waist.tables, input.waist.manifest.rules.lapseLimit, { horizon, minSize }), {});

@@ -226,7 +226,7 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
       throw e instanceof TidemarkError && e.code === 'USAGE' ? e : inFile(e, o.matrix);
     }
   } else {
-    if (!o.events && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist, --store or --matrix', { key: '--events' }, 'See tidemark project --help');
+    if (!o.events && !o.db && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist, --store or --matrix', { key: '--events' }, 'See tidemark project --help');
     // options that name states and moves are checked before any event is read: against the rules
     // file with --events, against the waist's manifest with --waist
     const checkStates = (rules: { lapseLimit: number; splits?: StateSplit[] }, states: readonly string[]) => {
@@ -236,7 +236,7 @@ export async function runProject(o: ProjectOptions, io: Io): Promise<void> {
       scenarioOption(o.scenario, '--scenario', states, common.horizon, moves);
       return moves;
     };
-    const early = o.events ? (() => {
+    const early = o.events || o.db ? (() => {
       const r = resolveRules(o as CommonOptions);
       return checkStates(r, stateNames(r));
     })() : undefined;

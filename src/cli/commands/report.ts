@@ -52,7 +52,7 @@ export async function runReport(o: ReportCliOptions & { format: Format }, io: Io
   const horizon = wholeNumber(o.horizon, '--horizon', 1, MAX_HORIZON);
   const seed = seedOption(o.seed);
   // scenarios name states and moves: checked against the rules file before any event is read
-  const early = o.events ? (() => {
+  const early = o.events || o.db ? (() => {
     const r = resolveRules(o as CommonOptions);
     return scenarioOption(o.scenario ?? [], '--scenario', stateNames(r), horizon, lifecycleMoves(r));
   })() : undefined;

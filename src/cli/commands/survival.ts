@@ -44,7 +44,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
   const merge = wholeNumber(o.merge, '--merge', 1);
   if (merge > 1 && o.by !== 'cohort') throw new TidemarkError('USAGE', 'pools cohorts: use it with --by cohort', { key: '--merge' });
   if (o.durations) {
-    if (o.events || o.waist || o.store) throw new TidemarkError('USAGE', `give either ${o.events ? '--events' : o.waist ? '--waist' : '--store'} or --durations, not both`, { key: '--durations' });
+    if (o.events || o.db || o.waist || o.store) throw new TidemarkError('USAGE', `give either ${o.events ? '--events' : o.waist ? '--waist' : '--store'} or --durations, not both`, { key: '--durations' });
     if (o.by !== 'none') throw new TidemarkError('USAGE', 'applies to --events; a durations file gives its groups in its group column', { key: '--by' });
     let text: string;
     try {
@@ -56,7 +56,7 @@ export async function runSurvival(o: SurvivalCliOptions, io: Io): Promise<void> 
     by = rows.some((r) => r.group !== '') ? 'group' : 'none';
     if (by === 'none') rows = rows.map((r) => ({ ...r, group: 'all' }));
   } else {
-    if (!o.events && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist, --store or --durations', { key: '--events' }, 'See tidemark survival --help');
+    if (!o.events && !o.db && !o.waist && !o.store) throw new TidemarkError('USAGE', 'give --events (with --rules), --waist, --store or --durations', { key: '--events' }, 'See tidemark survival --help');
     const column = o.by === 'none' || o.by === 'cohort' ? undefined : o.by;
     const input = await analysisInput(o as CommonOptions, io, { partial: 'drop', by: column });
     extra = partialJson(input);

@@ -20,7 +20,7 @@ export async function runWaist(o: WaistCliOptions, io: Io): Promise<void> {
     return emit(json(waistManifestJsonSchema()), typeof o.schema === 'string' ? o.schema : undefined, io);
   }
   if (!o.out) throw new TidemarkError('USAGE', 'give the folder to write the waist into', { key: '--out' }, 'For example --out waist/');
-  if (o.events === undefined) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
+  if (o.events === undefined && o.db === undefined) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
   const { waist } = await waistInput({ ...o, format: 'table' }, { by: o.by, sections: true });
   const files = writeWaist(waist, o.out);
   noteRun(io, o, waist.manifest);

@@ -1,7 +1,10 @@
 /**
  * An attribute's value per active (user, period): the value on the user's latest event in that
- * period (by wall-clock time; on ties, the later row). Used to split retention by plan, region,
- * channel and the like, taking the user's value in the period retained from.
+ * period (by wall-clock time, to the millisecond); on a tie, the largest value in Unicode code-point
+ * order (a missing value is the smallest). The tie-break reads only the values, never the order of
+ * the rows, so an engine that cannot see file order (SQL) takes the same value; code-point order is
+ * the order of UTF-8 bytes, which every SQL engine can sort by. Used to split retention by plan,
+ * region, channel and the like, taking the user's value in the period retained from.
  */
 import { TidemarkError, showValue, suggestion } from '../../errors.js';
 import type { EventLog } from '../../ingest/eventLog.js';
@@ -42,8 +45,10 @@ export function activeAttribute(log: EventLog, name: string, active: ActivePerio
         break;
       }
     }
-    if (at >= 0 && log.wallMs[e] >= when[at]) {
-      when[at] = log.wallMs[e];
+    if (at < 0) continue;
+    const w = log.wallMs[e];
+    if (w > when[at] || (w === when[at] && compareCodePoints(col.values[col.codes[e]], col.values[codes[at]]) > 0)) {
+      when[at] = w;
       codes[at] = col.codes[e];
     }
   }
@@ -61,4 +66,26 @@ export function activeIndex(active: ActivePeriods, user: number, offset: number)
     else return mid;
   }
   return -1;
+}
+
+/**
+ * Compare two strings in Unicode code-point order (the order of their UTF-8 bytes), which differs
+ * from JavaScript's code-unit order only between a character above U+FFFF and one in U+E000–U+FFFF.
+ * Source: the Unicode Standard §2.5 (UTF-16 code-unit order vs code-point order) and the usual fix-up
+ * of the differing units (as in ICU's u_strcmpCodePointOrder).
+ * @example compareCodePoints('\u{1F600}', '\uFF61') > 0 // true, though '\u{1F600}' < '\uFF61' in JavaScript
+ */
+export function compareCodePoints(a: string, b: string): number {
+  const n = Math.min(a.length, b.length);
+  for (let i = 0; i < n; i++) {
+    let x = a.charCodeAt(i), y = b.charCodeAt(i);
+    if (x !== y) {
+      if (x >= 0xd800 && y >= 0xd800) {
+        x = x >= 0xe000 ? x - 0x800 : x + 0x2000;
+        y = y >= 0xe000 ? y - 0x800 : y + 0x2000;
+      }
+      return x - y;
+    }
+  }
+  return a.length - b.length;
 }

@@ -1,0 +1,156 @@
+/**
+ * The dialects with no server here (spark, trino, bigquery, snowflake), and postgres too: every
+ * query `tidemark sql` prints parses with a dialect-aware SQL parser (node-sql-parser 5.4.0, in its
+ * Hive mode for Spark SQL, as the nearest it has), for rules of every grain, zones, key events, --by,
+ * --from/--to and each timestamp type. A parse catches syntax, not meaning; the meaning is checked
+ * on real engines elsewhere (test/engines/conformance.test.ts, test/sql/printed.test.ts).
+ *
+ * And each dialect's query is the DuckDB query but for the dialect's own pieces: with every hook's
+ * output marked, the text outside the marks is the same for all six dialects, and the DuckDB text
+ * runs on DuckDB in the conformance tests. So the syntax the dialects share with DuckDB has run.
+ */
+import { join } from 'node:path';
+import pkg from 'node-sql-parser';
+import { DuckDBInstance } from '@duckdb/node-api';
+import { describe, expect, it } from 'vitest';
+import { compile } from '../../src/sql/compile.js';
+import { DIALECT, DIALECTS, type Dialect, type DialectName } from '../../src/sql/dialects.js';
+import { gapModel } from '../../src/sql/gaps.js';
+import { manifestSelect } from '../../src/sql/manifestQuery.js';
+import { WAIST_TABLES } from '../../src/waist/tables.js';
+import { printSql } from '../../src/sql/print.js';
+import { BLANK, EPOCH, ISO, ISO_BASIC, renderPattern, pattern } from '../../src/sql/regex.js';
+import { tableSource, TIMESTAMP_KINDS } from '../../src/sql/source.js';
+import { loadRulesFile, parseRules } from '../../src/rules/load.js';
+import { EPOCH as JS_EPOCH, ISO as JS_ISO, ISO_BASIC as JS_ISO_BASIC } from '../../src/ingest/timestamp.js';
+import type { Rules } from '../../src/rules/schema.js';
+
+const { Parser } = pkg;
+const parser = new Parser();
+/** node-sql-parser's name for each dialect (Hive: the Spark-like mode). */
+const MODE: Partial<Record<DialectName, string>> = { postgres: 'PostgresQL', spark: 'Hive', trino: 'Trino', bigquery: 'BigQuery', snowflake: 'Snowflake' };
+
+const rulesDir = join(import.meta.dirname, '../../rules');
+const RULES: { name: string; rules: Rules }[] = [
+  ...['weekly', 'daily', 'monthly'].map((n) => ({ name: n, rules: loadRulesFile(join(rulesDir, `${n}.yaml`)) })),
+  { name: 'Berlin weeks from sunday, key events, minEvents 2, lapse 0', rules: parseRules("grain: week\nweekStart: sunday\ntimezone: Europe/Berlin\nlapseLimit: 0\nactivity: { keyEvents: [booking_made, \"it's\"], minEvents: 2 }\n") },
+  { name: 'Auckland months, lapse 4, warm-up 1', rules: parseRules('grain: month\ntimezone: Pacific/Auckland\nlapseLimit: 4\nwarmup: 1\ntenureBands: [0, 2]\n') },
+  { name: 'weeks with both splittable states split', rules: parseRules('grain: week\ntimezone: UTC\nlapseLimit: 2\nsplits: [{ state: engaged, atLeast: 3, names: [steady, keen] }, { state: returned, atLeast: 2, names: [back_light, back_busy] }]\n') },
+];
+
+describe('every printed query parses in its dialect', () => {
+  for (const [dialect, mode] of Object.entries(MODE) as [DialectName, string][]) {
+    it(`${dialect} (${mode})`, () => {
+      let parsed = 0;
+      for (const [i, { name, rules }] of RULES.entries()) {
+        // the timestamp's type changes only tm_src: every type with the first rules, text with the others
+        for (const timestamp of i === 0 ? TIMESTAMP_KINDS : (['text'] as const)) {
+          for (const extra of [{}, { by: 'plan', from: '2026-05-04', to: '2026-09-30' }]) {
+            const files = printSql({ dialect, rules, table: 'analytics.events', timestamp, ...extra });
+            for (const [file, sql] of files) {
+              if (!file.endsWith('.sql')) continue;
+              try {
+                parser.astify(sql, { database: mode });
+              } catch (e) {
+                const at = (e as { location?: { start?: { offset: number } } }).location?.start?.offset ?? 0;
+                throw new Error(`${dialect} ${name} ${timestamp} ${file}: ${(e as Error).message.slice(0, 120)}\n…${sql.slice(Math.max(0, at - 200), at)} <<HERE>> ${sql.slice(at, at + 80)}`);
+              }
+              parsed++;
+            }
+          }
+        }
+      }
+      // one query a waist table and the manifest query, for every case
+      expect(parsed).toBe((TIMESTAMP_KINDS.length + RULES.length - 1) * 2 * (Object.keys(WAIST_TABLES).length + 1));
+    }, 120_000); // parsing a few hundred long queries: a bound on a hang, not a timing
+  }
+});
+
+/** The dialect with each hook's output, and each constant, wrapped in ⟦…⟧. */
+function marked(D: Dialect): Dialect {
+  return new Proxy(D, {
+    get(target, key, receiver) {
+      const v = Reflect.get(target, key, receiver);
+      if (key === 'name') return v;
+      if (typeof v === 'string') return `⟦${v}⟧`;
+      if (typeof v !== 'function') return v;
+      return (...args: unknown[]) => {
+        return `⟦${(v as (...a: unknown[]) => string).apply(target, args)}⟧`;
+      };
+    },
+  });
+}
+
+/** The text with every outermost ⟦…⟧ emptied. */
+function skeleton(sql: string): string {
+  let out = '', depth = 0;
+  for (const ch of sql) {
+    if (ch === '⟦') {
+      if (depth++ === 0) out += '⟦⟧';
+    } else if (ch === '⟧') depth--;
+    else if (depth === 0) out += ch;
+  }
+  return out;
+}
+
+describe('each dialect is the DuckDB query but for its hooks', () => {
+  // tm_fast holds DuckDB's native fast path: present or absent by dialect
+  const OPTIONAL = new Set(['tm_fast']);
+  for (const { name, rules } of RULES) {
+    it(name, () => {
+      const shapes = DIALECTS.map((d) => {
+        const D = marked(DIALECT[d]);
+        const source = tableSource(D, 'events', [{ name: 'user_id', kind: 'text' }, { name: 'timestamp', kind: 'text' }, { name: 'event', kind: 'text' }, { name: 'plan', kind: 'text' }], rules, 'plan', 'events');
+        const c = compile({ dialect: D, rules, source, range: { fromKey: 1000, toKey: 3000 } });
+        return {
+          ctes: c.ctes.filter((x) => !OPTIONAL.has(x.name)).map((x) => `${x.name}: ${skeleton(x.sql)}`),
+          finals: [...Object.values(c.tables), ...Object.values(c.facts), manifestSelect(D, rules, 'sql', 0, 'plan')].map(skeleton),
+        };
+      });
+      for (let i = 1; i < shapes.length; i++) expect(shapes[i], DIALECTS[i]).toEqual(shapes[0]);
+    });
+  }
+});
+
+describe('regular expressions rendered for SQL engines', () => {
+  it('renders named, non-capturing and only-one-group forms', () => {
+    // worked by hand
+    const p = pattern('^(?<a>x)(?:y)?(?<b>z)$');
+    expect(renderPattern(p, 'noncapturing')).toEqual({ source: '^(x)(?:y)?(z)$', names: ['a', 'b'] });
+    expect(renderPattern(p, 'capturing')).toEqual({ source: '^(x)(y)?(z)$', names: ['a', '', 'b'] });
+    expect(renderPattern(p, 'only', 're2', 'b')).toEqual({ source: '^(?:x)(?:y)?(z)$', names: ['b'] });
+  });
+
+  it("DuckDB's RE2 accepts exactly what the memory engine's JavaScript patterns accept (ISO, basic, epoch, blank)", async () => {
+    // reference: the JavaScript regular expressions of src/ingest/timestamp.ts and String.prototype.trim
+    const samples = ['2026-05-04', '2026-05-04T18:30', '2026-05-04 18:30:00', '2026-05-04T18:30:00.123456789Z', '2026-05-04t18:30:00z', '2026-05-04T18:30:00 +02:00',
+      '2026-05-04T18:30:00\u3000-0530', '2026-05-04T18:30:00+02', '2026-05-04T18:30:00+2', '2026-5-4', '20260504T183000Z', '20260504T1830+0200', '20260504', '20260504T18',
+      '1700000000', '+1700000000.5', '-5', '1.', '.5', '1e9', '', ' ', '\u00a0\t', 'x', '2026-05-04T18:30:00,5Z', '2026-05-04T18:30:00\n', '٢٠٢٦-05-04'];
+    const db = await DuckDBInstance.create(':memory:');
+    const con = await db.connect();
+    try {
+      const cases: [string, RegExp, ReturnType<typeof pattern>][] = [['ISO', JS_ISO, ISO], ['ISO_BASIC', JS_ISO_BASIC, ISO_BASIC], ['EPOCH', JS_EPOCH, EPOCH], ['BLANK', /^\s*$/, BLANK]];
+      for (const [what, re, p] of cases) {
+        for (const s of samples) {
+          const sql = `SELECT ${DIALECT.duckdb.matches(DIALECT.duckdb.str(s), p)} AS m`;
+          const got = (await con.runAndReadAll(sql)).getRows()[0][0];
+          expect(got, `${what} ${JSON.stringify(s)}`).toBe(re.test(s));
+        }
+      }
+    } finally {
+      con.closeSync();
+      db.closeSync();
+    }
+  });
+});
+
+describe('the lifecycle as gaps (gapModel), asked of the machine', () => {
+  it('lapseLimit 2: fresh, engaged, returned, lapsing, dormant (README, "Lifecycle states")', () => {
+    const m = gapModel({ lapseLimit: 2 });
+    expect([m.states[m.arrival], m.states[m.continuing], m.states[m.returning], m.states[m.lapse], m.states[m.exit]]).toEqual(['fresh', 'engaged', 'returned', 'lapsing', 'dormant']);
+  });
+  it('lapseLimit 0 has no lapse state in a quiet run; large limits are modelled alike', () => {
+    expect(gapModel({ lapseLimit: 0 }).lapse).toBeLessThan(0);
+    for (const L of [1, 3, 100_000]) expect(gapModel({ lapseLimit: L }).lapseLimit).toBe(L);
+  });
+});
