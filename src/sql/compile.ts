@@ -139,18 +139,22 @@ export function compile({ dialect: D, rules, source, range = {} }: CompileInput)
   cte('tm_src', 'the events, one row each, in canonical columns', source.select);
 
   // ---- timestamps → wall-clock ms in the rules' zone (src/ingest/timestamp.ts, step by step)
+  // Only typed timestamps (a Parquet or database column): no text to parse, so the steps that parse
+  // text are left out and tm_instant reads the typed columns (what those steps give when all is NULL).
+  const textual = has.tsText || has.tsNum;
+  const textCte = (n: string, comment: string, sql: string) => void (textual && cte(n, comment, sql));
   const fast = has.tsText && D.fastUtcMs ? D.fastUtcMs('ts_text') : undefined;
-  cte('tm_fast', 'the commonest form, read natively where the dialect can (the memory engine has the same fast path)',
+  textCte('tm_fast', 'the commonest form, read natively where the dialect can (the memory engine has the same fast path)',
     `SELECT ${cols()}, ${has.tsText ? 'ts_text' : `CAST(NULL AS ${D.text}) AS ts_text`}, ${has.tsNum ? 'ts_num' : `CAST(NULL AS ${D.double}) AS ts_num`},
   ${has.tsInstant ? 'ts_instant' : `CAST(NULL AS ${D.bigint}) AS ts_instant`}, ${has.tsLocal ? 'ts_local' : `CAST(NULL AS ${D.bigint}) AS ts_local`},
   ${fast ? `${fast} AS fast_ms` : `CAST(NULL AS ${D.bigint}) AS fast_ms`}
 FROM tm_src${D.fence}`);
-  cte('tm_text', 'the timestamp text, trimmed as JavaScript trims it',
+  textCte('tm_text', 'the timestamp text, trimmed as JavaScript trims it',
     `SELECT ${cols()}, ts_num, ts_instant, ts_local, fast_ms,
   CASE WHEN ts_text IS NOT NULL AND fast_ms IS NULL THEN ${trimJs('ts_text')} END AS t
 FROM tm_fast${D.fence}`);
   const short = `length(t) <= ${MAX_TIMESTAMP_TEXT}`;
-  cte('tm_form', 'which form the text has: epoch digits (ep), ISO 8601 extended (1) or basic (2)',
+  textCte('tm_form', 'which form the text has: epoch digits (ep), ISO 8601 extended (1) or basic (2)',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, t,
   CASE WHEN t IS NOT NULL AND ${short} AND ${D.matches('t', EPOCH)} THEN ${D.toDouble('t')}
        WHEN ts_num IS NOT NULL AND (ts_num = 0 OR (abs(ts_num) >= 1e-6 AND abs(ts_num) < 1e21)) THEN ts_num END AS ep,
@@ -162,7 +166,7 @@ FROM tm_text${D.fence}`);
   // basic: YYYYMMDD(T|t)HHMM[SS[(.|,)F]][offset]. An offset is at the end, its sign past the date.
   const at = (i: string, n: number | string = 1) => `substr(t, ${i}, ${n})`;
   const digit = (i: string) => `coalesce(${D.firstCode(at(i))}, 0) BETWEEN 48 AND 57`;
-  cte('tm_shape', 'where the parts of an ISO timestamp are: time, seconds, fraction, the offset\'s sign',
+  textCte('tm_shape', 'where the parts of an ISO timestamp are: time, seconds, fraction, the offset\'s sign',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, t, ep, form,
   CASE WHEN form = 1 AND ${digit('12')} THEN 1 WHEN form = 2 THEN 1 ELSE 0 END AS has_time,
   CASE form WHEN 1 THEN 12 WHEN 2 THEN 10 END AS h_at,
@@ -178,7 +182,7 @@ FROM tm_form${D.fence}`);
   // digits as numbers by their code points: no cast, so nothing can fail on a row the patterns refused
   const num = (i: string, n: number) => `CAST(${Array.from({ length: n }, (_, k) => `(coalesce(${D.firstCode(at(`${i} + ${k}`))}, 0) - 48) * ${10 ** (n - 1 - k)}`).join(' + ')} AS ${D.bigint})`;
   const when = (cond: string, v: string) => `CASE WHEN ${cond} THEN ${v} END`;
-  cte('tm_parts', 'the fields of an ISO timestamp as numbers (text for the fraction, the Z and the sign)',
+  textCte('tm_parts', 'the fields of an ISO timestamp as numbers (text for the fraction, the Z and the sign)',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, ep, form,
   ${when('form IS NOT NULL', num('1', 4))} AS y,
   CASE form WHEN 1 THEN ${num('6', 2)} WHEN 2 THEN ${num('5', 2)} END AS mo,
@@ -202,7 +206,7 @@ FROM tm_shape${D.fence}`);
   };
   const leap = `(${D.mod('y', '4')} = 0 AND ${D.mod('y', '100')} <> 0) OR ${D.mod('y', '400')} = 0`;
   const daysIn = `CASE WHEN mo = 2 THEN CASE WHEN ${leap} THEN 29 ELSE 28 END WHEN mo IN (4, 6, 9, 11) THEN 30 ELSE 31 END`;
-  cte('tm_local', 'an ISO timestamp as local ms (a date or time out of range is no timestamp), with its offset in minutes',
+  textCte('tm_local', 'an ISO timestamp as local ms (a date or time out of range is no timestamp), with its offset in minutes',
     `SELECT ${cols()}, ts_instant, ts_local, fast_ms, ep, z, sg,
   CASE WHEN form IS NOT NULL AND y BETWEEN 1800 AND 2300 AND mo BETWEEN 1 AND 12 AND d >= 1 AND d <= ${daysIn}
         AND coalesce(h, 0) <= 23 AND coalesce(mi, 0) <= 59 AND coalesce(sec, 0) <= 60
@@ -214,7 +218,13 @@ FROM tm_shape${D.fence}`);
   CASE WHEN sg = '-' THEN -1 ELSE 1 END * (coalesce(oh, 0) * 60 + coalesce(om, 0)) AS off_min
 FROM tm_parts${D.fence}`);
   const epMs = `CASE WHEN abs(ep) >= 1e11 THEN ep ELSE ep * 1000 END`;
-  cte('tm_instant', 'the instant (ms since the epoch) of timestamps that name one, or the local ms of those that do not',
+  if (!textual) {
+    cte('tm_instant', 'the instant (ms since the epoch) of a typed timestamp with a time zone, or the local ms of one without',
+      `SELECT ${cols()},
+  ${has.tsInstant ? 'CASE WHEN ts_instant > -2300000000000 AND ts_instant < 7400000000000 THEN ts_instant END' : `CAST(NULL AS ${D.bigint})`} AS instant_ms,
+  ${has.tsLocal ? 'ts_local' : `CAST(NULL AS ${D.bigint})`} AS local_ms
+FROM tm_src${D.fence}`);
+  } else cte('tm_instant', 'the instant (ms since the epoch) of timestamps that name one, or the local ms of those that do not',
     `SELECT ${cols()},
   CASE WHEN fast_ms IS NOT NULL THEN fast_ms
        WHEN ep IS NOT NULL THEN CASE WHEN ${epMs} > -2300000000000 AND ${epMs} < 7400000000000 THEN CAST(floor(${epMs}) AS ${D.bigint}) END

@@ -81,7 +81,8 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       t0 = t;
     };
     const stored = new Set<string>();
-    for (const name of ['tm_ev', ...(prepared.source.has.by ? ['tm_attr'] : []), 'tm_life']) {
+    // the small steps that many queries read are stored too: computed once, not once a query
+    for (const name of ['tm_ev', 'tm_bounds', ...(prepared.source.has.by ? ['tm_attr'] : []), 'tm_life', 'tm_periods', 'tm_span_counts']) {
       await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
       stored.add(name);
       stage(name);
