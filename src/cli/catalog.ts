@@ -114,7 +114,7 @@ export const CATALOG: readonly CatalogEntry[] = [
   {
     name: 'waist',
     term: 'waist [options]',
-    description: 'write the waist: the count tables every analysis reads (manifest.json and CSV tables), for --waist DIR',
+    description: 'write the waist: the count tables every analysis reads (manifest.json and CSV tables, and Parquet copies with --engine duckdb), for --waist DIR',
     load: async () => (await import('./commands/waist.js')).waistCommand,
   },
   {
