@@ -72,8 +72,9 @@ export function fileFormat(file: string, format?: DuckdbFileFormat): DuckdbFileF
   throw new TidemarkError('EVENTS_FORMAT', `cannot tell the format from the extension '${ext}'`, { file }, 'Pass --input-format csv, ndjson or parquet');
 }
 
-function mustExist(file: string): void {
-  if (!existsSync(file) || !statSync(file).isFile()) throw new TidemarkError('FILE_NOT_FOUND', 'cannot read the events file', { file }, 'Check the path given to --events');
+/** A regular file that exists; `flag` is the option that named it (--events, or --db for a database file). */
+function mustExist(file: string, flag = '--events'): void {
+  if (!existsSync(file) || !statSync(file).isFile()) throw new TidemarkError('FILE_NOT_FOUND', flag === '--db' ? 'cannot read the database file' : 'cannot read the events file', { file }, `Check the path given to ${flag}`);
 }
 
 function textStream(file: string): NodeJS.ReadableStream {
@@ -257,7 +258,7 @@ export async function prepareSource(input: DuckdbInput, rules: Rules, db: Source
   let hasEvent = false;
   let files: string[];
   if ('db' in input) {
-    mustExist(input.db);
+    mustExist(input.db, '--db');
     try {
       await db.exec(`ATTACH ${q(input.db)} AS tm_srcdb (READ_ONLY)`);
     } catch (e) {
