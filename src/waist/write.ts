@@ -23,9 +23,9 @@ export function waistFiles(w: Waist): Map<string, string> {
 
 /**
  * Write the waist into folder `dir`, replacing it atomically (a crash leaves the previous waist
- * whole; see output/atomic.ts). `extra`: more files to write with it (the Parquet copies of the
- * tables). Returns the file names written.
+ * whole; see output/atomic.ts). `files`: the waist's files, as {@link waistFiles} gives them, with
+ * any more to write beside them (the Parquet copies of the tables). Returns the file names written.
  */
-export function writeWaist(w: Waist, dir: string, extra: ReadonlyMap<string, Uint8Array> = new Map()): string[] {
-  return replaceFolder(dir, new Map<string, string | Uint8Array>([...waistFiles(w), ...extra]), {}, WAIST_FOLDER);
+export function writeWaist(w: Waist, dir: string, files: ReadonlyMap<string, string | Uint8Array> = waistFiles(w)): string[] {
+  return replaceFolder(dir, files, {}, WAIST_FOLDER);
 }

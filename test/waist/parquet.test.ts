@@ -70,6 +70,13 @@ describe('waist --engine duckdb writes Parquet copies of the tables', () => {
       // counts are whole numbers (BIGINT), everything else text: compared as text, in file order
       const asText = rows.map((r) => r.map((v) => (typeof v === 'bigint' || typeof v === 'number' ? String(v) : v)));
       for (const r of rows) r.forEach((v) => expect(['bigint', 'string']).toContain(typeof v));
+      // a column whose every CSV value is a whole number (counts, ages, flags; no label here is all
+      // digits) is BIGINT in Parquet, every other one text: the writer's list of count columns is complete
+      head.forEach((col, j) => {
+        if (!body.length) return;
+        const whole = body.every((r) => /^[0-9]+$/.test(r[j]));
+        expect(rows.every((r) => typeof r[j] === (whole ? 'bigint' : 'string')), `${f} ${col}`).toBe(true);
+      });
       expect(asText, f).toEqual(body);
       if (body.length) nonEmpty++;
       if (body.some((r) => r.includes('studio, "pro"'))) sawQuoted = true;

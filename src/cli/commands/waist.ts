@@ -23,8 +23,9 @@ export async function runWaist(o: WaistCliOptions, io: Io): Promise<void> {
   if (o.events === undefined && o.db === undefined) throw new TidemarkError('USAGE', 'no event log given', { key: '--events' }, 'For example --events events.csv');
   const { waist } = await waistInput({ ...o, format: 'table' }, { by: o.by, sections: true });
   // CSV always; Parquet copies of the tables too where the engine has a Parquet writer (DuckDB)
-  const parquet = o.engine === 'duckdb' ? await (await import('../../waist/parquet.js')).waistParquetFiles(waistFiles(waist)) : undefined;
-  const files = writeWaist(waist, o.out, parquet);
+  const tables = waistFiles(waist);
+  const parquet = o.engine === 'duckdb' ? await (await import('../../waist/parquet.js')).waistParquetFiles(tables) : new Map<string, Uint8Array>();
+  const files = writeWaist(waist, o.out, new Map<string, string | Uint8Array>([...tables, ...parquet]));
   noteRun(io, o, waist.manifest);
   const s = partialPeriodSentence(waist, undefined, { leaveOut: false, asked: false });
   if (s) note(io, o, `note: ${s.charAt(0).toLowerCase()}${s.slice(1)} The waist keeps it; analyses leave it out unless --include-partial.`);
