@@ -1,6 +1,6 @@
 /**
  * The in-memory engine: columnar event log → active periods (typed-array sort) → classification
- * (tabulated xstate machine) → waist tables (arquero pipeline).
+ * (tabulated xstate machine) → waist tables (typed-array counts, aggregate.ts).
  */
 import { TidemarkError } from '../../errors.js';
 import type { EventLog } from '../../ingest/eventLog.js';
