@@ -40,6 +40,13 @@ interface SliceBuffer extends Buffer {
   utf8Slice(start: number, end: number): string;
 }
 
+/** The first 4 bytes of `b[s, e)` packed little-endian (fewer are zero-filled; with the length, they decide a value of up to 4 bytes). */
+function headOf(b: Uint8Array, s: number, e: number): number {
+  const len = e - s;
+  return len >= 4 ? b[s] | (b[s + 1] << 8) | (b[s + 2] << 16) | (b[s + 3] << 24)
+    : (len > 0 ? b[s] : 0) | (len > 1 ? b[s + 1] << 8 : 0) | (len > 2 ? b[s + 2] << 16 : 0);
+}
+
 export class IdDictionary {
   /** Number of values (codes 0 … size − 1). */
   size = 0;
@@ -56,6 +63,8 @@ export class IdDictionary {
   /** Arena offset and length of each value while there are at most SMALL of them. */
   private readonly smallOff: number[] = [];
   private readonly smallLen: number[] = [];
+  /** Their first 4 bytes packed little-endian (as w0 in a slot). */
+  private readonly smallHead: number[] = [];
   private readonly seed = randomInt(1, 0x7fffffff);
   /** The hash and packed first bytes of the last value looked up (set by {@link probe}). */
   private h = 0;
@@ -107,14 +116,15 @@ export class IdDictionary {
   /** The code of a small dictionary's value `b[s, e)` by scanning its few values, or -1. */
   private small(b: Uint8Array, s: number, e: number): number {
     const len = e - s;
+    const head = headOf(b, s, e);
     const n = this.smallLen.length;
     const arena = this.arena;
     for (let c = 0; c < n; c++) {
-      if (this.smallLen[c] !== len) continue;
+      if (this.smallLen[c] !== len || this.smallHead[c] !== head) continue;
       const o = this.smallOff[c];
-      let i = 0;
+      let i = 4;
       while (i < len && arena[o + i] === b[s + i]) i++;
-      if (i === len) return c;
+      if (i >= len) return c;
     }
     return -1;
   }
@@ -208,6 +218,7 @@ export class IdDictionary {
     if (c < SMALL) {
       this.smallOff.push(this.arenaEnd);
       this.smallLen.push(len);
+      this.smallHead.push(headOf(b, s, e));
     }
     this.arenaEnd += len;
     if (this.size * 2 > this.slots.length >> 3) this.grow();
