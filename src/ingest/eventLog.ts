@@ -378,16 +378,17 @@ export class EventLogBuilder {
   /**
    * Everything read so far, as transferable data, for a reader on another thread that read a later part
    * of the current file: the main builder takes it in with {@link merge}. Lines in it are counted from
-   * the part's first line.
+   * the part's first line. The columns are views on the builder's own arrays: add nothing after this.
    */
   toPartial(): PartialLog {
     const plain = (r: ExtremeRow): PartialExtreme => ({ wallMs: r.wallMs, text: r.text, ref: r.ref });
+    // views, not copies: the worker transfers their buffers (its builder is done with them)
     return {
-      user: this.user.view().slice(),
-      period: this.period.view().slice(),
-      wall: this.wall.view().slice(),
+      user: this.user.view(),
+      period: this.period.view(),
+      wall: this.wall.view(),
       attrNames: [...this.attrNames],
-      attrs: this.attrCodes.map((g) => g.view().slice()),
+      attrs: this.attrCodes.map((g) => g.view()),
       users: this.users.toBytes(),
       attrValues: this.attrDicts.map((d) => d.toBytes()),
       events: this.events.toBytes(),
