@@ -31,7 +31,7 @@ export async function audienceFromEvents(source: EventSource, rules: Rules, rang
   if (source.kind !== 'files') throw new TidemarkError('INPUT_INVALID', `audience lists are read from event files, not a database ${source.kind}`, { key: 'engine' });
   const toKey = optionKey(range.to, { grain: rules.grain, weekStart: rules.weekStart }, 'to');
   const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter });
-  const run = runOnLog(log, rules, range);
+  const run = await runOnLog(log, rules, range);
   const { waist, dropped } = analysisWaist(run.waist, { includePartial: q.includePartial });
   const lastOffset = run.range.span - 1 - (dropped ? 1 : 0);
   const list = audienceOf(log, run, { ...q, lastOffset, leftOut: dropped?.label });

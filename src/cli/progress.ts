@@ -2,7 +2,7 @@
  * Progress on standard error, shown only when it is a terminal and the output is not JSON
  * (cli-progress prints nothing on a non-TTY by default, which keeps CI logs and pipes clean).
  */
-import cliProgress from 'cli-progress';
+import { createRequire } from 'node:module';
 import type { EngineProgress } from '../engines/memory/index.js';
 import type { Io } from './io.js';
 
@@ -11,10 +11,14 @@ export interface Progress {
   stop(): void;
 }
 
+/** cli-progress (CommonJS), loaded only when a bar is drawn: a run whose standard error is not a terminal never loads it. */
+const loadBars = (): typeof import('cli-progress') => createRequire(import.meta.url)('cli-progress');
+
 const NONE: Progress = { step() {}, stop() {} };
 
 export function progress(io: Io, enabled: boolean, total: number): Progress {
   if (!enabled || !io.stderrIsTTY) return NONE;
+  const cliProgress = loadBars();
   const bar = new cliProgress.SingleBar(
     { format: 'tidemark {bar} {percentage}% {label}', hideCursor: true, clearOnComplete: true, stream: process.stderr },
     cliProgress.Presets.shades_classic,
@@ -41,6 +45,7 @@ const mb = (n: number) => `${(n / 1e6).toFixed(n < 1e7 ? 1 : 0)} MB`;
  */
 export function runProgress(io: Io, enabled: boolean): RunProgress {
   if (!enabled || !io.stderrIsTTY) return { stop() {} };
+  const cliProgress = loadBars();
   const t0 = Date.now();
   const secs = () => `${((Date.now() - t0) / 1000).toFixed(1)} s`;
   let text = '';

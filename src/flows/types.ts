@@ -1,7 +1,7 @@
 /**
  * The narrow waist: small count tables that every analysis reads.
  *
- * Any engine (in-memory arquero, DuckDB, warehouse SQL) that produces these tables feeds every
+ * Any engine (the in-memory engine, DuckDB, warehouse SQL) that produces these tables feeds every
  * analysis. Sizes are states² × periods plus small cohort tables; no per-user rows cross this line.
  *
  * Conventions: periods are labelled by their start date `YYYY-MM-DD` in the rules' time zone;

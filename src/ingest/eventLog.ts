@@ -350,7 +350,7 @@ export class EventLogBuilder {
     }
     if (event >= 0) {
       const es = starts[event], ee = ends[event];
-      const ev = this.countEvent(this.events.codeBytes(b, es, ee, utf8Text));
+      const ev = this.countEvent(this.events.codeBytes(b, es, ee));
       if (this.keyEvents) {
         if (es === ee) return this.reject('missing event name', file, line, this.opts.rules.columns.event, '', undefined, lines);
         if (!this.eventIsKey[ev]) return this.notKey(lines);
@@ -365,29 +365,30 @@ export class EventLogBuilder {
     }
     this.rows.used++;
     if (this.extremes.wants(wall)) this.extremes.add(wall, tsText ?? utf8Text(b, ts0, ts1), file, line, this.lineOf);
-    this.user.push(known >= 0 ? known : this.users.codeBytes(b, us, ue, utf8Text));
+    this.user.push(known >= 0 ? known : this.users.codeBytes(b, us, ue));
     this.period.push(key);
     this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {
       const pos = this.slots[a];
       const f = pos >= 0 ? attrFields[pos] : -1;
-      this.attrCodes[a].push(f >= 0 ? this.attrDicts[a].codeBytes(b, starts[f], ends[f], utf8Text) : 0);
+      this.attrCodes[a].push(f >= 0 ? this.attrDicts[a].codeBytes(b, starts[f], ends[f]) : 0);
     }
   }
 
   /**
    * Everything read so far, as transferable data, for a reader on another thread that read a later part
    * of the current file: the main builder takes it in with {@link merge}. Lines in it are counted from
-   * the part's first line.
+   * the part's first line. The columns are views on the builder's own arrays: add nothing after this.
    */
   toPartial(): PartialLog {
     const plain = (r: ExtremeRow): PartialExtreme => ({ wallMs: r.wallMs, text: r.text, ref: r.ref });
+    // views, not copies: the worker transfers their buffers (its builder is done with them)
     return {
-      user: this.user.view().slice(),
-      period: this.period.view().slice(),
-      wall: this.wall.view().slice(),
+      user: this.user.view(),
+      period: this.period.view(),
+      wall: this.wall.view(),
       attrNames: [...this.attrNames],
-      attrs: this.attrCodes.map((g) => g.view().slice()),
+      attrs: this.attrCodes.map((g) => g.view()),
       users: this.users.toBytes(),
       attrValues: this.attrDicts.map((d) => d.toBytes()),
       events: this.events.toBytes(),
@@ -404,7 +405,7 @@ export class EventLogBuilder {
    * in the part get the next codes in the part's order), lines become file lines, accounts add up.
    */
   merge(p: PartialLog, file: string, lineOffset: number): void {
-    const userMap = this.users.merge(p.users, utf8Text);
+    const userMap = this.users.merge(p.users);
     const n = p.user.length;
     this.user.pushMapped(p.user, userMap);
     this.period.pushAll(p.period);
@@ -412,9 +413,9 @@ export class EventLogBuilder {
     for (let a = 0; a < this.attrNames.length; a++) {
       const j = p.attrNames.indexOf(this.attrNames[a]);
       if (j < 0) this.attrCodes[a].pushRepeated(0, n);
-      else this.attrCodes[a].pushMapped(p.attrs[j], this.attrDicts[a].merge(p.attrValues[j], utf8Text));
+      else this.attrCodes[a].pushMapped(p.attrs[j], this.attrDicts[a].merge(p.attrValues[j]));
     }
-    const evMap = this.events.merge(p.events, utf8Text);
+    const evMap = this.events.merge(p.events);
     for (let c = 0; c < evMap.length; c++) {
       this.countEvent(evMap[c]);
       this.eventRows[evMap[c]] += p.eventRows[c] - 1;

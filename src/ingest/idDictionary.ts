@@ -13,7 +13,12 @@
  * multiplicative byte hash with a per-run random seed, so no crafted set of ids can make the probes
  * long on purpose. A dictionary built elsewhere (a worker thread's share of a file) is merged through
  * {@link DictionaryBytes}: its values' bytes in code order.
+ *
+ * Values found by their bytes are decoded to strings only when {@link IdDictionary.values} is read, all
+ * the new ones at once (ASCII values as pieces of one string made from the arena): a worker thread's
+ * dictionary, sent back as bytes, never makes a string, and the reader makes none per new id.
  */
+import { isAscii } from 'node:buffer';
 import { randomInt } from 'node:crypto';
 import { ownCopy } from './growable.js';
 
@@ -29,15 +34,37 @@ const SMALL = 8;
 /** Int32s a slot: hash, code, arena offset, length, and the first 16 bytes packed little-endian. */
 const SLOT = 8;
 
+/** Decoding access to a Buffer's bytes (node's own methods, which take no range check object). */
+interface SliceBuffer extends Buffer {
+  latin1Slice(start: number, end: number): string;
+  utf8Slice(start: number, end: number): string;
+}
+
+/** The first 4 bytes of `b[s, e)` packed little-endian (fewer are zero-filled; with the length, they decide a value of up to 4 bytes). */
+function headOf(b: Uint8Array, s: number, e: number): number {
+  const len = e - s;
+  return len >= 4 ? b[s] | (b[s + 1] << 8) | (b[s + 2] << 16) | (b[s + 3] << 24)
+    : (len > 0 ? b[s] : 0) | (len > 1 ? b[s + 1] << 8 : 0) | (len > 2 ? b[s + 2] << 16 : 0);
+}
+
 export class IdDictionary {
-  /** The values, by code. */
-  readonly values: string[] = [];
+  /** Number of values (codes 0 … size − 1). */
+  size = 0;
+  /** Texts of codes 0 … decoded − 1; the rest are decoded from the arena when {@link values} is read. */
+  private readonly texts: string[] = [];
+  private decoded = 0;
+  /** Arena offset where the value of code `decoded` starts. */
+  private decodedEnd = 0;
+  /** Byte length of each value, by code (the arena holds the values in code order). */
+  private lens = new Int32Array(1024);
   private slots = new Int32Array(SLOT * 1024).fill(-1);
   private arena = new Uint8Array(1 << 16);
   private arenaEnd = 0;
   /** Arena offset and length of each value while there are at most SMALL of them. */
   private readonly smallOff: number[] = [];
   private readonly smallLen: number[] = [];
+  /** Their first 4 bytes packed little-endian (as w0 in a slot). */
+  private readonly smallHead: number[] = [];
   private readonly seed = randomInt(1, 0x7fffffff);
   /** The hash and packed first bytes of the last value looked up (set by {@link probe}). */
   private h = 0;
@@ -89,36 +116,61 @@ export class IdDictionary {
   /** The code of a small dictionary's value `b[s, e)` by scanning its few values, or -1. */
   private small(b: Uint8Array, s: number, e: number): number {
     const len = e - s;
+    const head = headOf(b, s, e);
     const n = this.smallLen.length;
     const arena = this.arena;
     for (let c = 0; c < n; c++) {
-      if (this.smallLen[c] !== len) continue;
+      if (this.smallLen[c] !== len || this.smallHead[c] !== head) continue;
       const o = this.smallOff[c];
-      let i = 0;
+      let i = 4;
       while (i < len && arena[o + i] === b[s + i]) i++;
-      if (i === len) return c;
+      if (i >= len) return c;
     }
     return -1;
   }
 
+  /** The values, by code (decoded here, on first reading, for values found by their bytes). */
+  get values(): string[] {
+    if (this.decoded < this.size) this.decodeRest();
+    return this.texts;
+  }
+
+  /** Decode the values not decoded yet from the arena: one latin1 string cut in pieces when they are ASCII, else each as UTF-8. */
+  private decodeRest(): void {
+    const off = this.decodedEnd;
+    const buf = Buffer.from(this.arena.buffer, this.arena.byteOffset, this.arenaEnd) as SliceBuffer;
+    const ascii = isAscii(buf.subarray(off, this.arenaEnd));
+    const all = ascii ? buf.latin1Slice(off, this.arenaEnd) : '';
+    let at = 0;
+    for (let c = this.decoded; c < this.size; c++) {
+      const len = this.lens[c];
+      // pieces of `all` may share its storage: it holds these values and nothing else
+      this.texts.push(ascii ? all.substring(at, at + len) : buf.utf8Slice(off + at, off + at + len));
+      at += len;
+    }
+    this.decoded = this.size;
+    this.decodedEnd = this.arenaEnd;
+  }
+
   /** The code of the value whose UTF-8 bytes are `b[s, e)`, or -1 when it has none yet. */
   find(b: Uint8Array, s: number, e: number): number {
-    if (this.values.length <= SMALL) return this.small(b, s, e);
+    if (this.size <= SMALL) return this.small(b, s, e);
     return this.slots[(this.probe(b, s, e) << 3) + 1];
   }
 
   /**
    * The code of the value whose UTF-8 bytes are `b[s, e)` (well-formed UTF-8); a new value gets the next
-   * code and its text from `text(b, s, e)`, called only then.
+   * code. Its text is `text(b, s, e)` when given (called only for a new value), else the bytes decoded
+   * as UTF-8 when {@link values} is read.
    */
-  codeBytes(b: Uint8Array, s: number, e: number, text: (b: Uint8Array, s: number, e: number) => string): number {
-    if (this.values.length <= SMALL) {
+  codeBytes(b: Uint8Array, s: number, e: number, text?: (b: Uint8Array, s: number, e: number) => string): number {
+    if (this.size <= SMALL) {
       const c = this.small(b, s, e);
       if (c >= 0) return c;
     }
     const at = this.probe(b, s, e);
     const found = this.slots[(at << 3) + 1];
-    return found >= 0 ? found : this.insert(at, b, s, e, text(b, s, e));
+    return found >= 0 ? found : this.insert(at, b, s, e, text?.(b, s, e));
   }
 
   /**
@@ -132,11 +184,21 @@ export class IdDictionary {
     return found >= 0 ? found : this.insert(at, bytes, 0, bytes.length, id);
   }
 
-  /** Store a new value in the empty slot `at` found by the last {@link probe} of it. */
-  private insert(at: number, b: Uint8Array, s: number, e: number, text: string): number {
+  /** Store a new value in the empty slot `at` found by the last {@link probe} of it; `text` is its text when known. */
+  private insert(at: number, b: Uint8Array, s: number, e: number, text?: string): number {
     const len = e - s;
-    const c = this.values.length;
-    this.values.push(ownCopy(text));
+    const c = this.size++;
+    if (text !== undefined && this.decoded === c) {
+      this.texts.push(ownCopy(text));
+      this.decoded++;
+      this.decodedEnd += len;
+    }
+    if (c === this.lens.length) {
+      const lens = new Int32Array(c * 2);
+      lens.set(this.lens);
+      this.lens = lens;
+    }
+    this.lens[c] = len;
     if (this.arenaEnd + len > this.arena.length) {
       const bigger = new Uint8Array(Math.max(this.arena.length * 2, this.arenaEnd + len));
       bigger.set(this.arena.subarray(0, this.arenaEnd));
@@ -156,9 +218,10 @@ export class IdDictionary {
     if (c < SMALL) {
       this.smallOff.push(this.arenaEnd);
       this.smallLen.push(len);
+      this.smallHead.push(headOf(b, s, e));
     }
     this.arenaEnd += len;
-    if (this.values.length * 2 > this.slots.length >> 3) this.grow();
+    if (this.size * 2 > this.slots.length >> 3) this.grow();
     return c;
   }
 
@@ -170,20 +233,19 @@ export class IdDictionary {
       if (old[i + 1] < 0) continue;
       let at = old[i] & mask;
       while (slots[(at << 3) + 1] >= 0) at = (at + 1) & mask;
-      slots.set(old.subarray(i, i + SLOT), at << 3);
+      const k = at << 3;
+      for (let j = 0; j < SLOT; j++) slots[k + j] = old[i + j];
     }
     this.slots = slots;
   }
 
   /** The values' bytes in code order (copies), to send to another thread. */
   toBytes(): DictionaryBytes {
-    const n = this.values.length;
+    const n = this.size;
     const start = new Int32Array(n + 1);
     const arena = new Uint8Array(this.arenaEnd);
-    const slots = this.slots;
     // the arena holds values in code order already (each new value is appended), so offsets follow from lengths
-    for (let k = 0; k < slots.length; k += SLOT) if (slots[k + 1] >= 0) start[slots[k + 1] + 1] = slots[k + 3];
-    for (let c = 0; c < n; c++) start[c + 1] += start[c];
+    for (let c = 0; c < n; c++) start[c + 1] = start[c] + this.lens[c];
     arena.set(this.arena.subarray(0, this.arenaEnd));
     return { arena, start };
   }
@@ -193,7 +255,7 @@ export class IdDictionary {
    * next codes in that order (so merging the dictionaries of a file's consecutive parts gives the codes
    * one reader would have given).
    */
-  merge(other: DictionaryBytes, text: (b: Uint8Array, s: number, e: number) => string): Int32Array {
+  merge(other: DictionaryBytes, text?: (b: Uint8Array, s: number, e: number) => string): Int32Array {
     const n = other.start.length - 1;
     const map = new Int32Array(n);
     for (let c = 0; c < n; c++) map[c] = this.codeBytes(other.arena, other.start[c], other.start[c + 1], text);

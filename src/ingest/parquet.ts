@@ -50,6 +50,13 @@ const parsers = {
   stringFromBytes: (b: Uint8Array) => (isUtf8(b) ? utf8.decode(b) : new NotUtf8(b)),
 };
 
+/**
+ * The user column's strings are kept as bytes: a known id is found by them (no string, no check), and
+ * only a new id is checked as UTF-8 and decoded (about a third of the read's time was these strings
+ * and their garbage).
+ */
+const userParsers = { ...parsers, stringFromBytes: (b: Uint8Array) => b };
+
 /** How a timestamp column's values become wall-clock ms. */
 type TimeKind = 'instant' | 'local' | 'text' | 'epoch' | 'other';
 
@@ -112,9 +119,11 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
     if (!scalar(t)) throw new TidemarkError('EVENTS_FORMAT', `the ${role} column '${showValue(t.element.name)}' holds lists or records, not one value a row`, { file, column: t.element.name }, `Map a column of plain values with --${role}-column`);
   }
   const kind = timeKind(tsT);
+  // a BYTE_ARRAY user column's values come as bytes (userParsers) where the other columns' come as text
+  const userBytes = userT.element.type === 'BYTE_ARRAY';
   const attrPos = plan.attributePositions.filter((i) => scalar(top[i])).slice(0, MAX_COLUMNS);
   const attrNames = attrPos.map((i) => names[i]);
-  const wanted = [plan.user, plan.timestamp, ...(plan.event >= 0 && scalar(top[plan.event]) ? [plan.event] : []), ...attrPos].map((i) => names[i]);
+  const wanted = [plan.timestamp, ...(plan.event >= 0 && scalar(top[plan.event]) ? [plan.event] : []), ...attrPos].map((i) => names[i]);
   builder.startFile(file, attrNames);
   builder.header(0);
   const attrs = new Array<string>(attrNames.length).fill('');
@@ -127,30 +136,22 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
   for (const rg of meta.row_groups) {
     const rowStart = row, rowEnd = row + Number(rg.num_rows);
     const cols = new Map<string, ArrayLike<unknown>>();
+    // usually one chunk a column covers the row group: used as it is
+    const onChunk = (c: { columnName: string; columnData: unknown; rowStart: number; rowEnd: number }) => {
+      const data = c.columnData as ArrayLike<unknown>;
+      const have = cols.get(c.columnName);
+      if (!have && c.rowStart === rowStart && c.rowEnd >= rowEnd) return void cols.set(c.columnName, data);
+      let arr = have as unknown[] | undefined;
+      if (!arr || !Array.isArray(arr)) {
+        const fresh = new Array<unknown>(rowEnd - rowStart);
+        if (arr) for (let i = 0; i < fresh.length; i++) fresh[i] = (arr as ArrayLike<unknown>)[i];
+        cols.set(c.columnName, (arr = fresh));
+      }
+      for (let i = Math.max(c.rowStart, rowStart); i < Math.min(c.rowEnd, rowEnd); i++) arr[i - rowStart] = data[i - c.rowStart];
+    };
     try {
-      await parquetRead({
-        file: buffer,
-        metadata: meta,
-        columns: wanted,
-        rowStart,
-        rowEnd,
-        utf8: true,
-        parsers,
-        compressors,
-        onChunk: (c) => {
-          const data = c.columnData as ArrayLike<unknown>;
-          const have = cols.get(c.columnName);
-          // usually one chunk a column covers the row group: used as it is
-          if (!have && c.rowStart === rowStart && c.rowEnd >= rowEnd) return void cols.set(c.columnName, data);
-          let arr = have as unknown[] | undefined;
-          if (!arr || !Array.isArray(arr)) {
-            const fresh = new Array<unknown>(rowEnd - rowStart);
-            if (arr) for (let i = 0; i < fresh.length; i++) fresh[i] = (arr as ArrayLike<unknown>)[i];
-            cols.set(c.columnName, (arr = fresh));
-          }
-          for (let i = Math.max(c.rowStart, rowStart); i < Math.min(c.rowEnd, rowEnd); i++) arr[i - rowStart] = data[i - c.rowStart];
-        },
-      });
+      await parquetRead({ file: buffer, metadata: meta, columns: [names[plan.user]], rowStart, rowEnd, utf8: true, parsers: userParsers, compressors, onChunk });
+      await parquetRead({ file: buffer, metadata: meta, columns: wanted, rowStart, rowEnd, utf8: true, parsers, compressors, onChunk });
     } catch (err) {
       throw new TidemarkError('EVENTS_FORMAT', `the Parquet data of rows ${(rowStart + 1).toLocaleString('en-US')}–${rowEnd.toLocaleString('en-US')} cannot be read (${showValue((err as Error)?.message ?? err, 120)})`, { file },
         'Check the file, or export it again (tidemark reads Snappy, gzip, zstd, Brotli and LZ4 compression)');
@@ -159,14 +160,21 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
     const av = attrNames.map((n) => cols.get(n)!);
     for (let i = 0; i < rowEnd - rowStart; i++) {
       const line = rowStart + i + 1;
-      const uv = u[i], tv = t[i], evv = ev?.[i];
+      let uv = u[i];
+      const tv = t[i], evv = ev?.[i];
+      // a string id as bytes: its code when known, else its text (or NotUtf8)
+      let byBytes = -1;
+      if (userBytes && uv instanceof Uint8Array) {
+        byBytes = builder.knownUser(uv, 0, uv.length);
+        if (byBytes < 0) uv = parsers.stringFromBytes(uv);
+      }
       let bad = uv instanceof NotUtf8 || tv instanceof NotUtf8 || evv instanceof NotUtf8;
       for (let a = 0; a < av.length && !bad; a++) bad = av[a][i] instanceof NotUtf8;
       if (bad) {
         builder.reject('invalid UTF-8', file, line, undefined, undefined, 'A string value is not UTF-8 (values are never guessed): export the file again with UTF-8 strings, or pass --skip-bad-rows');
         continue;
       }
-      const id = typeof uv === 'string' ? uv : idOf(uv);
+      const id = byBytes >= 0 ? '' : typeof uv === 'string' ? uv : idOf(uv);
       if (typeof id !== 'string') {
         builder.reject('bad user id', file, line, columns.user, id.shown, id.problem);
         continue;
@@ -175,7 +183,7 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
         const v = av[a][i];
         attrs[a] = typeof v === 'string' ? v : textOf(v) ?? '';
       }
-      const known = users.get(id);
+      const known = byBytes >= 0 ? byBytes : users.get(id);
       const event = typeof evv === 'string' ? evv : textOf(evv);
       if (kind === 'text' || typeof tv === 'string') builder.add(file, line, known ?? id, typeof tv === 'string' ? tv : '', event, attrs);
       else {
@@ -184,7 +192,7 @@ export async function readParquet(file: string, builder: EventLogBuilder, column
         shownTs = tv;
         builder.addTimed(file, line, known ?? id, wall, tsText, event, attrs);
       }
-      if (known === undefined && id !== '') {
+      if (known === undefined && id !== '' && !(userBytes && u[i] instanceof Uint8Array)) {
         const c = builder.userCodeOf(id);
         if (c >= 0) users.set(id, c);
       }

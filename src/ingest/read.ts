@@ -13,7 +13,6 @@ import { EventLogBuilder, type EventLog } from './eventLog.js';
 import { DEFAULT_LIMITS, type ScanLimits } from './limits.js';
 import { readNdjson } from './ndjson.js';
 import { twoThreadSplit } from './parallel.js';
-import { readParquet } from './parquet.js';
 
 export type EventFormat = 'csv' | 'ndjson' | 'parquet';
 
@@ -84,7 +83,8 @@ export async function readEvents(files: string[], opts: ReadEventsOptions): Prom
     const fmt = formatOf(file, opts.format);
     const onBytes = opts.onProgress ? (n: number) => opts.onProgress!({ file, bytes: (bytes += n), total }) : undefined;
     if (fmt === 'csv') await readCsv(file, builder, opts.rules.columns, needEvent, opts.delimiter ?? ',', limits, split, onBytes);
-    else if (fmt === 'parquet') await readParquet(file, builder, opts.rules.columns, needEvent, onBytes);
+    // hyparquet is loaded only for a Parquet file (about 0.1–0.2 s of start-up otherwise)
+    else if (fmt === 'parquet') await (await import('./parquet.js')).readParquet(file, builder, opts.rules.columns, needEvent, onBytes);
     else await readNdjson(file, builder, opts.rules.columns, limits, onBytes);
   }
   const log = builder.build();

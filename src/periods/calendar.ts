@@ -8,7 +8,7 @@
  */
 import { DateTime } from 'luxon';
 import type { Grain, Weekday } from '../rules/schema.js';
-import { WEEKDAYS } from '../rules/schema.js';
+import { WEEKDAYS } from './weekdays.js';
 
 /** The word for one period of a grain ('week'); 'one-week' style adjectives are built from it. */
 export const GRAIN_NOUN = { day: 'day', week: 'week', month: 'month' } as const;

@@ -7,9 +7,10 @@
 import { z } from 'zod';
 import { IANAZone } from 'luxon';
 import { SPLITTABLE, STATES } from '../lifecycle/states.js';
+import { WEEKDAYS } from '../periods/weekdays.js';
 
 export const GRAINS = ['day', 'week', 'month'] as const;
-export const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday'] as const;
+export { WEEKDAYS };
 
 export type Grain = (typeof GRAINS)[number];
 export type Weekday = (typeof WEEKDAYS)[number];

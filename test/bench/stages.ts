@@ -45,7 +45,7 @@ async function reportScaling(dir: string): Promise<void> {
     writeFileSync(file, ['user_id,timestamp,event', ...bulk, `m3,${new Date(end - P * 604_800_000).toISOString()},booking_made`].join('\n'));
     const log = await readEvents([file], { rules });
     const t = performance.now();
-    const model = buildReport(runOnLog(log, rules).waist);
+    const model = buildReport((await runOnLog(log, rules)).waist);
     await writeReport(model, join(dir, `report-${P}`), 'bench');
     const took = (performance.now() - t) / 1000;
     console.log(`report over ${P.toLocaleString('en-US').padStart(5)} weeks  ${took.toFixed(2)} s${before ? `  (×${(took / before).toFixed(1)} for ×2 periods)` : ''}`);
@@ -104,7 +104,7 @@ try {
   const log = await readEvents([file], { rules });
   const cpuRead = process.cpuUsage(cpu0);
   const t1 = performance.now();
-  const logRun = runOnLog(log, rules);
+  const logRun = await runOnLog(log, rules);
   const { waist, classified, footprint } = logRun;
   const result = { waist: waist.tables };
   const t2 = performance.now();

@@ -22,12 +22,12 @@ describe('the in-memory engine refuses a range too large for its memory budget',
   it('when an outlying year stretches a daily range over a century then it says what it needs and names the rows', async () => {
     const { rules, log } = await strayLog();
     // 25 users × 36,530 days ≈ 913k rows: about 40 MB; a budget of 10 MB refuses it
-    expect(() => runOnLog(log, rules, {}, { budget: 10_000_000 })).toThrow(/^classifying 1926-01-01 to 2026-01-05 \(36,530 days, 45 users\) needs about \d+ MB, more than the 10 MB memory budget; the earliest row is .*e\.csv:2 '1926-01-01T00:00:00Z' and the latest .*e\.csv:\d+ '2026-01-05T10:00:00Z'$/);
+    await expect(runOnLog(log, rules, {}, { budget: 10_000_000 })).rejects.toThrow(/^classifying 1926-01-01 to 2026-01-05 \(36,530 days, 45 users\) needs about \d+ MB, more than the 10 MB memory budget; the earliest row is .*e\.csv:2 '1926-01-01T00:00:00Z' and the latest .*e\.csv:\d+ '2026-01-05T10:00:00Z'$/);
   });
 
   it('when narrowed with --from the same log fits: history before --from is crossed, not stored', async () => {
     const { rules, log } = await strayLog();
-    const run = runOnLog(log, rules, { from: '2025-12-01' }, { budget: 10_000_000 });
+    const run = await runOnLog(log, rules, { from: '2025-12-01' }, { budget: 10_000_000 });
     expect(run.waist.tables.periods[0]).toBe('2025-12-01');
     // the 1926 members are dormant from 1926-01-09 (eight quiet days) and stay so
     expect(run.waist.tables.stateCounts[0]).toEqual([0, 0, 0, 0, 25]);

@@ -31,8 +31,8 @@ async function logOf(rows: [string, string][]) {
 }
 
 /** What an analysis reads: left out unless `keep`; `leftOut` says whether it was. */
-function analysed(log: EventLog, range: RangeOptions = {}, keep = false) {
-  const full = runOnLog(log, rules, range).waist;
+async function analysed(log: EventLog, range: RangeOptions = {}, keep = false) {
+  const full = (await runOnLog(log, rules, range)).waist;
   const { waist, dropped } = analysisWaist(full, { includePartial: keep });
   return { waist: waist.tables, rows: waist.manifest.rows as unknown as RowAccount, users: waist.manifest.users, lastPeriod: { ...full.manifest.lastPeriod, leftOut: dropped !== undefined } };
 }
@@ -54,9 +54,9 @@ describe('leaving out an incomplete last period', () => {
         // the range runs from week 0 to week W, and without week W to week W − 1
         rows.push(['anchor', at(0, 0)], ['anchor', at(W - 1, 6, 20)], ['anchor', at(W, 0, 0)]);
         const dropped = await logOf(rows);
-        const r = analysed(dropped);
+        const r = await analysed(dropped);
         const inLast = rows.filter(([, t]) => t >= at(W, 0, 0)).length;
-        const without = analysed(await logOf(rows.filter(([, t]) => t < at(W, 0, 0))), {}, true);
+        const without = await analysed(await logOf(rows.filter(([, t]) => t < at(W, 0, 0))), {}, true);
         expect(r.lastPeriod).toMatchObject({ label: at(W, 0, 0).slice(0, 10), complete: false, leftOut: true });
         expect(r.waist).toEqual(without.waist);
         expect(r.users).toBe(without.users);
@@ -70,7 +70,7 @@ describe('leaving out an incomplete last period', () => {
 
   it('keeps it when asked, and then says it is incomplete', async () => {
     const log = await logOf([['a', at(0, 2)], ['a', at(1, 2)], ['b', at(2, 3)], ['a', at(3, 0)]]);
-    const r = analysed(log, {}, true);
+    const r = await analysed(log, {}, true);
     expect(r.lastPeriod).toMatchObject({ label: '2026-05-25', complete: false, leftOut: false });
     expect(r.waist.periods).toHaveLength(4);
     expect(r.rows).toMatchObject({ read: 4, used: 4, partial: 0 });
@@ -78,7 +78,7 @@ describe('leaving out an incomplete last period', () => {
 
   it('a last period with an event in its last seventh is complete and stays', async () => {
     const log = await logOf([['a', at(0, 2)], ['a', at(1, 2)], ['b', at(2, 3)], ['a', at(3, 6, 12)]]);
-    const r = analysed(log);
+    const r = await analysed(log);
     expect(r.lastPeriod).toMatchObject({ complete: true, leftOut: false });
     expect(r.waist.periods).toHaveLength(4);
   });
@@ -91,7 +91,7 @@ describe('leaving out an incomplete last period', () => {
     const toKey = 2942; // the week of 2026-05-18: floor((20591 + 3) / 7), 2026-05-18 being day 20591
     const log = await readEvents([f], { rules, toKey });
     expect(log.rows.afterRange).toBe(2);
-    const r = analysed(log, { to: '2026-05-18' });
+    const r = await analysed(log, { to: '2026-05-18' });
     expect(r.lastPeriod).toMatchObject({ label: '2026-05-18', complete: true, leftOut: false });
     expect(r.waist.periods).toEqual(['2026-05-04', '2026-05-11', '2026-05-18']);
     expect(balanced(r.rows)).toBe(true);
@@ -99,10 +99,10 @@ describe('leaving out an incomplete last period', () => {
 
   it('is kept when leaving it out would leave fewer than two periods, or none past the warm-up', async () => {
     const two = await logOf([['a', at(0, 2)], ['a', at(1, 0)]]);
-    expect(analysed(two).lastPeriod).toMatchObject({ complete: false, leftOut: false });
+    expect((await analysed(two)).lastPeriod).toMatchObject({ complete: false, leftOut: false });
     const three = await logOf([['a', at(0, 2)], ['a', at(1, 2)], ['a', at(2, 0)]]);
-    expect(analysed(three).lastPeriod.leftOut).toBe(true);
-    const warm = analysed(three, { warmup: 2 });
+    expect((await analysed(three)).lastPeriod.leftOut).toBe(true);
+    const warm = await analysed(three, { warmup: 2 });
     expect(warm.lastPeriod.leftOut).toBe(false);
     expect(warm.rows.partial).toBe(0);
   });

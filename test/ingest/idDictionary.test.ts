@@ -26,6 +26,26 @@ describe('IdDictionary', () => {
     );
   });
 
+  it('values found by their bytes are decoded when read, ASCII or not, whenever values is read (fast-check; a string-keyed Map is the reference)', () => {
+    const id = fc.oneof(fc.constantFrom('', 'José', '🛠', 'a'.repeat(40)), fc.nat(2000).map((n) => `u${n}`), fc.nat(50).map((n) => `réservation-${n}`));
+    fc.assert(
+      fc.property(fc.array(fc.tuple(id, fc.nat(3)), { maxLength: 2000 }), (ops) => {
+        const d = new IdDictionary();
+        const ref = new Map<string, number>();
+        for (const [s, how] of ops) {
+          const b = Buffer.from(`"${s}"`);
+          const got = how === 0 ? d.code(s) : d.codeBytes(b, 1, b.length - 1); // strings and bytes mixed
+          if (!ref.has(s)) ref.set(s, ref.size);
+          expect(got).toBe(ref.get(s));
+          if (how === 3) expect(d.values[got]).toBe(s); // read midway: earlier byte-found values decoded here
+        }
+        expect(d.values).toEqual([...ref.keys()]);
+        expect(d.size).toBe(ref.size);
+      }),
+      { seed: 67, numRuns: 60 },
+    );
+  });
+
   it('"José" precomposed and decomposed are two ids (bytes, not normalised text)', () => {
     const d = new IdDictionary();
     expect(d.code('Jos\u00e9')).not.toBe(d.code('Jose\u0301'));

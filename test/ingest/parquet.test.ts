@@ -84,6 +84,23 @@ describe('Parquet written by DuckDB', () => {
     await expect(readEvents([dbl], { rules })).rejects.toMatchObject({ code: 'EVENTS_BAD_ROW', message: "bad user id: '1.5'" });
   });
 
+  it('string ids found by their bytes across row groups: non-ASCII ids, blank and null ids, and bytes that are not UTF-8 (RFC 3629) are told apart', async () => {
+    // ids as BLOB (BYTE_ARRAY with no string annotation, read as text like a string column): row i has
+    // 'José' (i % 5 = 0), the bytes FF FE, never UTF-8 (1), '' (2), NULL (3) or m0 … m6 (4)
+    const pq = join(t.dir, 'ids.parquet');
+    await db.run(`COPY (SELECT CASE i % 5 WHEN 0 THEN encode('José') WHEN 1 THEN '\\xFF\\xFE'::BLOB WHEN 2 THEN ''::BLOB WHEN 3 THEN NULL ELSE encode('m' || (i % 7)) END AS user_id,
+      TIMESTAMPTZ '2026-03-02 10:00:00+00' + to_seconds(i) AS timestamp FROM range(3000) r(i)) TO '${pq}' (FORMAT parquet, ROW_GROUP_SIZE 1024)`);
+    const log = await readEvents([pq], { rules, skipBadRows: true });
+    // the expected rows, worked out here from the rule above
+    const want: string[] = [];
+    for (let i = 0; i < 3000; i++) if (i % 5 === 0 || i % 5 === 4) want.push(i % 5 === 0 ? 'José' : `m${i % 7}`);
+    expect(Array.from(log.user, (u) => log.users[u])).toEqual(want);
+    expect(new Set(log.users)).toEqual(new Set(want));
+    expect(log.users.length).toBe(8);
+    expect(log.rows.rejected).toEqual({ 'invalid UTF-8': 600, 'missing user id': 1200 });
+    await expect(readEvents([pq], { rules })).rejects.toMatchObject({ code: 'EVENTS_BAD_ROW', message: 'invalid UTF-8', where: { line: 2 } });
+  });
+
   it('a missing column is named as in a CSV header; a file that is not Parquet is one clear error', async () => {
     const pq = join(t.dir, 'nouser.parquet');
     await db.run(`COPY (SELECT 'm1' AS member, TIMESTAMPTZ '2026-03-02 10:00:00+00' AS timestamp) TO '${pq}' (FORMAT parquet)`);

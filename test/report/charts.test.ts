@@ -133,7 +133,7 @@ describe('the one comparison of the findings', () => {
     const f = join(tempDir(), 'e.csv');
     writeFileSync(f, rows.join('\n'));
     const rules = parseRules('grain: week\nlapseLimit: 1\n');
-    const { waist } = runOnLog(await readEvents([f], { rules }), rules);
+    const { waist } = await runOnLog(await readEvents([f], { rules }), rules);
     return buildReport(waist, o);
   }
 

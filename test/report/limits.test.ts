@@ -21,7 +21,7 @@ describe('the report over many periods', () => {
     const f = join(tempDir(), 'e.csv');
     writeFileSync(f, rows.join('\n'));
     const rules = parseRules('grain: week\nlapseLimit: 2\n');
-    const { waist } = runOnLog(await readEvents([f], { rules }), rules);
+    const { waist } = await runOnLog(await readEvents([f], { rules }), rules);
     const result = { waist: waist.tables };
     expect(result.waist.cohorts).toHaveLength(70);
     const m = buildReport(waist);

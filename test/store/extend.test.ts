@@ -82,7 +82,7 @@ describe('extending by batches of periods equals one run over the whole log', ()
         const rules = rulesOf(v);
         const days = v.grain === 'day' ? 90 : v.grain === 'week' ? 120 : 300;
         const events = bookings(v.seed, 60, days);
-        const full = runOnLog(await logOf(events, rules, 'all.csv'), rules).waist.tables;
+        const full = (await runOnLog(await logOf(events, rules, 'all.csv'), rules)).waist.tables;
         const { ledger } = await fed(batchesByPeriod(events, v.grain, v.sizes), rules);
         expect(firstDiff(ledger.tables, full)).toBeUndefined();
         expect(JSON.stringify(ledger.tables)).toBe(JSON.stringify(full));
@@ -94,7 +94,7 @@ describe('extending by batches of periods equals one run over the whole log', ()
   it('drops a cohort\'s window counts once it is observed over more than 61 ages, as the engine does', async () => {
     const rules = rulesOf({ grain: 'day', lapseLimit: 2, warmup: 0, minEvents: 1, bands: [0], split: false, seed: 7, sizes: [1] });
     const events = bookings(7, 40, 80);
-    const full = runOnLog(await logOf(events, rules, 'all.csv'), rules).waist.tables;
+    const full = (await runOnLog(await logOf(events, rules, 'all.csv'), rules)).waist.tables;
     const { ledger } = await fed(batchesByPeriod(events, 'day', [5, 1]), rules);
     const old = ledger.tables.cohorts.filter((c) => c.active.length - 1 > 61);
     expect(old.length).toBeGreaterThan(0);

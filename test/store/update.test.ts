@@ -39,7 +39,7 @@ function files(batches: Booking[][], prefix: string, mixed = false): string[] {
 }
 
 async function fullWaist(paths: string[], rules: Rules, skipBadRows = false) {
-  return runOnLog(await readEvents(paths, { rules, skipBadRows }), rules).waist;
+  return (await runOnLog(await readEvents(paths, { rules, skipBadRows }), rules)).waist;
 }
 
 const VARIANTS: { name: string; rules: string; grain: 'day' | 'week' | 'month'; days: number; sizes: number[]; mixed?: boolean }[] = [

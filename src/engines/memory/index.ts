@@ -1,6 +1,6 @@
 /**
  * The in-memory engine: columnar event log → active periods (typed-array sort) → classification
- * (tabulated xstate machine) → waist tables (arquero pipeline).
+ * (tabulated xstate machine) → waist tables (typed-array counts, aggregate.ts).
  */
 import { TidemarkError } from '../../errors.js';
 import type { EventLog } from '../../ingest/eventLog.js';
@@ -10,7 +10,7 @@ import { classifiedSize, classify, firstActivePeriods, type Classified } from '.
 import { compilePlan } from '../../lifecycle/plan.js';
 import { lifecycleStates } from '../../lifecycle/states.js';
 import { aggregate, durationRows } from './aggregate.js';
-import { segmentCells, segmentFlows } from './segments.js';
+import { loadArquero, segmentCells, segmentFlows } from './segments.js';
 import { activeAttribute, activeIndex } from './attributes.js';
 import { checkSplitColumn } from '../../lifecycle/perPerson.js';
 import { lastPeriodOf } from '../../ingest/lastPeriod.js';
@@ -43,8 +43,8 @@ export interface LogRun extends EngineRun {
   footprint: Footprint;
 }
 
-/** Run the heavy stage on an event log already in memory. */
-export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, limits: RunLimits = {}): LogRun {
+/** Run the heavy stage on an event log already in memory (async only to load arquero for `--by`). */
+export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, limits: RunLimits = {}): Promise<LogRun> {
   const scheme: PeriodScheme = log.scheme;
   const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
   let minKey = Infinity, maxKey = -Infinity;
@@ -86,15 +86,16 @@ export function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, 
     tenureBands: rules.tenureBands,
   });
   if (range.by) {
+    const aq = await loadArquero();
     const attr = activeAttribute(log, range.by, active);
-    const cells = segmentCells(classified, active, attr, { states: plan.states, activeCount, labels, firstFlow: r.outStart + warmup });
+    const cells = segmentCells(aq, classified, active, attr, { states: plan.states, activeCount, labels, firstFlow: r.outStart + warmup });
     waist.segmentCells = { by: range.by, cells, perPerson: split?.perPerson };
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels), perPerson: split?.perPerson };
     // each user's segment is the value in their first active period, so the segments partition the users
     const segmentOf = new Int32Array(log.users.length);
     for (let u = 0; u < segmentOf.length; u++) if (classified.firstActive[u] >= 0) segmentOf[u] = attr.codes[activeIndex(active, u, classified.firstActive[u])];
-    const segments = segmentFlows(classified, segmentOf, attr.values, { states: plan.states, labels, outStart: r.outStart, firstFlow: r.outStart + warmup, freshCode: plan.states.indexOf(roleName('arrival')) });
+    const segments = segmentFlows(aq, classified, segmentOf, attr.values, { states: plan.states, labels, outStart: r.outStart, firstFlow: r.outStart + warmup, freshCode: plan.states.indexOf(roleName('arrival')) });
     waist.segmentTransitions = { by: range.by, perPerson: split?.perPerson, segments };
   }
   const keySet = rules.activity.keyEvents ? new Set(rules.activity.keyEvents) : undefined;
@@ -169,7 +170,7 @@ export class MemoryEngine implements Engine {
     const tell = this.opts.onProgress;
     const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
     tell?.({ stage: 'classifying' });
-    return { log, run: runOnLog(log, rules, range) };
+    return { log, run: await runOnLog(log, rules, range) };
   }
 
   async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineRun> {

@@ -1,15 +1,24 @@
 /**
  * Retention cells split by an attribute's value in the period retained from, and the flows of each
- * segment of users (arquero group-bys, like the other waist tables).
+ * segment of users (arquero group-bys). arquero is loaded only for a run split by an attribute
+ * (`--by`): loading it takes about 0.3 s, which a plain run should not pay.
  */
-import * as aq from 'arquero';
+import type * as Arquero from 'arquero';
 import type { ActiveAttribute } from './attributes.js';
 import { activeIndex } from './attributes.js';
 import type { ActivePeriods } from '../../lifecycle/activity.js';
 import type { Classified } from '../../lifecycle/classify.js';
 import type { RetentionCell, SegmentFlows, TransitionCounts } from '../../flows/types.js';
 
-export function segmentCells(c: Classified, active: ActivePeriods, attr: ActiveAttribute, o: { states: readonly string[]; activeCount: number; labels: string[]; firstFlow: number }): RetentionCell[] {
+/** The arquero module, for the two functions below. */
+export type Aq = typeof Arquero;
+
+/** Load arquero (dynamic import, cached by Node's module loader). */
+export function loadArquero(): Promise<Aq> {
+  return import('arquero');
+}
+
+export function segmentCells(aq: Aq, c: Classified, active: ActivePeriods, attr: ActiveAttribute, o: { states: readonly string[]; activeCount: number; labels: string[]; firstFlow: number }): RetentionCell[] {
   const V = attr.values.length;
   const S = o.states.length;
   const seg = new Int32Array(c.size).fill(-1);
@@ -50,14 +59,14 @@ export function segmentCells(c: Classified, active: ActivePeriods, attr: ActiveA
  * transitions, on single combined integer keys as in `aggregate.ts`. Segments with no user in the
  * output periods are left out; '' becomes '(none)'.
  */
-export function segmentFlows(c: Classified, segmentOf: Int32Array, values: readonly string[], o: { states: readonly string[]; labels: string[]; outStart: number; firstFlow: number; freshCode: number }): SegmentFlows[] {
+export function segmentFlows(aq: Aq, c: Classified, segmentOf: Int32Array, values: readonly string[], o: { states: readonly string[]; labels: string[]; outStart: number; firstFlow: number; freshCode: number }): SegmentFlows[] {
   const S = o.states.length;
   const span = o.labels.length;
   const P = span - o.outStart;
   const seg = new Int32Array(c.size);
   for (let r = 0; r < c.size; r++) seg[r] = segmentOf[c.user[r]];
   const base = aq.table({ p: c.period, prev: c.prev, s: c.state, g: seg }).params({ S, span, outStart: o.outStart, firstFlow: o.firstFlow });
-  const count = (t: aq.ColumnTable): Map<number, number> => {
+  const count = (t: Arquero.ColumnTable): Map<number, number> => {
     const g = t.groupby('k').count({ as: 'n' });
     const keys = g.array('k') as ArrayLike<number>;
     const ns = g.array('n') as ArrayLike<number>;

@@ -20,7 +20,7 @@ export async function waistWithSections(source: EventSource, rules: Rules, range
   if (source.kind !== 'files') throw new TidemarkError('INPUT_INVALID', 'the behaviour sections need event files', { key: 'engine' });
   const toKey = optionKey(range.to, { grain: rules.grain, weekStart: rules.weekStart }, 'to');
   const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, detail: true });
-  const { waist } = runOnLog(keyEventsOnly(log), rules, range);
+  const { waist } = await runOnLog(keyEventsOnly(log), rules, range);
   const t = userTimelines(log, rules.activity.minEvents);
   const leaveOut = behaviourSections(log, t, observedRange(log, range.from, false), rules);
   const keep = waist.manifest.lastPeriod.complete ? leaveOut : behaviourSections(log, t, observedRange(log, range.from, true), rules);
