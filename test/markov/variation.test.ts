@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { rateVariation } from '../../src/markov/variation.js';
+import { commonShare, MAX_COMMON, rateVariation, type RowVariation } from '../../src/markov/variation.js';
 import { weeks } from './helpers.js';
 
 const labels = weeks(10);
@@ -62,5 +62,27 @@ describe('rateVariation', () => {
     for (let i = 0; i <= 60; i++) for (let k = 0; k <= 60; k++) expect(kalman((0.06 * i) / 60, (0.06 * k) / 60).ll).toBeLessThanOrEqual(fitted.ll + 1e-6);
     // this window alternates: the fit finds noise that does not persist
     expect(v.noise).toBeGreaterThan(0);
+  });
+});
+
+describe('commonShare', () => {
+  const row = (state: string, rates: number[], innovations: { t: number; v: number[]; h: number }[]): RowVariation => ({ state, rates, users: 1000, periods: innovations.length + 1, noise: 0.01, drift: 0, level: 0.001, estimated: true, innovations });
+  const shocks = [0.03, -0.02, 0.04, -0.05, 0.01, 0.02, -0.03];
+  it('rows whose innovations are the same shock give the cap; opposite shocks give 0; one row gives 0', () => {
+    // by hand: identical Pearson-scaled innovations with no binomial part have correlation 1, capped at 0.9
+    const a = row('a', [0.5, 0.5], shocks.map((x, t) => ({ t, v: [x, -x], h: 0 })));
+    const b = row('b', [0.5, 0.5], shocks.map((x, t) => ({ t, v: [x, -x], h: 0 })));
+    const c = row('c', [0.5, 0.5], shocks.map((x, t) => ({ t, v: [-x, x], h: 0 })));
+    expect(commonShare([a, b])).toBe(MAX_COMMON);
+    expect(commonShare([a, c])).toBe(0);
+    expect(commonShare([a])).toBe(0);
+  });
+
+  it('half of each row\'s movement shared: ρ = 0.5 (an independent computation of the correlation)', () => {
+    // row a = s + u, row b = s + w with s, u, w orthogonal and of equal size: correlation ½ (by hand)
+    const s = [1, -1, 1, -1], u = [1, 1, -1, -1], w = [1, -1, -1, 1];
+    const a = row('a', [0.5, 0.5], s.map((x, t) => ({ t, v: [0.01 * (x + u[t]), -0.01 * (x + u[t])], h: 0 })));
+    const b = row('b', [0.5, 0.5], s.map((x, t) => ({ t, v: [0.01 * (x + w[t]), -0.01 * (x + w[t])], h: 0 })));
+    expect(commonShare([a, b])).toBeCloseTo(0.5, 12);
   });
 });
