@@ -31,7 +31,7 @@ import { estimateInflow, inflowAt, type InflowMethod } from './inflow.js';
 import { projectVarying } from './project.js';
 import { pathPercentiles, simulatePaths } from './simulate.js';
 import type { Vector } from './types.js';
-import { rateVariation } from './variation.js';
+import { commonShare, rateVariation } from './variation.js';
 
 export interface BacktestOptions {
   /** Steps ahead H (default 8). */
@@ -154,7 +154,8 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
     const inflow = estimateInflow(win.map((t) => t.fresh), win.map((t) => t.to), options.inflowMethod);
     const split = states.map((_, i) => (i === fi ? 1 : 0));
     const point = projectVarying(fit.matrix, fit.start, (h) => split.map((f) => f * inflowAt(inflow, h)), steps);
-    const sim = simulatePaths({ rows: rateVariation(win, states), inflow, split }, fit.start, steps, { samples, seed: (seed + k) % 2 ** 32 });
+    const rows = rateVariation(win, states);
+    const sim = simulatePaths({ rows, inflow, split, common: commonShare(rows) }, fit.start, steps, { samples, seed: (seed + k) % 2 ** 32 });
     const q = states.map((_, s) => pathPercentiles(sim, levels, (c, b) => shareAt(c, b, S, s)));
     // baselines: root mean square of one-period (and one-season) changes of each share over the window
     const first = periodAt.get(transitions[lo].from) ?? 0;

@@ -9,7 +9,7 @@ import { estimateInflow, inflowAt, type InflowEstimate, type InflowMethod } from
 import { projectVarying } from './project.js';
 import type { PathModel } from './simulate.js';
 import type { Matrix, Projection, Vector } from './types.js';
-import { rateVariation, type RowVariation } from './variation.js';
+import { commonShare, rateVariation, type RowVariation } from './variation.js';
 
 export interface Forecast {
   matrix: Matrix;
@@ -39,5 +39,5 @@ export function forecastWindow(states: string[], window: readonly TransitionCoun
   const split = states.map((_, i) => (i === fi ? 1 : 0));
   const point = projectVarying(matrix, start, (h) => split.map((f) => f * inflowAt(inflow, h)), horizon);
   const variation = rateVariation(window, states);
-  return { matrix, counts, emptyRows, inflow, inflowVector: split.map((f) => f * inflowAt(inflow, 1)), variation, point, model: { rows: variation, inflow, split } };
+  return { matrix, counts, emptyRows, inflow, inflowVector: split.map((f) => f * inflowAt(inflow, 1)), variation, point, model: { rows: variation, inflow, split, common: commonShare(variation) } };
 }

@@ -38,7 +38,7 @@ export { sampleDirichlet } from '../numerics/dirichlet.js';
 export { quantileSorted } from '../numerics/quantile.js';
 export { sampleTransitionMatrix, dirichletParameters, type DirichletOptions } from './dirichlet.js';
 export { projectionBands, type BandOptions, type Bands } from './bands.js';
-export { rateVariation, type RowVariation } from './variation.js';
+export { commonShare, rateVariation, type RowVariation } from './variation.js';
 export { estimateInflow, inflowAt, INFLOW_METHODS, type InflowEstimate, type InflowMethod } from './inflow.js';
 export { simulatePaths, type PathModel, type PathEdits, type Simulation } from './simulate.js';
 export { forecastWindow, type Forecast } from './forecast.js';

@@ -55,6 +55,8 @@ export interface ProjectOutput {
     percentiles: Pair;
     inner: Pair;
     rates: { state: string; periods: number; noise: number; drift: number; estimated: boolean }[];
+    /** ρ: the share of the rates' variation every row shares (one shock per state each period). */
+    shared: number;
     inflow: { noiseSd: number; drift: number };
   } | null;
   /** Warnings for the reader: outlier periods of the inflow, rows whose variation could not be estimated, pooled segments. */
@@ -68,8 +70,8 @@ export interface ProjectOutput {
   backtest?: Backtest | { skipped: string };
 }
 
-export const BAND_METHOD = 'simulated paths: each row of rates drawn around its pooled value by a Dirichlet whose spread is the uncertainty of the estimate, moved each period by a Dirichlet random walk (drift) and Dirichlet noise estimated from the fit window by a variogram of the local level model; arrivals from the chosen center with their own noise and drift; users moved by multinomial draws';
-export const BAND_SOURCES = 'local level model (Harvey 1989, ch. 2), Dirichlet-multinomial overdispersion (Mosimann 1962), least-squares variogram (Cressie 1993, §2.6), percentiles by Hyndman & Fan (1996) definition 7';
+export const BAND_METHOD = 'simulated paths: each row of rates starts from its level at the end of the fit window (Kalman filter of the local level model) drawn with that level\'s uncertainty, and moves each period by a random walk (drift) and noise that does not persist, both estimated from the fit window by maximum likelihood; a share of that movement, estimated from how the rows moved together, is one shock shared by every row; arrivals from the chosen center with their own noise and drift; users moved by multinomial draws';
+export const BAND_SOURCES = 'local level model and its diffuse likelihood (Harvey 1989, ch. 2 and §3.4), Dirichlet-multinomial overdispersion (Mosimann 1962), one common factor (Anderson 2003, §14.2), percentiles by Hyndman & Fan (1996) definition 7';
 
 const byState = (states: readonly string[], v: ArrayLike<number>): Counts => Object.fromEntries(states.map((s, i) => [s, v[i]]));
 
@@ -157,6 +159,7 @@ function fromTables(tables: WaistTables, o: ProjectionOptions): ProjectOutput {
       percentiles: o.band,
       inner: [...INNER_BAND],
       rates: f.variation.filter((r) => r.rates !== null).map((r) => ({ state: r.state, periods: r.periods, noise: r.noise, drift: r.drift, estimated: r.estimated })),
+      shared: f.model.common ?? 0,
       inflow: { noiseSd: f.inflow.noiseSd, drift: f.inflow.drift },
     },
     warnings,

@@ -31,6 +31,8 @@ export interface PathModel {
   inflow: Pick<InflowEstimate, 'center' | 'slope' | 'noiseSd' | 'drift' | 'centerSd' | 'slopeSd'> & { periods?: number };
   /** How the arrivals split over the states (shares summing to 1, or all 0 for no inflow). */
   split: readonly number[];
+  /** ρ, the share of the rates' variation every row shares (`commonShare`; 0 or none: rows move independently). */
+  common?: number;
 }
 
 /** Edits of one scenario, by state index (checked by the caller). */
@@ -70,8 +72,9 @@ export function simulatePaths(model: PathModel, start: readonly number[], horizo
   }
   const counts = scen.map(() => new Float64Array(o.samples * stride));
   const x0 = start.map((v) => Math.max(0, Math.round(v)));
-  const levelAlpha = model.rows.map((r) => r.rates && r.rates.map((m) => (m > 0 ? m * (1 / r.level - 1) + LEVEL_PRIOR : 0)));
+  const levelAlpha = model.rows.map((r) => r.rates && (r.filtered ?? r.rates).map((m, j) => ((r.rates as number[])[j] > 0 ? m * (1 / r.level - 1) + LEVEL_PRIOR : 0)));
   const center = model.inflow.center;
+  const rho = Math.min(1, Math.max(0, model.common ?? 0));
   const stateCenter = model.split.map((f) => f * center);
   for (let k = 0; k < o.samples; k++) {
     const rng = mulberry32(streamSeed(o.seed, k, 0));
@@ -90,11 +93,15 @@ export function simulatePaths(model: PathModel, start: readonly number[], horizo
     const noise: Rng[] = scen.map(() => mulberry32(streamSeed(o.seed, k, 1)));
     scen.forEach((_, c) => counts[c].set(x0, k * stride));
     for (let t = 1; t <= horizon; t++) {
+      // the shocks every row shares this period, one per destination (for the walk and for the noise)
+      const cWalk = rho > 0 ? x0.map(() => normal(rng)) : null;
+      const cNoise = rho > 0 ? x0.map(() => normal(rng)) : null;
       const rates = rows.map((r, i) => {
         const lv = level[i];
         if (lv === null) return null;
-        if (r.drift > 0) level[i] = dirichletUnchecked(rng, lv.map((v) => v * (1 / r.drift - 1)));
-        return r.noise > 0 ? dirichletUnchecked(rng, (level[i] as number[]).map((v) => v * (1 / r.noise - 1))) : (level[i] as number[]).slice();
+        if (r.drift > 0) level[i] = sharedStep(dirichletStep(rng, lv, (1 - rho) * r.drift), lv, rho * r.drift, cWalk);
+        const l = level[i] as number[];
+        return r.noise > 0 ? sharedStep(dirichletStep(rng, l, (1 - rho) * r.noise), l, rho * r.noise, cNoise) : l.slice();
       });
       inflowLevel += Math.sqrt(inflowDrift) * normal(rng);
       const total = Math.max(0, inflowLevel + slope * t + inflowNoiseSd * normal(rng));
@@ -121,6 +128,30 @@ export function simulatePaths(model: PathModel, start: readonly number[], horizo
     }
   }
   return { samples: o.samples, horizon, states: S, counts };
+}
+
+/** A Dirichlet draw around `p` with variance `v`·p(1 − p) a cell (p itself when v = 0). */
+function dirichletStep(rng: Rng, p: readonly number[], v: number): number[] {
+  return v > 0 ? dirichletUnchecked(rng, p.map((x) => x * (1 / v - 1))) : p.slice();
+}
+
+/**
+ * `q` moved by the shared shock c (standard normals, one per destination) with covariance v·(diag(m) − m·mᵀ)
+ * around m: x_j = √(v)·(√m_j·c_j − m_j·Σ_k √m_k·c_k), whose covariance is exactly that (a square root of
+ * the multinomial covariance); cells of m > 0 are kept above 0, then the row is scaled to sum to 1.
+ */
+export function sharedStep(q: number[], m: readonly number[], v: number, c: readonly number[] | null): number[] {
+  if (c === null || !(v > 0)) return q;
+  const sd = Math.sqrt(v);
+  let dot = 0;
+  for (let j = 0; j < m.length; j++) if (m[j] > 0) dot += Math.sqrt(m[j]) * c[j];
+  let sum = 0;
+  for (let j = 0; j < m.length; j++) {
+    if (m[j] > 0) q[j] = Math.max(1e-12, q[j] + sd * (Math.sqrt(m[j]) * c[j] - m[j] * dot));
+    sum += q[j];
+  }
+  for (let j = 0; j < m.length; j++) q[j] /= sum;
+  return q;
 }
 
 /**

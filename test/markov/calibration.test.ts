@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { backtest } from '../../src/markov/backtest.js';
-import { rateVariation } from '../../src/markov/variation.js';
+import { commonShare, rateVariation } from '../../src/markov/variation.js';
 import { simulatedChain } from './chains.js';
 
 // Targets of the issue: at every horizon up to 8, the 80% band holds 70–90% of what happened and the
@@ -10,18 +10,22 @@ const START = [600, 6000, 900, 2500, 12000];
 describe('calibration on simulated chains whose true rates move by a known amount (seeded)', () => {
   // Each case pools the backtests of three chains (seeds 11–13) of 70 periods, each origin fitted on the
   // 8 transitions before it; a random walk w and noise e move the rates on the log scale (chains.ts).
-  // Measured when written: 0.05/0.05 → 80% band 73–77%, 50% band 44–48%; drift 0.04 only → 70–74%,
-  // 42–45%; 0.03/0.05 → 80–82%, 51–56%; still rates → 83–87%, 54–60%. Known deviation, not asserted:
-  // strong noise without drift (0 / 0.08) holds 80–90% but its 50% band 52–64%, too wide past +4.
+  // Measured when written (80% band, 50% band): 0.05/0.05 → 72–76%, 45–49%; drift 0.04 only → 71–77%,
+  // 44–48%; 0.03/0.05 → 78–82%, 48–55%; still rates → 83–86%, 55–59%; strong noise without drift
+  // (0 / 0.08) → 76–86%, 47–57%; a shock shared by every row (0.08 a period on the log rate into each
+  // state, over a drift of 0.02 and jitter of 0.03) → 71–75%, 43–49% (rows drawn independently held
+  // 66–71%, 38–45%).
   it.each([
-    ['rates drift (random walk 0.05 a period) and jitter (0.05)', 0.05, 0.05],
-    ['rates drift only (0.04 a period)', 0.04, 0],
-    ['rates drift a little (0.03) and jitter (0.05)', 0.03, 0.05],
-    ['rates stand still (binomial noise only)', 0, 0],
-  ])('%s: coverage within the targets at horizons 1–8', (_, walk, noise) => {
+    ['rates drift (random walk 0.05 a period) and jitter (0.05)', 0.05, 0.05, 0],
+    ['rates drift only (0.04 a period)', 0.04, 0, 0],
+    ['rates drift a little (0.03) and jitter (0.05)', 0.03, 0.05, 0],
+    ['rates stand still (binomial noise only)', 0, 0, 0],
+    ['rates jitter strongly without drift (0.08)', 0, 0.08, 0],
+    ['a shock shared by every row (0.08 a period) over a drift of 0.02 and jitter of 0.03', 0.02, 0.03, 0.08],
+  ])('%s: coverage within the targets at horizons 1–8', (_, walk, noise, common) => {
     const acc = Array.from({ length: 8 }, () => ({ n: 0, inner: 0, outer: 0 }));
     for (const seed of [11, 12, 13]) {
-      const tables = simulatedChain({ periods: 70, walk, noise, arrivals: 600, arrivalSd: 60, start: START, seed });
+      const tables = simulatedChain({ periods: 70, walk, noise, common, arrivals: 600, arrivalSd: 60, start: START, seed });
       const bt = backtest(tables, { horizon: 8, window: 8, samples: 100, seed: 1 });
       expect(bt.rows).toHaveLength(8);
       bt.rows.forEach((r, h) => {
@@ -37,6 +41,37 @@ describe('calibration on simulated chains whose true rates move by a known amoun
       expect(a.inner / a.n, `50% band at +${h + 1}`).toBeLessThanOrEqual(0.6);
     });
   }, 120_000); // a bound on a hang, not a timing check
+
+  it('a steady trend (the log rate into engaged and returned −0.015 a period, lapsing and dormant +0.01): the targets hold at +1 and +2 only', () => {
+    // Known deviation (DEVELOPERS.md): the model has no trend, so the bands fall behind a steady one.
+    // Measured when written: 80% band 73, 73, 69, 66, 62, 59, 58, 54%; 50% band 42, 42, 40, 39, 37, 33, 30, 27%.
+    const acc = Array.from({ length: 8 }, () => ({ n: 0, inner: 0, outer: 0 }));
+    for (const seed of [11, 12, 13]) {
+      const tables = simulatedChain({ periods: 70, walk: 0.02, noise: 0.03, trend: [0, -0.015, -0.015, 0.01, 0.01], arrivals: 600, arrivalSd: 60, start: START, seed });
+      backtest(tables, { horizon: 8, window: 8, samples: 100, seed: 1 }).rows.forEach((r, h) => {
+        acc[h].n += r.origins;
+        acc[h].inner += r.innerCoverage * r.origins;
+        acc[h].outer += r.coverage * r.origins;
+      });
+    }
+    for (const h of [0, 1]) {
+      expect(acc[h].outer / acc[h].n, `80% band at +${h + 1}`).toBeGreaterThanOrEqual(0.7);
+      expect(acc[h].outer / acc[h].n, `80% band at +${h + 1}`).toBeLessThanOrEqual(0.9);
+      expect(acc[h].inner / acc[h].n, `50% band at +${h + 1}`).toBeGreaterThanOrEqual(0.4);
+      expect(acc[h].inner / acc[h].n, `50% band at +${h + 1}`).toBeLessThanOrEqual(0.6);
+    }
+  }, 120_000); // a bound on a hang, not a timing check
+
+  it('a shock shared by every row is found: ρ > 0.2 on a chain with one, < 0.15 on one without (8-period windows)', () => {
+    const share = (common: number, seed: number) => {
+      const t = simulatedChain({ periods: 40, walk: 0.02, noise: 0.03, common, arrivals: 600, arrivalSd: 60, start: START, seed });
+      let s = 0;
+      for (let lo = 0; lo + 8 <= 40; lo += 8) s += commonShare(rateVariation(t.transitions.slice(lo, lo + 8), t.states)) / 5;
+      return s;
+    };
+    expect(share(0.08, 31)).toBeGreaterThan(0.2);
+    expect(share(0, 32)).toBeLessThan(0.15);
+  });
 
   it('the rates\' variation is what makes them hold: with rates that move, the estimated drift and noise are > 0; with still rates, near 0', () => {
     const moving = simulatedChain({ periods: 30, walk: 0.05, noise: 0.05, arrivals: 600, arrivalSd: 60, start: START, seed: 21 });

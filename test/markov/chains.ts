@@ -4,6 +4,9 @@
  * over the row's moves, where w is a Gaussian random walk (standard deviation `walk` a period, per
  * cell) and e Gaussian noise that does not persist (`noise`); arrivals are normal around `arrivals`;
  * users move by binomial draws (exact for small counts, the normal approximation for large ones).
+ * Optional: `common`, the standard deviation of a Gaussian shock c_tj drawn once a period for each
+ * destination j and shared by every row (rates ⊙ exp(c_t)); `trend`, a steady change per period of the
+ * log rate into each destination (rates ⊙ exp(trend·t)).
  */
 import type { WaistTables } from '../../src/flows/types.js';
 import { mulberry32 } from '../stats/prng.js';
@@ -18,6 +21,8 @@ export interface ChainSpec {
   start: number[];
   seed: number;
   base?: number[][];
+  common?: number;
+  trend?: number[];
 }
 
 export function simulatedChain(spec: ChainSpec): WaistTables & { trueRates: number[][][] } {
@@ -45,8 +50,9 @@ export function simulatedChain(spec: ChainSpec): WaistTables & { trueRates: numb
   const transitions: WaistTables['transitions'] = [];
   const trueRates: number[][][] = [];
   for (let t = 0; t < spec.periods; t++) {
+    const shared = base.map((_, j) => (spec.common ? spec.common * gauss() : 0) + (spec.trend?.[j] ?? 0) * t); // no draw without a common shock: the other chains keep their numbers
     const rates = base.map((row, i) => {
-      const w = row.map((p, j) => (p > 0 ? p * Math.exp((walk[i][j] += spec.walk * gauss()) + spec.noise * gauss()) : 0));
+      const w = row.map((p, j) => (p > 0 ? p * Math.exp((walk[i][j] += spec.walk * gauss()) + spec.noise * gauss() + shared[j]) : 0));
       const sum = w.reduce((a, b) => a + b, 0);
       return w.map((v) => v / sum);
     });

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { mulberry32 } from '../../src/numerics/random.js';
 import { reweightRow } from '../../src/markov/reweight.js';
-import { editRow, simulatePaths, MAX_CELLS, type PathModel } from '../../src/markov/simulate.js';
+import { editRow, sharedStep, simulatePaths, MAX_CELLS, type PathModel } from '../../src/markov/simulate.js';
 import type { RowVariation } from '../../src/markov/variation.js';
 import { expectClose, expectRefusal } from './helpers.js';
 
@@ -80,5 +80,31 @@ describe('editRow (a sampled row with a scenario\'s edits)', () => {
   it('caps a scaled entry at 1 and scales edits that add up to more than 1 down together', () => {
     expectClose(editRow([0.6, 0.4], [{ j: 0, op: 'scale', value: 3 }], 0), [1, 0], 1e-12);
     expectClose(editRow([0.2, 0.3, 0.5], [{ j: 0, op: 'set', value: 0.9 }, { j: 1, op: 'set', value: 0.6 }], 2), [0.6, 0.4, 0], 1e-12);
+  });
+});
+
+describe('sharedStep (the shock every row shares)', () => {
+  it('moves a row with covariance v·(diag(m) − m·mᵀ), the multinomial covariance (sample of 20,000 seeded draws)', () => {
+    // reference: the covariance of one multinomial trial's shares is diag(m) − m·mᵀ (common knowledge; e.g.
+    // Johnson, Kotz & Balakrishnan, *Discrete Multivariate Distributions*, ch. 35)
+    const m = [0.5, 0.3, 0.2, 0];
+    const v = 1e-4;
+    const rand = mulberry32(41);
+    const gauss = () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());
+    const K = 20000;
+    const draws = Array.from({ length: K }, () => sharedStep(m.slice(), m, v, m.map(() => gauss())));
+    for (let i = 0; i < 4; i++) {
+      for (let j = 0; j < 4; j++) {
+        const cov = draws.reduce((a, d) => a + (d[i] - m[i]) * (d[j] - m[j]), 0) / K;
+        const want = v * ((i === j ? m[i] : 0) - m[i] * m[j]);
+        expect(Math.abs(cov - want)).toBeLessThan(0.05 * v); // sampling error of a covariance of 20,000 draws: about 0.01·v
+      }
+    }
+    expect(draws.every((d) => d[3] === 0 && Math.abs(d.reduce((a, b) => a + b, 0) - 1) < 1e-12)).toBe(true);
+  });
+
+  it('leaves the row alone with no shock or no variance', () => {
+    expect(sharedStep([0.6, 0.4], [0.6, 0.4], 0.01, null)).toEqual([0.6, 0.4]);
+    expect(sharedStep([0.6, 0.4], [0.6, 0.4], 0, [1, -1])).toEqual([0.6, 0.4]);
   });
 });

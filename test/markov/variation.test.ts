@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { rateVariation } from '../../src/markov/variation.js';
+import { commonShare, MAX_COMMON, rateVariation, type RowVariation } from '../../src/markov/variation.js';
 import { weeks } from './helpers.js';
 
 const labels = weeks(10);
@@ -35,30 +35,54 @@ describe('rateVariation', () => {
     expect(zigzag.drift).toBe(0);
   });
 
-  it('matches an independent computation of the moment estimator (a plain loop over pairs and a least-squares line)', () => {
+  it('matches an independent computation: a plain Kalman loop gives the same filtered level, and no grid point a higher likelihood', () => {
     // a share that alternates and falls: 0.6, 0.48, 0.6, 0.46, 0.56, 0.42 of 900 users, 100 more elsewhere
     const rows = [0.6, 0.48, 0.6, 0.46, 0.56, 0.42].map((p) => [Math.round(p * 900), Math.round((1 - p) * 900), 100]);
     const v = rateVariation(window(rows.map((r) => [r, [0, 1, 0], [0, 0, 1]])), ['a', 'b', 'c'])[0];
-    const T = rows.length;
     const n = rows.map((r) => r.reduce((a, b) => a + b, 0));
     const N = n.reduce((a, b) => a + b, 0);
     const m = [0, 1, 2].map((j) => rows.reduce((a, r) => a + r[j], 0) / N);
-    const V = 1 - m.reduce((a, x) => a + x * x, 0);
-    const xs: number[] = [], ys: number[] = [];
-    for (let t = 0; t < T; t++) for (let u = t + 1; u < T; u++) {
-      xs.push(u - t);
-      ys.push((rows[t].reduce((a, x, j) => a + (x / n[t] - rows[u][j] / n[u]) ** 2, 0) - V * (1 / n[t] + 1 / n[u])) / V);
-    }
-    const k = xs.length, sx = xs.reduce((a, b) => a + b, 0), sy = ys.reduce((a, b) => a + b, 0);
-    const sxx = xs.reduce((a, b) => a + b * b, 0), sxy = xs.reduce((a, x, i) => a + x * ys[i], 0);
-    const slope = (k * sxy - sx * sy) / (k * sxx - sx * sx);
-    const icpt = (sy - slope * sx) / k;
-    // this window's line has a positive intercept and slope, so the constraints do not bind
-    expect(slope).toBeGreaterThan(0);
-    expect(icpt).toBeGreaterThan(0);
-    expect(v.drift).toBeCloseTo(slope, 12);
-    expect(v.noise).toBeCloseTo(icpt / 2, 12);
-    // level variance: φ·Σw² + (1 − φ)/N + δ·Σ_s C_s², equal weights 1/6 here: Σw² = 1/6, C_s = s/6
-    expect(v.level).toBeCloseTo(v.noise / 6 + (1 - v.noise) / N + v.drift * [1, 2, 3, 4, 5].reduce((a, s) => a + (s / 6) ** 2, 0), 12);
+    // the local level model's Kalman filter with a diffuse start (Harvey 1989, §3.4), written out:
+    // innovation variance F = P + δ + φ + 1/n_t, Pearson's form Σ v_j²/m_j over K − 1 = 2 degrees of freedom
+    const kalman = (phi: number, delta: number) => {
+      let a = rows[0].map((x) => x / n[0]), P = phi + 1 / n[0], ll = 0;
+      for (let t = 1; t < rows.length; t++) {
+        const y = rows[t].map((x) => x / n[t]);
+        const prior = P + delta, F = prior + phi + 1 / n[t];
+        const q = y.reduce((s, yj, j) => s + (yj - a[j]) ** 2 / m[j], 0);
+        ll -= 0.5 * (2 * Math.log(F) + q / F);
+        a = a.map((aj, j) => aj + (prior / F) * (y[j] - aj));
+        P = (prior * (phi + 1 / n[t])) / F;
+      }
+      return { ll, a, P };
+    };
+    const fitted = kalman(v.noise, v.drift);
+    fitted.a.forEach((x, j) => expect(v.filtered?.[j]).toBeCloseTo(x, 9));
+    expect(v.level).toBeCloseTo(fitted.P, 9);
+    for (let i = 0; i <= 60; i++) for (let k = 0; k <= 60; k++) expect(kalman((0.06 * i) / 60, (0.06 * k) / 60).ll).toBeLessThanOrEqual(fitted.ll + 1e-6);
+    // this window alternates: the fit finds noise that does not persist
+    expect(v.noise).toBeGreaterThan(0);
+  });
+});
+
+describe('commonShare', () => {
+  const row = (state: string, rates: number[], innovations: { t: number; v: number[]; h: number }[]): RowVariation => ({ state, rates, users: 1000, periods: innovations.length + 1, noise: 0.01, drift: 0, level: 0.001, estimated: true, innovations });
+  const shocks = [0.03, -0.02, 0.04, -0.05, 0.01, 0.02, -0.03];
+  it('rows whose innovations are the same shock give the cap; opposite shocks give 0; one row gives 0', () => {
+    // by hand: identical Pearson-scaled innovations with no binomial part have correlation 1, capped at 0.9
+    const a = row('a', [0.5, 0.5], shocks.map((x, t) => ({ t, v: [x, -x], h: 0 })));
+    const b = row('b', [0.5, 0.5], shocks.map((x, t) => ({ t, v: [x, -x], h: 0 })));
+    const c = row('c', [0.5, 0.5], shocks.map((x, t) => ({ t, v: [-x, x], h: 0 })));
+    expect(commonShare([a, b])).toBe(MAX_COMMON);
+    expect(commonShare([a, c])).toBe(0);
+    expect(commonShare([a])).toBe(0);
+  });
+
+  it('half of each row\'s movement shared: ρ = 0.5 (an independent computation of the correlation)', () => {
+    // row a = s + u, row b = s + w with s, u, w orthogonal and of equal size: correlation ½ (by hand)
+    const s = [1, -1, 1, -1], u = [1, 1, -1, -1], w = [1, -1, -1, 1];
+    const a = row('a', [0.5, 0.5], s.map((x, t) => ({ t, v: [0.01 * (x + u[t]), -0.01 * (x + u[t])], h: 0 })));
+    const b = row('b', [0.5, 0.5], s.map((x, t) => ({ t, v: [0.01 * (x + w[t]), -0.01 * (x + w[t])], h: 0 })));
+    expect(commonShare([a, b])).toBeCloseTo(0.5, 12);
   });
 });

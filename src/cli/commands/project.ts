@@ -78,7 +78,7 @@ export function formatProjection(p: ProjectOutput, format: Format): string {
   out.push(`Long run: ${p.longRun.sentence}`);
   if (p.uncertainty) {
     const u = p.uncertainty;
-    out.push(`Bands: ${u.inner[0]}th-${u.inner[1]}th (50%) and ${u.percentiles[0]}th-${u.percentiles[1]}th percentiles of ${n0(u.samples)} simulated paths, seed ${u.seed}: the rates vary as they did over the fit window (a drifting level plus period-to-period noise), arrivals vary, and a finite audience adds binomial noise. Sources: ${u.sources}.`);
+    out.push(`Bands: ${u.inner[0]}th-${u.inner[1]}th (50%) and ${u.percentiles[0]}th-${u.percentiles[1]}th percentiles of ${n0(u.samples)} simulated paths, seed ${u.seed}: the rates vary as they did over the fit window (from the level at its end, a drifting level plus period-to-period noise, ${pct(u.shared)} of that movement shared by every state, as in the window), arrivals vary, and a finite audience adds binomial noise. The bands start from where the rates ended in the window, the projection from their average over it, so after a change the two can part. Sources: ${u.sources}.`);
   } else out.push('Bands: none (a planner\'s matrix carries no record of how its rates vary).');
   if (p.steadyState) out.push(`Steady-state mix: ${p.states.map((s) => `${s} ${pct(p.steadyState![s])}`).join(', ')}`);
   const show = [...new Set([0, 1, Math.min(4, H), Math.min(8, H), H])].filter((k) => k <= H);
