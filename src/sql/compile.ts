@@ -89,6 +89,13 @@ export interface Compiled {
   };
   /** The gap model, its indices into the output states (split sub-states included). */
   model: GapModel;
+  /**
+   * For an engine that stores steps as tables: the row-level facts tm_uk, tm_fates and
+   * tm_attr_values in one aggregate over the rows (GROUPING SETS, SQL:1999; DuckDB and PostgreSQL
+   * have it), so the rows are read once and never stored. Store `select` as the table `name`, then
+   * each query of `split` as the table of its key; the other steps read those.
+   */
+  rowPass: { name: string; select: string; split: Record<string, string> };
 }
 
 export interface CompileInput {
@@ -269,19 +276,28 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
   CASE WHEN reason IS NOT NULL THEN 'rejected' ${status} ELSE 'used' END AS status, reason
 FROM (SELECT ${cols()}, wall_ms, k, CASE ${reason} END AS reason FROM tm_keyed${D.fence}) x${D.fence}`);
   cte('tm_used', 'the used rows', `SELECT user_id, k, wall_ms${has.by ? ', by_value' : ''}${attrCols.map((c) => `, ${c}`).join('')} FROM tm_ev WHERE status = 'used'`);
+  // the row-level facts, each small: every later step reads these, not the rows (see `rowPass`)
+  cte('tm_uk', `(user, ${rules.grain}) of the used rows: their rows and the latest wall-clock ms`,
+    'SELECT user_id, k, count(*) AS ev, max(wall_ms) AS max_wall FROM tm_used GROUP BY user_id, k');
+  cte('tm_fates', 'rows by fate, reason and event name',
+    `SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, count(*) AS n FROM tm_ev GROUP BY status, reason${has.event ? ', event' : ''}`);
+  if (attrCols.length) {
+    cte('tm_attr_values', 'the distinct non-empty values of each attribute (a, its position) among the used rows',
+      attrCols.map((c, i) => `SELECT ${i} AS a, ${c} AS v FROM tm_used WHERE ${c} <> '' GROUP BY ${c}`).join('\nUNION ALL\n'));
+  }
 
   // ---- the range
   const out = range.fromKey === undefined ? 'start_key' : `CASE WHEN start_key > ${range.fromKey} THEN start_key ELSE ${range.fromKey} END`;
   cte('tm_bounds', 'the range: first and last period of the used rows, the first output period (--from) and the first counted flow (warm-up)',
     `SELECT start_key, end_key, out_key, out_key + ${W} AS flow_key, used_rows
-FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k) AS start_key, max(k) AS end_key, count(*) AS used_rows FROM tm_used) x) y`);
+FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k) AS start_key, max(k) AS end_key, coalesce(SUM(ev), 0) AS used_rows FROM tm_uk) x) y`);
   const startDay = rules.grain === 'day' ? 'x' : rules.grain === 'week' ? `x * 7 + ${ws - 3}` : daysFromCivil(`${D.intDiv('x', '12')} - CASE WHEN ${D.mod('x', '12')} + 1 <= 2 THEN 1 ELSE 0 END`, `${D.mod('x', '12')} + 1`, '1');
   cte('tm_periods', 'every output period with its label (its first day)',
     `SELECT x AS k, ${D.dayLabel(startDay)} AS label FROM (${D.series('out_key', 'end_key', 'tm_bounds')}) s`);
 
   // ---- lifecycle
   cte('tm_active', `(user, ${rules.grain}) with at least ${rules.activity.minEvents} key event(s)`,
-    `SELECT user_id, k, count(*) AS ev FROM tm_used GROUP BY user_id, k HAVING count(*) >= ${rules.activity.minEvents}`);
+    `SELECT user_id, k, ev FROM tm_uk WHERE ev >= ${rules.activity.minEvents}`);
   if (has.by) {
     const v = "coalesce(by_value, '')";
     cte('tm_attr', 'the --by value of each (user, period): on its latest event; on a tie, the largest value in code-point order',
@@ -439,18 +455,19 @@ FROM (
 
   const facts: Compiled['facts'] = {
     range: 'SELECT start_key, end_key, out_key, flow_key, used_rows FROM tm_bounds',
-    accounting: 'SELECT status, reason, count(*) AS n FROM tm_ev GROUP BY status, reason ORDER BY status, reason',
+    accounting: 'SELECT status, reason, SUM(n) AS n FROM tm_fates GROUP BY status, reason ORDER BY status, reason',
     events: has.event
       ? `SELECT event, n FROM (
   SELECT event, n, rank() OVER (ORDER BY n DESC) AS r FROM (
-    SELECT event, count(*) AS n FROM tm_ev WHERE event IS NOT NULL AND (status <> 'rejected' OR reason = 'missing event name') GROUP BY event
+    SELECT event, SUM(n) AS n FROM tm_fates WHERE event IS NOT NULL AND (status <> 'rejected' OR reason = 'missing event name') GROUP BY event
   ) x
 ) y WHERE r <= ${EVENT_NAMES_KEPT} ORDER BY n DESC, event`
       : `SELECT CAST(NULL AS ${D.text}) AS event, 0 AS n FROM tm_bounds WHERE 1 = 0`,
-    lastPeriod: 'SELECT count(*) AS n, max(u.wall_ms) AS max_wall FROM tm_used u CROSS JOIN tm_bounds b WHERE u.k = b.end_key',
-    users: 'SELECT count(DISTINCT user_id) AS users FROM tm_life',
+    lastPeriod: 'SELECT coalesce(SUM(u.ev), 0) AS n, max(u.max_wall) AS max_wall FROM tm_uk u CROSS JOIN tm_bounds b WHERE u.k = b.end_key',
+    // one first active period a user
+    users: 'SELECT count(*) AS users FROM tm_life WHERE prev_k IS NULL',
     attributes: attrCols.length
-      ? `SELECT ${attrCols.map((c, i) => `count(DISTINCT CASE WHEN ${c} <> '' THEN ${c} END) AS values_${i}`).join(', ')} FROM tm_used`
+      ? `SELECT ${attrCols.map((_, i) => `SUM(CASE WHEN a = ${i} THEN 1 ELSE 0 END) AS values_${i}`).join(', ')} FROM tm_attr_values`
       : 'SELECT 0 AS none FROM tm_bounds',
     uniqueness: has.by
       ? `SELECT (SELECT count(DISTINCT user_id) FROM tm_used WHERE by_value <> '') AS with_value,
@@ -458,5 +475,23 @@ FROM (
       : 'SELECT 0 AS with_value, 0 AS with_own',
     periods: 'SELECT label FROM tm_periods ORDER BY k',
   };
-  return { ctes, tables, facts, model: m };
+  const used = "status = 'used'";
+  const rowPass: Compiled['rowPass'] = {
+    name: 'tm_rowpass',
+    select: `SELECT GROUPING(uu) AS g_uk, GROUPING(status) AS g_fate${attrCols.map((_, i) => `, GROUPING(ua_${i}) AS g_a_${i}`).join('')},
+  uu, uk, status, reason, event${attrCols.map((_, i) => `, ua_${i}`).join('')}, count(*) AS n, max(wall_ms) AS max_wall
+FROM (
+  SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, CASE WHEN ${used} THEN wall_ms END AS wall_ms,
+    CASE WHEN ${used} THEN user_id END AS uu, CASE WHEN ${used} THEN k END AS uk${attrCols.map((c, i) => `,
+    CASE WHEN ${used} AND ${c} <> '' THEN ${c} END AS ua_${i}`).join('')}
+  FROM tm_ev${D.fence}
+) x
+GROUP BY GROUPING SETS ((uu, uk), (status, reason, event)${attrCols.map((_, i) => `, (ua_${i})`).join('')})`,
+    split: {
+      tm_uk: 'SELECT uu AS user_id, uk AS k, n AS ev, max_wall FROM tm_rowpass WHERE g_uk = 0 AND uu IS NOT NULL',
+      tm_fates: 'SELECT status, reason, event, n FROM tm_rowpass WHERE g_fate = 0',
+      ...(attrCols.length ? { tm_attr_values: attrCols.map((_, i) => `SELECT ${i} AS a, ua_${i} AS v FROM tm_rowpass WHERE g_a_${i} = 0 AND ua_${i} IS NOT NULL`).join('\nUNION ALL\n') } : {}),
+    },
+  };
+  return { ctes, tables, facts, model: m, rowPass };
 }
