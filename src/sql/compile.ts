@@ -307,7 +307,7 @@ FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k
   }
   cte('tm_runs', 'each active period with the active periods before and after it',
     `SELECT user_id, k, ev,
-  lag(ev) OVER (PARTITION BY user_id ORDER BY k) AS prev_ev,
+  ${rules.splits.length ? 'lag(ev) OVER (PARTITION BY user_id ORDER BY k)' : `CAST(NULL AS ${D.bigint})`} AS prev_ev,
   lag(k) OVER (PARTITION BY user_id ORDER BY k) AS prev_k,
   lag(k, 2) OVER (PARTITION BY user_id ORDER BY k) AS prev2_k,
   lead(k) OVER (PARTITION BY user_id ORDER BY k) AS next_k,
@@ -326,21 +326,25 @@ FROM tm_runs r CROSS JOIN tm_bounds b${has.by ? '\nLEFT JOIN tm_attr a ON a.user
   const spans: string[] = [];
   // with --by, every quiet span keeps its user's segment, so the segment tables read the same counts
   const G = has.by ? ', seg' : '';
+  // the spans depend only on the period and the quiet run after it: those are counted once (n), so the
+  // spans are made from a few rows a period rather than from every active period
+  cte('tm_quiet', 'active periods followed by a quiet run: how many (n) by period, state and length of the run',
+    `SELECT k, st, quiet${G}, count(*) AS n FROM tm_life WHERE quiet >= 1 GROUP BY k, st, quiet${G}`);
   const span = (sf: string, st: number, lo: string, hi: string, when: string, clip: 'out_key' | 'flow_key + 1') =>
-    spans.push(`SELECT ${sf} AS sf, ${st} AS st${G}, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi FROM tm_life CROSS JOIN tm_bounds WHERE ${when}`);
+    spans.push(`SELECT ${sf} AS sf, ${st} AS st${G}, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi, n FROM tm_quiet CROSS JOIN tm_bounds WHERE ${when}`);
   if (L >= 1) span('-1', m.lapse, 'k + 1', `k + CASE WHEN quiet < ${L} THEN quiet ELSE ${L} END`, 'quiet >= 1', 'out_key');
   span('-1', m.exit, `k + ${L + 1}`, 'k + quiet', `quiet >= ${L + 1}`, 'out_key');
   span('st', L >= 1 ? m.lapse : m.exit, 'k + 1', 'k + 1', 'quiet >= 1', 'flow_key + 1');
   if (L >= 2) span(String(m.lapse), m.lapse, 'k + 2', `k + CASE WHEN quiet < ${L} THEN quiet ELSE ${L} END`, 'quiet >= 2', 'flow_key + 1');
   if (L >= 1) span(String(m.lapse), m.exit, `k + ${L + 1}`, `k + ${L + 1}`, `quiet >= ${L + 1}`, 'flow_key + 1');
   span(String(m.exit), m.exit, `k + ${Math.max(2, L + 2)}`, 'k + quiet', `quiet >= ${Math.max(2, L + 2)}`, 'flow_key + 1');
-  cte('tm_spans', 'quiet runs as spans of periods: in a quiet state (sf = -1), or moving from sf to st',
-    `SELECT sf, st${G}, lo, hi FROM (\n${spans.join('\nUNION ALL\n')}\n) x WHERE lo <= hi`);
+  cte('tm_spans', 'quiet runs as spans of periods: in a quiet state (sf = -1), or moving from sf to st; n users each',
+    `SELECT sf, st${G}, lo, hi, n FROM (\n${spans.join('\nUNION ALL\n')}\n) x WHERE lo <= hi`);
   cte('tm_deltas', 'where spans start (+) and end (−)',
     `SELECT sf, st${G}, p, SUM(d) AS d FROM (
-  SELECT sf, st${G}, lo AS p, count(*) AS d FROM tm_spans GROUP BY sf, st${G}, lo
+  SELECT sf, st${G}, lo AS p, SUM(n) AS d FROM tm_spans GROUP BY sf, st${G}, lo
   UNION ALL
-  SELECT sf, st${G}, hi + 1 AS p, -count(*) AS d FROM tm_spans GROUP BY sf, st${G}, hi + 1
+  SELECT sf, st${G}, hi + 1 AS p, -SUM(n) AS d FROM tm_spans GROUP BY sf, st${G}, hi + 1
 ) x GROUP BY sf, st${G}, p`);
   cte('tm_span_counts', 'users in each span kind in each period: running sums of the deltas',
     `SELECT g.sf, g.st${has.by ? ', g.seg' : ''}, g.p, SUM(coalesce(d.d, 0)) OVER (PARTITION BY g.sf, g.st${has.by ? ', g.seg' : ''} ORDER BY g.p ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS n

@@ -91,8 +91,11 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
     if (prepared.source.has.by) await store('tm_ev');
     const { rowPass } = compiled;
     await store(rowPass.name, rowPass.select);
-    for (const [name, select] of Object.entries(rowPass.split)) await store(name, select);
-    await c.run(`DROP TABLE ${rowPass.name}`);
+    // its parts as views: a filtered read of the stored aggregate costs less than a copy
+    for (const [name, select] of Object.entries(rowPass.split)) {
+      await c.run(`CREATE TEMP VIEW ${name} AS ${select}`);
+      stored.add(name);
+    }
     // the small steps that many queries read are stored too: computed once, not once a query
     for (const name of ['tm_bounds', ...(prepared.source.has.by ? ['tm_attr'] : []), 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
     const query = (final: string) => rowsOf(c, withCtes(compiled.ctes, final, stored));
