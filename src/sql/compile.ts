@@ -90,8 +90,8 @@ export interface Compiled {
   /** The gap model, its indices into the output states (split sub-states included). */
   model: GapModel;
   /**
-   * For an engine that stores steps as tables: the row-level facts tm_uk, tm_fates and
-   * tm_attr_values in one aggregate over the rows (GROUPING SETS, SQL:1999; DuckDB and PostgreSQL
+   * For an engine that stores steps as tables: the row-level facts tm_uk (tm_ukv with --by), tm_fates
+   * and tm_attr_values in one aggregate over the rows (GROUPING SETS, SQL:1999; DuckDB and PostgreSQL
    * have it), so the rows are read once and never stored. Store `select` as the table `name`, then
    * each query of `split` as the table of its key; the other steps read those.
    */
@@ -277,8 +277,17 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
 FROM (SELECT ${cols()}, wall_ms, k, CASE ${reason} END AS reason FROM tm_keyed${D.fence}) x${D.fence}`);
   cte('tm_used', 'the used rows', `SELECT user_id, k, wall_ms${has.by ? ', by_value' : ''}${attrCols.map((c) => `, ${c}`).join('')} FROM tm_ev WHERE status = 'used'`);
   // the row-level facts, each small: every later step reads these, not the rows (see `rowPass`)
-  cte('tm_uk', `(user, ${rules.grain}) of the used rows: their rows and the latest wall-clock ms`,
-    'SELECT user_id, k, count(*) AS ev, max(wall_ms) AS max_wall FROM tm_used GROUP BY user_id, k');
+  if (has.by) {
+    // with --by, (user, period, value): enough for the latest value of each (user, period) and the
+    // uniqueness check, so that nothing after this reads the rows
+    cte('tm_ukv', `(user, ${rules.grain}, --by value) of the used rows: their rows and the latest wall-clock ms`,
+      "SELECT user_id, k, coalesce(by_value, '') AS v, count(*) AS ev, max(wall_ms) AS max_wall FROM tm_used GROUP BY user_id, k, coalesce(by_value, '')");
+    cte('tm_uk', `(user, ${rules.grain}) of the used rows: their rows and the latest wall-clock ms`,
+      `SELECT user_id, k, CAST(SUM(ev) AS ${D.bigint}) AS ev, max(max_wall) AS max_wall FROM tm_ukv GROUP BY user_id, k`);
+  } else {
+    cte('tm_uk', `(user, ${rules.grain}) of the used rows: their rows and the latest wall-clock ms`,
+      'SELECT user_id, k, count(*) AS ev, max(wall_ms) AS max_wall FROM tm_used GROUP BY user_id, k');
+  }
   cte('tm_fates', 'rows by fate, reason and event name',
     `SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, count(*) AS n FROM tm_ev GROUP BY status, reason${has.event ? ', event' : ''}`);
   if (attrCols.length) {
@@ -299,10 +308,10 @@ FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k
   cte('tm_active', `(user, ${rules.grain}) with at least ${rules.activity.minEvents} key event(s)`,
     `SELECT user_id, k, ev FROM tm_uk WHERE ev >= ${rules.activity.minEvents}`);
   if (has.by) {
-    const v = "coalesce(by_value, '')";
+    // the value whose latest row is the latest of the period is the value of the latest row
     cte('tm_attr', 'the --by value of each (user, period): on its latest event; on a tie, the largest value in code-point order',
       `SELECT user_id, k, v FROM (
-  SELECT user_id, k, ${v} AS v, row_number() OVER (PARTITION BY user_id, k ORDER BY wall_ms DESC, ${D.binaryOrder(v)} DESC) AS rn FROM tm_used
+  SELECT user_id, k, v, row_number() OVER (PARTITION BY user_id, k ORDER BY max_wall DESC, ${D.binaryOrder('v')} DESC) AS rn FROM tm_ukv
 ) x WHERE rn = 1${D.fence}`);
   }
   cte('tm_runs', 'each active period with the active periods before and after it',
@@ -474,8 +483,8 @@ FROM (
       ? `SELECT ${attrCols.map((_, i) => `SUM(CASE WHEN a = ${i} THEN 1 ELSE 0 END) AS values_${i}`).join(', ')} FROM tm_attr_values`
       : 'SELECT 0 AS none FROM tm_bounds',
     uniqueness: has.by
-      ? `SELECT (SELECT count(DISTINCT user_id) FROM tm_used WHERE by_value <> '') AS with_value,
-  (SELECT count(DISTINCT u1) FROM (SELECT by_value, min(user_id) AS u1, max(user_id) AS u2 FROM tm_used WHERE by_value <> '' GROUP BY by_value) x WHERE u1 = u2) AS with_own`
+      ? `SELECT (SELECT count(DISTINCT user_id) FROM tm_ukv WHERE v <> '') AS with_value,
+  (SELECT count(DISTINCT u1) FROM (SELECT v, min(user_id) AS u1, max(user_id) AS u2 FROM tm_ukv WHERE v <> '' GROUP BY v) x WHERE u1 = u2) AS with_own`
       : 'SELECT 0 AS with_value, 0 AS with_own',
     periods: 'SELECT label FROM tm_periods ORDER BY k',
   };
@@ -483,16 +492,16 @@ FROM (
   const rowPass: Compiled['rowPass'] = {
     name: 'tm_rowpass',
     select: `SELECT GROUPING(uu) AS g_uk, GROUPING(status) AS g_fate${attrCols.map((_, i) => `, GROUPING(ua_${i}) AS g_a_${i}`).join('')},
-  uu, uk, status, reason, event${attrCols.map((_, i) => `, ua_${i}`).join('')}, count(*) AS n, max(wall_ms) AS max_wall
+  uu, uk${has.by ? ', ub' : ''}, status, reason, event${attrCols.map((_, i) => `, ua_${i}`).join('')}, count(*) AS n, max(wall_ms) AS max_wall
 FROM (
   SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, CASE WHEN ${used} THEN wall_ms END AS wall_ms,
-    CASE WHEN ${used} THEN user_id END AS uu, CASE WHEN ${used} THEN k END AS uk${attrCols.map((c, i) => `,
+    CASE WHEN ${used} THEN user_id END AS uu, CASE WHEN ${used} THEN k END AS uk${has.by ? `, CASE WHEN ${used} THEN coalesce(by_value, '') END AS ub` : ''}${attrCols.map((c, i) => `,
     CASE WHEN ${used} AND ${c} <> '' THEN ${c} END AS ua_${i}`).join('')}
   FROM tm_ev${D.fence}
 ) x
-GROUP BY GROUPING SETS ((uu, uk), (status, reason, event)${attrCols.map((_, i) => `, (ua_${i})`).join('')})`,
+GROUP BY GROUPING SETS ((uu, uk${has.by ? ', ub' : ''}), (status, reason, event)${attrCols.map((_, i) => `, (ua_${i})`).join('')})`,
     split: {
-      tm_uk: 'SELECT uu AS user_id, uk AS k, n AS ev, max_wall FROM tm_rowpass WHERE g_uk = 0 AND uu IS NOT NULL',
+      [has.by ? 'tm_ukv' : 'tm_uk']: `SELECT uu AS user_id, uk AS k${has.by ? ', ub AS v' : ''}, n AS ev, max_wall FROM tm_rowpass WHERE g_uk = 0 AND uu IS NOT NULL`,
       tm_fates: 'SELECT status, reason, event, n FROM tm_rowpass WHERE g_fate = 0',
       ...(attrCols.length ? { tm_attr_values: attrCols.map((_, i) => `SELECT ${i} AS a, ua_${i} AS v FROM tm_rowpass WHERE g_a_${i} = 0 AND ua_${i} IS NOT NULL`).join('\nUNION ALL\n') } : {}),
     },

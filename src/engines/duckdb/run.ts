@@ -86,9 +86,7 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       stored.add(name);
       stage(name);
     };
-    // the rows are read once, into small aggregates (compile.ts, rowPass), and not stored; with --by
-    // the latest value of each (user, period) needs the rows, so they are stored first
-    if (prepared.source.has.by) await store('tm_ev');
+    // the rows are read once, into small aggregates (compile.ts, rowPass), and never stored
     const { rowPass } = compiled;
     await store(rowPass.name, rowPass.select);
     // its parts as views: a filtered read of the stored aggregate costs less than a copy
@@ -97,7 +95,7 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       stored.add(name);
     }
     // the small steps that many queries read are stored too: computed once, not once a query
-    for (const name of ['tm_bounds', ...(prepared.source.has.by ? ['tm_attr'] : []), 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
+    for (const name of [...(prepared.source.has.by ? ['tm_uk', 'tm_attr'] : []), 'tm_bounds', 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
     const query = (final: string) => rowsOf(c, withCtes(compiled.ctes, final, stored));
     const readerRejects = await countRejects(c, prepared.rejects, input);
     const accounting = (await query(compiled.facts.accounting)).map((r) => ({ status: String(r.status), reason: r.reason === null ? null : String(r.reason), n: Number(r.n) }));
