@@ -6,14 +6,20 @@
  *   tm_src      the events, one row each, in canonical columns (made by the caller: a table, a file reader)
  *   tm_text…    timestamps parsed as src/ingest/timestamp.ts does, into wall-clock ms in the rules' zone
  *   tm_ev       each row's fate (used, not a key event, after --to, rejected and why) and period key
+ *   tm_uk       (user, period) of the used rows with their rows and latest time (with --by, summed
+ *               from tm_ukv, the same by (user, period, value)); tm_fates: rows by fate, reason and
+ *               event; tm_attr_values: each attribute's values. The tables and counts read these,
+ *               not the rows.
  *   tm_bounds   the range: first and last period of the used rows, --from, the warm-up
  *   tm_active   (user, period) with at least minEvents key events
  *   tm_life     each active period with the one before and after (window functions): its state, the
  *               state before it, and the quiet run after it (gaps and islands, see ./gaps.ts)
- *   tm_spans    quiet runs as spans of periods; tm_span_counts turns them into per-period counts
+ *   tm_spans    quiet runs as spans of periods (from tm_quiet: active periods counted by period, state
+ *               and quiet run); tm_span_counts turns them into per-period counts
  *               with running sums over the periods, so nothing is expanded per user and period
  *   tm_attr     the `--by` value of each (user, period): on the latest event, ties to the largest
- *               value in code-point order; a user's segment is the value in their first active period
+ *               value in code-point order (read from tm_ukv); a user's segment is the value in their
+ *               first active period
  * Split states (rules `splits`): the gap model gives the base state of each active period, and the
  * period's key events pick the sub-state, as the machine does.
  * and the tables and summaries read those. Period keys are integers (days, weeks, months since an
@@ -93,7 +99,7 @@ export interface Compiled {
    * For an engine that stores steps as tables: the row-level facts tm_uk (tm_ukv with --by), tm_fates
    * and tm_attr_values in one aggregate over the rows (GROUPING SETS, SQL:1999; DuckDB and PostgreSQL
    * have it), so the rows are read once and never stored. Store `select` as the table `name`, then
-   * each query of `split` as the table of its key; the other steps read those.
+   * each query of `split` as a table or view of its key; the other steps read those.
    */
   rowPass: { name: string; select: string; split: Record<string, string> };
 }
