@@ -6,14 +6,20 @@
  *   tm_src      the events, one row each, in canonical columns (made by the caller: a table, a file reader)
  *   tm_text…    timestamps parsed as src/ingest/timestamp.ts does, into wall-clock ms in the rules' zone
  *   tm_ev       each row's fate (used, not a key event, after --to, rejected and why) and period key
+ *   tm_uk       (user, period) of the used rows with their rows and latest time (with --by, summed
+ *               from tm_ukv, the same by (user, period, value)); tm_fates: rows by fate, reason and
+ *               event; tm_attr_values: each attribute's values. The tables and counts read these,
+ *               not the rows.
  *   tm_bounds   the range: first and last period of the used rows, --from, the warm-up
  *   tm_active   (user, period) with at least minEvents key events
  *   tm_life     each active period with the one before and after (window functions): its state, the
  *               state before it, and the quiet run after it (gaps and islands, see ./gaps.ts)
- *   tm_spans    quiet runs as spans of periods; tm_span_counts turns them into per-period counts
+ *   tm_spans    quiet runs as spans of periods (from tm_quiet: active periods counted by period, state
+ *               and quiet run); tm_span_counts turns them into per-period counts
  *               with running sums over the periods, so nothing is expanded per user and period
  *   tm_attr     the `--by` value of each (user, period): on the latest event, ties to the largest
- *               value in code-point order; a user's segment is the value in their first active period
+ *               value in code-point order (read from tm_ukv); a user's segment is the value in their
+ *               first active period
  * Split states (rules `splits`): the gap model gives the base state of each active period, and the
  * period's key events pick the sub-state, as the machine does.
  * and the tables and summaries read those. Period keys are integers (days, weeks, months since an
@@ -89,6 +95,13 @@ export interface Compiled {
   };
   /** The gap model, its indices into the output states (split sub-states included). */
   model: GapModel;
+  /**
+   * For an engine that stores steps as tables: the row-level facts tm_uk (tm_ukv with --by), tm_fates
+   * and tm_attr_values in one aggregate over the rows (GROUPING SETS, SQL:1999; DuckDB and PostgreSQL
+   * have it), so the rows are read once and never stored. Store `select` as the table `name`, then
+   * each query of `split` as a table or view of its key; the other steps read those.
+   */
+  rowPass: { name: string; select: string; split: Record<string, string> };
 }
 
 export interface CompileInput {
@@ -269,29 +282,47 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
   CASE WHEN reason IS NOT NULL THEN 'rejected' ${status} ELSE 'used' END AS status, reason
 FROM (SELECT ${cols()}, wall_ms, k, CASE ${reason} END AS reason FROM tm_keyed${D.fence}) x${D.fence}`);
   cte('tm_used', 'the used rows', `SELECT user_id, k, wall_ms${has.by ? ', by_value' : ''}${attrCols.map((c) => `, ${c}`).join('')} FROM tm_ev WHERE status = 'used'`);
+  // the row-level facts, each small: every later step reads these, not the rows (see `rowPass`)
+  if (has.by) {
+    // with --by, (user, period, value): enough for the latest value of each (user, period) and the
+    // uniqueness check, so that nothing after this reads the rows
+    cte('tm_ukv', `(user, ${rules.grain}, --by value) of the used rows: their rows and the latest wall-clock ms`,
+      "SELECT user_id, k, coalesce(by_value, '') AS v, count(*) AS ev, max(wall_ms) AS max_wall FROM tm_used GROUP BY user_id, k, coalesce(by_value, '')");
+    cte('tm_uk', `(user, ${rules.grain}) of the used rows: their rows and the latest wall-clock ms`,
+      `SELECT user_id, k, CAST(SUM(ev) AS ${D.bigint}) AS ev, max(max_wall) AS max_wall FROM tm_ukv GROUP BY user_id, k`);
+  } else {
+    cte('tm_uk', `(user, ${rules.grain}) of the used rows: their rows and the latest wall-clock ms`,
+      'SELECT user_id, k, count(*) AS ev, max(wall_ms) AS max_wall FROM tm_used GROUP BY user_id, k');
+  }
+  cte('tm_fates', 'rows by fate, reason and event name',
+    `SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, count(*) AS n FROM tm_ev GROUP BY status, reason${has.event ? ', event' : ''}`);
+  if (attrCols.length) {
+    cte('tm_attr_values', 'the distinct non-empty values of each attribute (a, its position) among the used rows',
+      attrCols.map((c, i) => `SELECT ${i} AS a, ${c} AS v FROM tm_used WHERE ${c} <> '' GROUP BY ${c}`).join('\nUNION ALL\n'));
+  }
 
   // ---- the range
   const out = range.fromKey === undefined ? 'start_key' : `CASE WHEN start_key > ${range.fromKey} THEN start_key ELSE ${range.fromKey} END`;
   cte('tm_bounds', 'the range: first and last period of the used rows, the first output period (--from) and the first counted flow (warm-up)',
     `SELECT start_key, end_key, out_key, out_key + ${W} AS flow_key, used_rows
-FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k) AS start_key, max(k) AS end_key, count(*) AS used_rows FROM tm_used) x) y`);
+FROM (SELECT start_key, end_key, ${out} AS out_key, used_rows FROM (SELECT min(k) AS start_key, max(k) AS end_key, coalesce(SUM(ev), 0) AS used_rows FROM tm_uk) x) y`);
   const startDay = rules.grain === 'day' ? 'x' : rules.grain === 'week' ? `x * 7 + ${ws - 3}` : daysFromCivil(`${D.intDiv('x', '12')} - CASE WHEN ${D.mod('x', '12')} + 1 <= 2 THEN 1 ELSE 0 END`, `${D.mod('x', '12')} + 1`, '1');
   cte('tm_periods', 'every output period with its label (its first day)',
     `SELECT x AS k, ${D.dayLabel(startDay)} AS label FROM (${D.series('out_key', 'end_key', 'tm_bounds')}) s`);
 
   // ---- lifecycle
   cte('tm_active', `(user, ${rules.grain}) with at least ${rules.activity.minEvents} key event(s)`,
-    `SELECT user_id, k, count(*) AS ev FROM tm_used GROUP BY user_id, k HAVING count(*) >= ${rules.activity.minEvents}`);
+    `SELECT user_id, k, ev FROM tm_uk WHERE ev >= ${rules.activity.minEvents}`);
   if (has.by) {
-    const v = "coalesce(by_value, '')";
+    // the value whose latest row is the latest of the period is the value of the latest row
     cte('tm_attr', 'the --by value of each (user, period): on its latest event; on a tie, the largest value in code-point order',
       `SELECT user_id, k, v FROM (
-  SELECT user_id, k, ${v} AS v, row_number() OVER (PARTITION BY user_id, k ORDER BY wall_ms DESC, ${D.binaryOrder(v)} DESC) AS rn FROM tm_used
+  SELECT user_id, k, v, row_number() OVER (PARTITION BY user_id, k ORDER BY max_wall DESC, ${D.binaryOrder('v')} DESC) AS rn FROM tm_ukv
 ) x WHERE rn = 1${D.fence}`);
   }
   cte('tm_runs', 'each active period with the active periods before and after it',
     `SELECT user_id, k, ev,
-  lag(ev) OVER (PARTITION BY user_id ORDER BY k) AS prev_ev,
+  ${rules.splits.length ? 'lag(ev) OVER (PARTITION BY user_id ORDER BY k)' : `CAST(NULL AS ${D.bigint})`} AS prev_ev,
   lag(k) OVER (PARTITION BY user_id ORDER BY k) AS prev_k,
   lag(k, 2) OVER (PARTITION BY user_id ORDER BY k) AS prev2_k,
   lead(k) OVER (PARTITION BY user_id ORDER BY k) AS next_k,
@@ -310,21 +341,25 @@ FROM tm_runs r CROSS JOIN tm_bounds b${has.by ? '\nLEFT JOIN tm_attr a ON a.user
   const spans: string[] = [];
   // with --by, every quiet span keeps its user's segment, so the segment tables read the same counts
   const G = has.by ? ', seg' : '';
+  // the spans depend only on the period and the quiet run after it: those are counted once (n), so the
+  // spans are made from a few rows a period rather than from every active period
+  cte('tm_quiet', 'active periods followed by a quiet run: how many (n) by period, state and length of the run',
+    `SELECT k, st, quiet${G}, count(*) AS n FROM tm_life WHERE quiet >= 1 GROUP BY k, st, quiet${G}`);
   const span = (sf: string, st: number, lo: string, hi: string, when: string, clip: 'out_key' | 'flow_key + 1') =>
-    spans.push(`SELECT ${sf} AS sf, ${st} AS st${G}, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi FROM tm_life CROSS JOIN tm_bounds WHERE ${when}`);
+    spans.push(`SELECT ${sf} AS sf, ${st} AS st${G}, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi, n FROM tm_quiet CROSS JOIN tm_bounds WHERE ${when}`);
   if (L >= 1) span('-1', m.lapse, 'k + 1', `k + CASE WHEN quiet < ${L} THEN quiet ELSE ${L} END`, 'quiet >= 1', 'out_key');
   span('-1', m.exit, `k + ${L + 1}`, 'k + quiet', `quiet >= ${L + 1}`, 'out_key');
   span('st', L >= 1 ? m.lapse : m.exit, 'k + 1', 'k + 1', 'quiet >= 1', 'flow_key + 1');
   if (L >= 2) span(String(m.lapse), m.lapse, 'k + 2', `k + CASE WHEN quiet < ${L} THEN quiet ELSE ${L} END`, 'quiet >= 2', 'flow_key + 1');
   if (L >= 1) span(String(m.lapse), m.exit, `k + ${L + 1}`, `k + ${L + 1}`, `quiet >= ${L + 1}`, 'flow_key + 1');
   span(String(m.exit), m.exit, `k + ${Math.max(2, L + 2)}`, 'k + quiet', `quiet >= ${Math.max(2, L + 2)}`, 'flow_key + 1');
-  cte('tm_spans', 'quiet runs as spans of periods: in a quiet state (sf = -1), or moving from sf to st',
-    `SELECT sf, st${G}, lo, hi FROM (\n${spans.join('\nUNION ALL\n')}\n) x WHERE lo <= hi`);
+  cte('tm_spans', 'quiet runs as spans of periods: in a quiet state (sf = -1), or moving from sf to st; n users each',
+    `SELECT sf, st${G}, lo, hi, n FROM (\n${spans.join('\nUNION ALL\n')}\n) x WHERE lo <= hi`);
   cte('tm_deltas', 'where spans start (+) and end (−)',
     `SELECT sf, st${G}, p, SUM(d) AS d FROM (
-  SELECT sf, st${G}, lo AS p, count(*) AS d FROM tm_spans GROUP BY sf, st${G}, lo
+  SELECT sf, st${G}, lo AS p, SUM(n) AS d FROM tm_spans GROUP BY sf, st${G}, lo
   UNION ALL
-  SELECT sf, st${G}, hi + 1 AS p, -count(*) AS d FROM tm_spans GROUP BY sf, st${G}, hi + 1
+  SELECT sf, st${G}, hi + 1 AS p, -SUM(n) AS d FROM tm_spans GROUP BY sf, st${G}, hi + 1
 ) x GROUP BY sf, st${G}, p`);
   cte('tm_span_counts', 'users in each span kind in each period: running sums of the deltas',
     `SELECT g.sf, g.st${has.by ? ', g.seg' : ''}, g.p, SUM(coalesce(d.d, 0)) OVER (PARTITION BY g.sf, g.st${has.by ? ', g.seg' : ''} ORDER BY g.p ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS n
@@ -439,24 +474,43 @@ FROM (
 
   const facts: Compiled['facts'] = {
     range: 'SELECT start_key, end_key, out_key, flow_key, used_rows FROM tm_bounds',
-    accounting: 'SELECT status, reason, count(*) AS n FROM tm_ev GROUP BY status, reason ORDER BY status, reason',
+    accounting: 'SELECT status, reason, SUM(n) AS n FROM tm_fates GROUP BY status, reason ORDER BY status, reason',
     events: has.event
       ? `SELECT event, n FROM (
   SELECT event, n, rank() OVER (ORDER BY n DESC) AS r FROM (
-    SELECT event, count(*) AS n FROM tm_ev WHERE event IS NOT NULL AND (status <> 'rejected' OR reason = 'missing event name') GROUP BY event
+    SELECT event, SUM(n) AS n FROM tm_fates WHERE event IS NOT NULL AND (status <> 'rejected' OR reason = 'missing event name') GROUP BY event
   ) x
 ) y WHERE r <= ${EVENT_NAMES_KEPT} ORDER BY n DESC, event`
       : `SELECT CAST(NULL AS ${D.text}) AS event, 0 AS n FROM tm_bounds WHERE 1 = 0`,
-    lastPeriod: 'SELECT count(*) AS n, max(u.wall_ms) AS max_wall FROM tm_used u CROSS JOIN tm_bounds b WHERE u.k = b.end_key',
-    users: 'SELECT count(DISTINCT user_id) AS users FROM tm_life',
+    lastPeriod: 'SELECT coalesce(SUM(u.ev), 0) AS n, max(u.max_wall) AS max_wall FROM tm_uk u CROSS JOIN tm_bounds b WHERE u.k = b.end_key',
+    // one first active period a user
+    users: 'SELECT count(*) AS users FROM tm_life WHERE prev_k IS NULL',
     attributes: attrCols.length
-      ? `SELECT ${attrCols.map((c, i) => `count(DISTINCT CASE WHEN ${c} <> '' THEN ${c} END) AS values_${i}`).join(', ')} FROM tm_used`
+      ? `SELECT ${attrCols.map((_, i) => `SUM(CASE WHEN a = ${i} THEN 1 ELSE 0 END) AS values_${i}`).join(', ')} FROM tm_attr_values`
       : 'SELECT 0 AS none FROM tm_bounds',
     uniqueness: has.by
-      ? `SELECT (SELECT count(DISTINCT user_id) FROM tm_used WHERE by_value <> '') AS with_value,
-  (SELECT count(DISTINCT u1) FROM (SELECT by_value, min(user_id) AS u1, max(user_id) AS u2 FROM tm_used WHERE by_value <> '' GROUP BY by_value) x WHERE u1 = u2) AS with_own`
+      ? `SELECT (SELECT count(DISTINCT user_id) FROM tm_ukv WHERE v <> '') AS with_value,
+  (SELECT count(DISTINCT u1) FROM (SELECT v, min(user_id) AS u1, max(user_id) AS u2 FROM tm_ukv WHERE v <> '' GROUP BY v) x WHERE u1 = u2) AS with_own`
       : 'SELECT 0 AS with_value, 0 AS with_own',
     periods: 'SELECT label FROM tm_periods ORDER BY k',
   };
-  return { ctes, tables, facts, model: m };
+  const used = "status = 'used'";
+  const rowPass: Compiled['rowPass'] = {
+    name: 'tm_rowpass',
+    select: `SELECT GROUPING(uu) AS g_uk, GROUPING(status) AS g_fate${attrCols.map((_, i) => `, GROUPING(ua_${i}) AS g_a_${i}`).join('')},
+  uu, uk${has.by ? ', ub' : ''}, status, reason, event${attrCols.map((_, i) => `, ua_${i}`).join('')}, count(*) AS n, max(wall_ms) AS max_wall
+FROM (
+  SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, CASE WHEN ${used} THEN wall_ms END AS wall_ms,
+    CASE WHEN ${used} THEN user_id END AS uu, CASE WHEN ${used} THEN k END AS uk${has.by ? `, CASE WHEN ${used} THEN coalesce(by_value, '') END AS ub` : ''}${attrCols.map((c, i) => `,
+    CASE WHEN ${used} AND ${c} <> '' THEN ${c} END AS ua_${i}`).join('')}
+  FROM tm_ev${D.fence}
+) x
+GROUP BY GROUPING SETS ((uu, uk${has.by ? ', ub' : ''}), (status, reason, event)${attrCols.map((_, i) => `, (ua_${i})`).join('')})`,
+    split: {
+      [has.by ? 'tm_ukv' : 'tm_uk']: `SELECT uu AS user_id, uk AS k${has.by ? ', ub AS v' : ''}, n AS ev, max_wall FROM tm_rowpass WHERE g_uk = 0 AND uu IS NOT NULL`,
+      tm_fates: 'SELECT status, reason, event, n FROM tm_rowpass WHERE g_fate = 0',
+      ...(attrCols.length ? { tm_attr_values: attrCols.map((_, i) => `SELECT ${i} AS a, ua_${i} AS v FROM tm_rowpass WHERE g_a_${i} = 0 AND ua_${i} IS NOT NULL`).join('\nUNION ALL\n') } : {}),
+    },
+  };
+  return { ctes, tables, facts, model: m, rowPass };
 }

@@ -81,12 +81,21 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       t0 = t;
     };
     const stored = new Set<string>();
-    // the small steps that many queries read are stored too: computed once, not once a query
-    for (const name of ['tm_ev', 'tm_bounds', ...(prepared.source.has.by ? ['tm_attr'] : []), 'tm_life', 'tm_periods', 'tm_span_counts']) {
-      await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, `SELECT * FROM ${name}`, stored)}`);
+    const store = async (name: string, select = `SELECT * FROM ${name}`) => {
+      await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, select, stored)}`);
       stored.add(name);
       stage(name);
+    };
+    // the rows are read once, into small aggregates (compile.ts, rowPass), and never stored
+    const { rowPass } = compiled;
+    await store(rowPass.name, rowPass.select);
+    // its parts as views: a filtered read of the stored aggregate costs less than a copy
+    for (const [name, select] of Object.entries(rowPass.split)) {
+      await c.run(`CREATE TEMP VIEW ${name} AS ${select}`);
+      stored.add(name);
     }
+    // the small steps that many queries read are stored too: computed once, not once a query
+    for (const name of [...(prepared.source.has.by ? ['tm_uk', 'tm_attr'] : []), 'tm_bounds', 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
     const query = (final: string) => rowsOf(c, withCtes(compiled.ctes, final, stored));
     const readerRejects = await countRejects(c, prepared.rejects, input);
     const accounting = (await query(compiled.facts.accounting)).map((r) => ({ status: String(r.status), reason: r.reason === null ? null : String(r.reason), n: Number(r.n) }));
