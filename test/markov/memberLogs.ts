@@ -8,7 +8,8 @@
  * - `shock`: a normal shock each week (sd), shared by every member;
  * - `decline`: a steady change per week (logit);
  * - `cycle`: { period, amp } a sine;
- * - `drift`: a random walk (sd a week).
+ * - `drift`: a random walk (sd a week);
+ * - `step`: { week, by } a lasting shift of `by` from that week on (a structural break).
  * Arrivals a week are Poisson around `arrivals` × (1 + growth·t) × exp(arrivalShock·z_t), with
  * `spikes` (week → factor) of newcomers and an optional arrival decline (× (1 + arrivalTrend·t)).
  */
@@ -24,6 +25,7 @@ export interface MemberLogSpec {
   decline?: number;
   cycle?: { period: number; amp: number };
   drift?: number;
+  step?: { week: number; by: number };
   growth?: number;
   arrivalTrend?: number;
   arrivalShock?: number;
@@ -58,7 +60,7 @@ export function memberLogCsv(spec: MemberLogSpec): string {
   let walk = 0;
   const effect = Array.from({ length: spec.weeks }, (_, t) => {
     if (spec.drift) walk += spec.drift * gauss();
-    return (spec.shock ? spec.shock * gauss() : 0) + (spec.decline ?? 0) * t + (spec.cycle ? spec.cycle.amp * Math.sin((2 * Math.PI * t) / spec.cycle.period) : 0) + walk;
+    return (spec.shock ? spec.shock * gauss() : 0) + (spec.decline ?? 0) * t + (spec.cycle ? spec.cycle.amp * Math.sin((2 * Math.PI * t) / spec.cycle.period) : 0) + walk + (spec.step && t >= spec.step.week ? spec.step.by : 0);
   });
   const arrivals = Array.from({ length: spec.weeks }, (_, t) => {
     const mean = spec.arrivals * Math.max(0.05, 1 + (spec.growth ?? 0) * t) * Math.max(0.05, 1 + (spec.arrivalTrend ?? 0) * t) * Math.exp((spec.arrivalShock ?? 0) * gauss()) * (spec.spikes?.[t] ?? 1);

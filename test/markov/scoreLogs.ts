@@ -36,7 +36,24 @@ export const DEVELOPMENT_2: Record<string, MemberLogSpec> = {
   growth2: { weeks: 45, arrivals: 150, seed: 206, growth: 0.06, decline: 0.008 },
 };
 
-const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
+/**
+ * Logs generated after the design was committed (270f134), with seeds and settings not used while
+ * designing, scored once: a step change of activity (a planted break) and other members' base rates
+ * (loyal, churny) are shapes the development logs did not have.
+ */
+export const UNSEEN: Record<string, MemberLogSpec> = {
+  surge: { weeks: 48, arrivals: 600, seed: 9001, spikes: { 12: 8, 33: 4 }, shock: 0.1 },
+  slide: { weeks: 62, arrivals: 420, seed: 9002, decline: -0.025, arrivalTrend: -0.01 },
+  cycle6: { weeks: 52, arrivals: 380, seed: 9003, cycle: { period: 6, amp: 0.3 }, spread: 1.2 },
+  wander: { weeks: 58, arrivals: 520, seed: 9004, drift: 0.1, growth: 0.015 },
+  tiny: { weeks: 42, arrivals: 45, seed: 9005, spread: 1.8, shock: 0.1 },
+  boom: { weeks: 46, arrivals: 120, seed: 9006, growth: 0.08, shock: 0.15, arrivalShock: 0.25 },
+  stepdown: { weeks: 56, arrivals: 350, seed: 9007, step: { week: 30, by: -0.5 }, shock: 0.1 },
+  loyal: { weeks: 55, arrivals: 300, seed: 9008, shock: 0.15, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
+  churny: { weeks: 50, arrivals: 800, seed: 9009, cycle: { period: 17, amp: 0.2 }, drift: 0.05, base: { newcomer: -1.2, active: 0.6, idle: -1, idleDecay: 0.5 } },
+};
+
+const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
 
 export async function tablesOf(name: string, spec: MemberLogSpec | 'demo'): Promise<WaistTables> {
   const dir = join(tmpdir(), 'tidemark-calib');
