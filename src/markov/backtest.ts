@@ -44,7 +44,7 @@ import { projectVarying } from './project.js';
 import { pathPercentiles, simulatePaths } from './simulate.js';
 import type { Vector } from './types.js';
 import { commonShare, rateVariation } from './variation.js';
-import { bandScore, innerAlt, widen, widthFactors, type BandScoreRecord } from './recalibrate.js';
+import { bandScore, innerAlt, recalibratedBands, widthFactors, type BandScoreRecord } from './recalibrate.js';
 
 export { bandScore, widen, widthFactors } from './recalibrate.js';
 
@@ -245,8 +245,7 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
         const [mil, miu, mol, mou, med] = q[s].map((row) => row[h]);
         const alt = innerAlt(med, mol, mou, sideRatio);
         scores[h - 1].push({ origin: originNo, known: p + h, inner: bandScore(a, med, mil, miu, alt), outer: bandScore(a, med, mol, mou) });
-        const [il, iu] = f ? widen(med, mil, miu, f.inner, alt) : [mil, miu];
-        const [ol, ou] = f ? widen(med, mol, mou, f.outer) : [mol, mou];
+        const [il, iu, ol, ou] = f ? recalibratedBands(med, [mil, miu, mol, mou], f.inner, f.outer, sideRatio) : [mil, miu, mol, mou];
         if (options.detail) cells.push({ origin: originNo, period: p, horizon: h, state: s, actual: a, median: med, model: [mil, miu, mol, mou], band: [il, iu, ol, ou] });
         acc.cells += 1;
         acc.mae += Math.abs(point.shares[h][s] - a);

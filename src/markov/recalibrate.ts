@@ -54,6 +54,19 @@ export function innerAlt(m: number, ol: number, ou: number, ratio: number): [num
   return [Math.max(0, m - ol) * ratio, Math.max(0, ou - m) * ratio];
 }
 
+/**
+ * Both bands recalibrated: [inner lo, inner hi, outer lo, outer hi] of the model around the median m,
+ * each band's sides scaled by its factor ({@link widen}; the inner band's fallback sides from the outer's
+ * times `ratio`), the inner band kept inside the outer one.
+ *
+ * @example recalibratedBands(0.3, [0.25, 0.35, 0.2, 0.4], 1, 1.5, 0.53) // [0.25, 0.35, 0.15, 0.45]
+ */
+export function recalibratedBands(m: number, model: readonly [number, number, number, number], inner: number, outer: number, ratio: number): [number, number, number, number] {
+  const [il, iu] = widen(m, model[0], model[1], inner, innerAlt(m, model[2], model[3], ratio));
+  const [ol, ou] = widen(m, model[2], model[3], outer);
+  return [Math.max(il, ol), Math.min(iu, ou), ol, ou];
+}
+
 /** One past score: the origin's number, the period its outcome was known, and the inner and outer bands' scores. */
 export interface BandScoreRecord {
   origin: number;

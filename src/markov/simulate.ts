@@ -20,7 +20,7 @@ import { mulberry32, normal, type Rng } from '../numerics/random.js';
 import { gamma } from '../numerics/gamma.js';
 import { quantileSorted } from '../numerics/quantile.js';
 import type { InflowEstimate } from './inflow.js';
-import { innerAlt, widen } from './recalibrate.js';
+import { recalibratedBands } from './recalibrate.js';
 import { MAX_VARIATION, type RowVariation } from './variation.js';
 
 /** Pseudo-count added to each observed move when a row's level is drawn (Jeffreys). */
@@ -241,10 +241,9 @@ export function pathPercentiles(sim: Simulation, levels: readonly number[], of: 
     if (r && f && t > 0) {
       // the bands recalibrated as the backtest does (recalibrate.ts): each side scaled by its factor
       const at = (l: number) => quantileSorted(sorted, l / 100);
-      const med = at(50), [ol, ou] = [at(r.outer[0]), at(r.outer[1])];
-      const [il, iu] = widen(med, at(r.inner[0]), at(r.inner[1]), f.inner, innerAlt(med, ol, ou, r.sideRatio));
-      const [wl, wu] = widen(med, ol, ou, f.outer);
-      bands = new Map([[r.outer[0], wl], [r.outer[1], wu], [r.inner[0], il], [r.inner[1], iu]]);
+      const med = at(50);
+      const [il, iu, ol, ou] = recalibratedBands(med, [at(r.inner[0]), at(r.inner[1]), at(r.outer[0]), at(r.outer[1])], f.inner, f.outer, r.sideRatio);
+      bands = new Map([[r.outer[0], ol], [r.outer[1], ou], [r.inner[0], il], [r.inner[1], iu]]);
     }
     levels.forEach((l, q) => (out[q][t] = bands?.get(l) ?? quantileSorted(sorted, l / 100)));
   }

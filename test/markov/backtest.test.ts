@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { backtest, bandScore, intervalScore, widen, widthFactors, type BacktestCell } from '../../src/markov/backtest.js';
+import { recalibratedBands } from '../../src/markov/recalibrate.js';
 import { simulatedChain } from './chains.js';
 import { MAKERSPACE_P, exactTables, expectClose, expectRefusal } from './helpers.js';
 
@@ -176,6 +177,11 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
     expect(bandScore(0.3, 0.3, 0.3, 0.3)).toBe(0);
     expectClose(widen(0.3, 0.2, 0.5, 2), [0.1, 0.7], 1e-12);
     expectClose(widen(0.3, 0.2, 0.5, 0.5), [0.25, 0.4], 1e-12);
+    // both bands: the inner one kept inside the outer one
+    expectClose(recalibratedBands(0.3, [0.25, 0.35, 0.2, 0.4], 1, 1.5, 0.53), [0.25, 0.35, 0.15, 0.45], 1e-12);
+    expectClose(recalibratedBands(0.3, [0.25, 0.35, 0.2, 0.4], 3, 1, 0.53), [0.2, 0.4, 0.2, 0.4], 1e-12);
+    // an inner band of width 0 takes the outer band's sides times the ratio
+    expectClose(recalibratedBands(0.3, [0.3, 0.3, 0.2, 0.4], 1, 1, 0.5), [0.25, 0.35, 0.2, 0.4], 1e-12);
   });
 
   it('widthFactors takes the ⌈(n + 1)·level⌉-th smallest score of the latest origins known at the origin (hand values)', () => {
@@ -238,7 +244,8 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
       const fi = kth(used.map((d) => score(d, true)), 0.5);
       const fo = kth(used.map((d) => score(d, false)), 0.8);
       const m = c.median, [il, iu] = sides(c, true), [ol, ou] = sides(c, false);
-      expectClose(c.band, [m - fi * il, m + fi * iu, m - fo * ol, m + fo * ou], 1e-12);
+      // the inner band kept inside the outer one
+      expectClose(c.band, [Math.max(m - fi * il, m - fo * ol), Math.min(m + fi * iu, m + fo * ou), m - fo * ol, m + fo * ou], 1e-12);
     }
     expect(recalibrated).toBeGreaterThan(cells.length / 3);
     expect(bt.rows.reduce((a, r) => a + r.recalibrated, 0)).toBe(new Set(cells.filter((c, i) => cells.findIndex((d) => d.origin === c.origin && d.horizon === c.horizon) === i && c.band.some((v, k) => v !== c.model[k])).map((c) => `${c.origin}:${c.horizon}`)).size);
