@@ -9,7 +9,9 @@
  * - `decline`: a steady change per week (logit);
  * - `cycle`: { period, amp } a sine;
  * - `drift`: a random walk (sd a week);
- * - `step`: { week, by } a lasting shift of `by` from that week on (a structural break).
+ * - `step`: { week, by } a lasting shift of `by` from that week on (a structural break);
+ * - `dip`: { from, to, by } a shift of `by` for weeks from … to − 1, then back;
+ * - `turn`: { week, slope } the steady change per week becomes `slope` from that week on.
  * Arrivals a week are Poisson around `arrivals` × (1 + growth·t) × exp(arrivalShock·z_t), with
  * `spikes` (week → factor) of newcomers and an optional arrival decline (× (1 + arrivalTrend·t)).
  */
@@ -26,6 +28,8 @@ export interface MemberLogSpec {
   cycle?: { period: number; amp: number };
   drift?: number;
   step?: { week: number; by: number };
+  dip?: { from: number; to: number; by: number };
+  turn?: { week: number; slope: number };
   growth?: number;
   arrivalTrend?: number;
   arrivalShock?: number;
@@ -60,7 +64,8 @@ export function memberLogCsv(spec: MemberLogSpec): string {
   let walk = 0;
   const effect = Array.from({ length: spec.weeks }, (_, t) => {
     if (spec.drift) walk += spec.drift * gauss();
-    return (spec.shock ? spec.shock * gauss() : 0) + (spec.decline ?? 0) * t + (spec.cycle ? spec.cycle.amp * Math.sin((2 * Math.PI * t) / spec.cycle.period) : 0) + walk + (spec.step && t >= spec.step.week ? spec.step.by : 0);
+    return (spec.shock ? spec.shock * gauss() : 0) + (spec.decline ?? 0) * t + (spec.cycle ? spec.cycle.amp * Math.sin((2 * Math.PI * t) / spec.cycle.period) : 0) + walk + (spec.step && t >= spec.step.week ? spec.step.by : 0)
+      + (spec.dip && t >= spec.dip.from && t < spec.dip.to ? spec.dip.by : 0) + (spec.turn && t > spec.turn.week ? (spec.turn.slope - (spec.decline ?? 0)) * (t - spec.turn.week) : 0);
   });
   const arrivals = Array.from({ length: spec.weeks }, (_, t) => {
     const mean = spec.arrivals * Math.max(0.05, 1 + (spec.growth ?? 0) * t) * Math.max(0.05, 1 + (spec.arrivalTrend ?? 0) * t) * Math.exp((spec.arrivalShock ?? 0) * gauss()) * (spec.spikes?.[t] ?? 1);

@@ -53,7 +53,25 @@ export const UNSEEN: Record<string, MemberLogSpec> = {
   churny: { weeks: 50, arrivals: 800, seed: 9009, cycle: { period: 17, amp: 0.2 }, drift: 0.05, base: { newcomer: -1.2, active: 0.6, idle: -1, idleDecay: 0.5 } },
 };
 
-const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
+/**
+ * A second set of logs not seen while designing, generated after the design was committed and the
+ * first unseen set scored (new seeds and settings; a dip of activity for eight weeks and a decline that
+ * turns into a recovery are shapes no earlier log had), scored once.
+ */
+export const UNSEEN_2: Record<string, MemberLogSpec> = {
+  dip: { weeks: 54, arrivals: 400, seed: 9101, dip: { from: 25, to: 33, by: -0.6 }, shock: 0.1 },
+  recovery: { weeks: 60, arrivals: 350, seed: 9102, decline: -0.02, turn: { week: 30, slope: 0.02 } },
+  cycle10: { weeks: 56, arrivals: 450, seed: 9103, cycle: { period: 10, amp: 0.4 }, arrivalShock: 0.2 },
+  decline3: { weeks: 70, arrivals: 380, seed: 9104, decline: -0.018, spread: 1.4 },
+  spiky: { weeks: 50, arrivals: 300, seed: 9105, spikes: { 14: 5, 27: 10, 40: 3 } },
+  small2: { weeks: 60, arrivals: 30, seed: 9106, spread: 1.2 },
+  big: { weeks: 40, arrivals: 1500, seed: 9107, shock: 0.2 },
+  drift3: { weeks: 64, arrivals: 260, seed: 9108, drift: 0.15 },
+  growfade: { weeks: 52, arrivals: 180, seed: 9109, growth: 0.05, decline: -0.01 },
+  longcycle: { weeks: 66, arrivals: 250, seed: 9110, cycle: { period: 26, amp: 0.3 }, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
+};
+
+const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, unseen2: UNSEEN_2, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
 
 export async function tablesOf(name: string, spec: MemberLogSpec | 'demo'): Promise<WaistTables> {
   const dir = join(tmpdir(), 'tidemark-calib');
