@@ -9,6 +9,7 @@ import { selectTransitions } from '../../flows/select.js';
 import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { stateNames, type StateSplit } from '../../lifecycle/states.js';
 import type { Weekday } from '../../rules/schema.js';
+import type { Backtest } from '../../markov/backtest.js';
 import { INFLOW_METHODS, type InflowMethod } from '../../markov/inflow.js';
 import { computeProjection, DEFAULT_FIT, type ProjectionOptions, type ProjectionStep, type ProjectOutput } from '../../markov/run.js';
 import { validateModel } from '../../markov/validate.js';
@@ -158,6 +159,10 @@ function backtestLines(bt: NonNullable<ProjectOutput['backtest']>): string[] {
   const [ti0, ti1] = bt.target.inner, [to0, to1] = bt.target.outer;
   out.push(`Target: the ${ihi - ilo}% band holds ${pct(ti0, 0)}-${pct(ti1, 0)} and the ${ohi - olo}% band ${pct(to0, 0)}-${pct(to1, 0)} of what happened, at every horizon.`);
   if (bt.seasonalNote) out.push(`note: no seasonal-naive baseline: ${bt.seasonalNote}.`);
+  if (bt.recalibration && bt.rows.some((r) => r.recalibrated > 0)) {
+    const span = (f: (r: Backtest['rows'][number]) => number) => `${pct(Math.min(...bt.rows.map(f)), 0)}-${pct(Math.max(...bt.rows.map(f)), 0)}`;
+    out.push(`note: each origin's bands were recalibrated from the errors of the latest ${bt.recalibration.scoreOrigins} earlier origins whose outcome was known (the model's own where fewer than ${bt.recalibration.minScores} scores); the model's own bands held ${span((r) => r.modelInnerCoverage)} (${ihi - ilo}%) and ${span((r) => r.modelCoverage)} (${ohi - olo}%).`);
+  }
   const below = bt.rows.filter((r) => r.coverage < to0 - 1e-9 || r.innerCoverage < ti0 - 1e-9).map((r) => `+${r.horizon}`);
   const above = bt.rows.filter((r) => r.coverage > to1 + 1e-9 || r.innerCoverage > ti1 + 1e-9).map((r) => `+${r.horizon}`);
   const breaks = bt.missed.slice(0, 6).map((m) => m.period).join(', ');
