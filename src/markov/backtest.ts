@@ -19,6 +19,18 @@
  * σ_h = σ√(k + 1), k = ⌊(h − 1)/m⌋, σ from the changes over one season). The seasonal baseline needs a
  * season of history before the origin; without one it is left out and the reason given.
  *
+ * Recalibration (on by default): each band the model simulates is scored at every origin against what
+ * happened (`bandScore`: the distance of the actual share from the paths' median in units of the band's
+ * side). An origin's band at horizon h has both sides scaled by the empirical quantile, at the band's
+ * level, of the scores at horizon h of the latest {@link SCORE_ORIGINS} earlier origins whose outcome was
+ * known at the origin (origin + h ≤ this origin: no look-ahead) — split conformal prediction with a
+ * normalised score (Vovk, Gammerman & Shafer 2005, *Algorithmic Learning in a Random World*; Shafer &
+ * Vovk 2008, JMLR 9:371–421); the latest origins only, since the errors of a changing audience are not
+ * exchangeable over a long log. Fewer than {@link MIN_SCORES} such scores leave the model's band. The
+ * coverage, interval scores and missed periods are of the bands so made; `model…` fields keep the model's.
+ * The same quantiles over the latest origins of all scored give the factors for the projection at the
+ * last period (`recalibration`).
+ *
  * Periods where the outer band missed at least half of the cells aimed at them (10 cells or more) are
  * listed: the flows changed there beyond their past variation (a structural break).
  */
@@ -32,6 +44,9 @@ import { projectVarying } from './project.js';
 import { pathPercentiles, simulatePaths } from './simulate.js';
 import type { Vector } from './types.js';
 import { commonShare, rateVariation } from './variation.js';
+import { bandScore, innerAlt, recalibratedBands, widthFactors, type BandScoreRecord } from './recalibrate.js';
+
+export { bandScore, widen, widthFactors } from './recalibrate.js';
 
 export interface BacktestOptions {
   /** Steps ahead H (default 8). */
@@ -54,7 +69,33 @@ export interface BacktestOptions {
   inflowMethod?: InflowMethod;
   /** Periods in a season, for the seasonal-naive baseline (none: the baseline is left out). */
   season?: number;
+  /** Recalibrate each origin's bands by the scores of earlier origins (default true; false scores the model's bands alone). */
+  calibrate?: boolean;
+  /** Past scores (cells) a horizon needs before its bands are recalibrated (default {@link MIN_SCORES}). */
+  minScores?: number;
+  /** Only the scores of the latest N origins whose outcome is known count (default {@link SCORE_ORIGINS}). */
+  scoreOrigins?: number;
+  /** Also return every scored cell (`cells`), for checks (default false). */
+  detail?: boolean;
 }
+
+/** One scored (origin, horizon, state) cell: the model's band and the one scored (recalibrated or not), [inner lo, inner hi, outer lo, outer hi]. */
+export interface BacktestCell {
+  /** The origin's number (0 = the first scored) and its period index. */
+  origin: number;
+  period: number;
+  horizon: number;
+  state: number;
+  actual: number;
+  median: number;
+  model: [number, number, number, number];
+  band: [number, number, number, number];
+}
+
+/** Past (origin, state) scores a horizon needs before its bands are recalibrated. */
+export const MIN_SCORES = 30;
+/** Origins whose scores count toward a recalibration: the latest this many with known outcomes. */
+export const SCORE_ORIGINS = 15;
 
 /** The inner band's percentiles (a 50% band). */
 export const INNER_BAND: [number, number] = [25, 75];
@@ -78,6 +119,20 @@ export interface BacktestRow {
   innerCoverage: number;
   /** Mean interval scores of shares (lower is better). */
   intervalScore: { model: IntervalScores; noChange: IntervalScores; seasonalNaive: IntervalScores | null };
+  /** The model's own bands before recalibration: outer and inner coverage, interval scores. */
+  modelCoverage: number;
+  modelInnerCoverage: number;
+  modelIntervalScore: IntervalScores;
+  /** Origins at this horizon whose bands were recalibrated (the rest had too few past scores and kept the model's). */
+  recalibrated: number;
+}
+
+/** The recalibration at the last period, for the projection: per horizon, the factors the model's band widths are scaled by. */
+export interface Recalibration {
+  /** Past (origin, state) scores needed, and origins whose scores count (the latest with known outcomes). */
+  minScores: number;
+  scoreOrigins: number;
+  horizons: { horizon: number; scores: number; inner: number | null; outer: number | null }[];
 }
 
 export interface Backtest {
@@ -95,6 +150,10 @@ export interface Backtest {
   seasonalNote?: string;
   /** Periods whose actual mix the outer band missed in at least half of the cells aimed at them. */
   missed: { period: string; cells: number; outside: number }[];
+  /** The band widths' recalibration from the origins' scores (null when calibrate is false). */
+  recalibration: Recalibration | null;
+  /** Every scored cell, when asked for (`detail`). */
+  cells?: BacktestCell[];
 }
 
 /**
@@ -106,13 +165,15 @@ export interface Backtest {
  * @example backtest(tables, { horizon: 2 }).rows // [{ horizon: 1, mae, coverage, innerCoverage, intervalScore, … }, { horizon: 2, … }]
  */
 export function backtest(tables: WaistTables, options: BacktestOptions = {}): Backtest {
-  const { horizon = 8, minFit = 4, window, samples = 100, seed = 1, band = [10, 90], season } = options;
+  const { horizon = 8, minFit = 4, window, samples = 100, seed = 1, band = [10, 90], season, calibrate = true, minScores = MIN_SCORES, scoreOrigins = SCORE_ORIGINS } = options;
   assertInteger(horizon, 'horizon', 1, 1000);
   assertInteger(minFit, 'minFit', 1);
   assertInteger(samples, 'samples', 1, 100000);
   if (window !== undefined) assertInteger(window, 'window', minFit);
   if (options.maxOrigins !== undefined) assertInteger(options.maxOrigins, 'maxOrigins', 1);
   if (season !== undefined) assertInteger(season, 'season', 1, 1000);
+  assertInteger(minScores, 'minScores', 1);
+  assertInteger(scoreOrigins, 'scoreOrigins', 1);
   assertInteger(seed, 'seed', 0, 0xffffffff);
   if (!(band[0] >= 0 && band[0] < band[1] && band[1] <= 100)) {
     throw new TidemarkError('INPUT_INVALID', `band must be [lo, hi] with 0 ≤ lo < hi ≤ 100 (got [${band.join(', ')}])`, { key: 'band' });
@@ -133,15 +194,21 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
   });
   const share = stateCounts.map(shares);
   const periodAt = new Map(periods.map((label, i) => [label, i]));
-  const levels = [INNER_BAND[0], INNER_BAND[1], band[0], band[1]];
+  const levels = [INNER_BAND[0], INNER_BAND[1], band[0], band[1], 50];
+  const levelInner = (INNER_BAND[1] - INNER_BAND[0]) / 100;
+  const levelOuter = (band[1] - band[0]) / 100;
+  // every scored (origin, state) cell's scores, by horizon: the origin's number, when its outcome is known, and its scores
+  const scores: BandScoreRecord[][] = Array.from({ length: horizon }, () => []);
+  const sideRatio = innerSideRatio(band);
   const alphaInner = 1 - (INNER_BAND[1] - INNER_BAND[0]) / 100;
   const alphaOuter = 1 - (band[1] - band[0]) / 100;
   const zInner = normalQuantile(1 - alphaInner / 2);
   const zOuter = normalQuantile(1 - alphaOuter / 2);
-  const blank = () => ({ n: 0, cells: 0, mae: 0, naive: 0, inside: 0, insideInner: 0, is: [0, 0], isNaive: [0, 0], sCells: 0, sMae: 0, isSeason: [0, 0] });
+  const blank = () => ({ n: 0, cells: 0, mae: 0, naive: 0, inside: 0, insideInner: 0, is: [0, 0], isNaive: [0, 0], sCells: 0, sMae: 0, isSeason: [0, 0], mInside: 0, mInsideInner: 0, mIs: [0, 0], recal: 0 });
   const sums = Array.from({ length: horizon }, blank);
   const targets = new Map<number, { cells: number; outside: number }>();
   const origins: string[] = [];
+  const cells: BacktestCell[] = [];
   const firstK = Math.max(minFit - 1, options.maxOrigins === undefined ? 0 : transitions.length - 1 - options.maxOrigins);
   for (let k = firstK; k < transitions.length; k++) {
     const p = periodAt.get(transitions[k].to) ?? -1;
@@ -162,6 +229,7 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
     const naiveSd = states.map((_, s) => rms(range(first + 1, p).map((t) => share[t][s] - share[t - 1][s])));
     const seasonSd = season === undefined ? undefined : states.map((_, s) => rms(range(Math.max(first, season), p).map((t) => share[t][s] - share[t - season][s])));
     const seasonal = season !== undefined && p - season >= 0 && range(Math.max(first, season), p).length >= 2;
+    const originNo = origins.length;
     origins.push(transitions[k].to);
     for (let h = 1; h <= steps; h++) {
       const actual = share[p + h];
@@ -169,19 +237,30 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
       acc.n += 1;
       const target = targets.get(p + h) ?? { cells: 0, outside: 0 };
       targets.set(p + h, target);
+      // the factors from the scores of earlier origins whose outcome at this horizon was known at p
+      const f = calibrate ? widthFactors(scores[h - 1], p, originNo, minScores, scoreOrigins, levelInner, levelOuter) : null;
+      if (f) acc.recal += 1;
       states.forEach((_, s) => {
         const a = actual[s];
-        const [il, iu, ol, ou] = q[s].map((row) => row[h]);
+        const [mil, miu, mol, mou, med] = q[s].map((row) => row[h]);
+        const alt = innerAlt(med, mol, mou, sideRatio);
+        scores[h - 1].push({ origin: originNo, known: p + h, inner: bandScore(a, med, mil, miu, alt), outer: bandScore(a, med, mol, mou) });
+        const [il, iu, ol, ou] = f ? recalibratedBands(med, [mil, miu, mol, mou], f.inner, f.outer, sideRatio) : [mil, miu, mol, mou];
+        if (options.detail) cells.push({ origin: originNo, period: p, horizon: h, state: s, actual: a, median: med, model: [mil, miu, mol, mou], band: [il, iu, ol, ou] });
         acc.cells += 1;
         acc.mae += Math.abs(point.shares[h][s] - a);
         acc.naive += Math.abs(share[p][s] - a);
         const inOuter = a >= ol - 1e-9 && a <= ou + 1e-9;
         if (inOuter) acc.inside += 1;
         if (a >= il - 1e-9 && a <= iu + 1e-9) acc.insideInner += 1;
+        if (a >= mol - 1e-9 && a <= mou + 1e-9) acc.mInside += 1;
+        if (a >= mil - 1e-9 && a <= miu + 1e-9) acc.mInsideInner += 1;
         target.cells += 1;
         if (!inOuter) target.outside += 1;
         acc.is[0] += intervalScore(il, iu, a, alphaInner);
         acc.is[1] += intervalScore(ol, ou, a, alphaOuter);
+        acc.mIs[0] += intervalScore(mil, miu, a, alphaInner);
+        acc.mIs[1] += intervalScore(mol, mou, a, alphaOuter);
         const w = naiveSd[s] * Math.sqrt(h);
         acc.isNaive[0] += intervalScore(share[p][s] - zInner * w, share[p][s] + zInner * w, a, alphaInner);
         acc.isNaive[1] += intervalScore(share[p][s] - zOuter * w, share[p][s] + zOuter * w, a, alphaOuter);
@@ -215,6 +294,10 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
         noChange: { inner: a.isNaive[0] / a.cells, outer: a.isNaive[1] / a.cells },
         seasonalNaive: a.sCells > 0 ? { inner: a.isSeason[0] / a.sCells, outer: a.isSeason[1] / a.sCells } : null,
       },
+      modelCoverage: a.mInside / a.cells,
+      modelInnerCoverage: a.mInsideInner / a.cells,
+      modelIntervalScore: { inner: a.mIs[0] / a.cells, outer: a.mIs[1] / a.cells },
+      recalibrated: a.recal,
     }));
   const nominal = (band[1] - band[0]) / 100;
   const out: Backtest = {
@@ -225,12 +308,29 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
     window: window ?? null,
     samples,
     season: season ?? null,
+    recalibration: calibrate
+      ? {
+          minScores,
+          scoreOrigins,
+          horizons: scores.map((sc, i) => {
+            const f = widthFactors(sc, Infinity, origins.length, minScores, scoreOrigins, levelInner, levelOuter);
+            return { horizon: i + 1, scores: f?.scores ?? sc.length, inner: f?.inner ?? null, outer: f?.outer ?? null };
+          }),
+        }
+      : null,
     missed: [...targets.entries()].filter(([, v]) => v.cells >= 10 && v.outside * 2 >= v.cells).sort((a, b) => a[0] - b[0]).map(([t, v]) => ({ period: periods[t], cells: v.cells, outside: v.outside })),
   };
+  if (options.detail) out.cells = cells;
   if (rows.every((r) => r.seasonalMae === null)) {
     out.seasonalNote = season === undefined ? 'no season length was given' : `it needs ${season + 2} periods of history before an origin (a season and two changes over it); the data have ${periods.length}`;
   }
   return out;
+}
+
+/** The inner band's side over the outer band's for a normal: z at the inner band's level over z at the outer's (0.674/1.282 for 50% and 80%). */
+export function innerSideRatio(band: readonly [number, number]): number {
+  const zo = normalQuantile(0.5 + (band[1] - band[0]) / 200);
+  return zo > 0 ? normalQuantile(0.5 + (INNER_BAND[1] - INNER_BAND[0]) / 200) / zo : 1;
 }
 
 /** The interval score of a central (1 − α) interval [l, u] for the outcome x (Gneiting & Raftery 2007, eq. 43). */

@@ -7,7 +7,7 @@ import { TidemarkError } from '../errors.js';
 import { parseSelection, selectTransitions, type TransitionSelection } from '../flows/select.js';
 import type { WaistTables } from '../flows/types.js';
 import type { PeriodScheme } from '../periods/calendar.js';
-import { backtest, INNER_BAND, type Backtest } from './backtest.js';
+import { backtest, INNER_BAND, innerSideRatio, type Backtest } from './backtest.js';
 
 export type { ProjectionStep, StepBands };
 import { freshIndex, startAt } from './fit.js';
@@ -58,6 +58,12 @@ export interface ProjectOutput {
     /** ρ: the share of the rates' variation every row shares (one shock per state each period). */
     shared: number;
     inflow: { noiseSd: number; drift: number };
+    /**
+     * The band widths' recalibration from the backtest's scores (per horizon: the factor each band's
+     * sides were scaled by, null where too few scores; steps past the backtest's horizon use its last);
+     * `applied` false when there was no backtest (`--no-backtest`, too little data), with the reason.
+     */
+    recalibration: { applied: boolean; note: string; minScores: number | null; scoreOrigins: number | null; horizons: { horizon: number; scores: number; inner: number | null; outer: number | null }[] };
   } | null;
   /** Warnings for the reader: outlier periods of the inflow, rows whose variation could not be estimated, pooled segments. */
   warnings: string[];
@@ -70,8 +76,24 @@ export interface ProjectOutput {
   backtest?: Backtest | { skipped: string };
 }
 
-export const BAND_METHOD = 'simulated paths: each row of rates starts from its level at the end of the fit window (Kalman filter of the local level model) drawn with that level\'s uncertainty, and moves each period by a random walk (drift) and noise that does not persist, both estimated from the fit window by maximum likelihood; a share of that movement, estimated from how the rows moved together, is one shock shared by every row; arrivals from the chosen center with their own noise and drift; users moved by multinomial draws';
-export const BAND_SOURCES = 'local level model and its diffuse likelihood (Harvey 1989, ch. 2 and §3.4), Dirichlet-multinomial overdispersion (Mosimann 1962), one common factor (Anderson 2003, §14.2), percentiles by Hyndman & Fan (1996) definition 7';
+export const BAND_METHOD = 'simulated paths: each row of rates starts from its level at the end of the fit window (Kalman filter of the local level model) drawn with that level\'s uncertainty, and moves each period by a random walk (drift) and noise that does not persist, both estimated from the fit window by maximum likelihood; a share of that movement, estimated from how the rows moved together, is one shock shared by every row; arrivals from the chosen center with their own noise and drift; users moved by multinomial draws. Then each band\'s width is recalibrated per horizon from the backtest: both sides around the median are scaled by the empirical quantile (at the band\'s level) of how far the actual shares fell from the median of earlier origins\' paths, in units of those bands\' sides (the latest 15 origins with a known outcome; the model\'s band where fewer than 30 scores exist)';
+export const BAND_SOURCES = 'local level model and its diffuse likelihood (Harvey 1989, ch. 2 and §3.4), Dirichlet-multinomial overdispersion (Mosimann 1962), one common factor (Anderson 2003, §14.2), percentiles by Hyndman & Fan (1996) definition 7, split conformal prediction with a normalised score (Vovk, Gammerman & Shafer 2005; Shafer & Vovk 2008)';
+
+function recalibrationOutput(bt: Backtest | { skipped: string } | undefined): NonNullable<ProjectOutput['uncertainty']>['recalibration'] {
+  if (!bt) return { applied: false, note: 'no backtest was run (--no-backtest): the bands are the model\'s, not recalibrated', minScores: null, scoreOrigins: null, horizons: [] };
+  if (!('rows' in bt) || !bt.recalibration) return { applied: false, note: `no backtest (${'skipped' in bt ? bt.skipped : 'not recalibrated'}): the bands are the model's, not recalibrated`, minScores: null, scoreOrigins: null, horizons: [] };
+  const r = bt.recalibration;
+  const applied = r.horizons.some((x) => x.inner !== null || x.outer !== null);
+  const missing = r.horizons.filter((x) => x.outer === null).map((x) => `+${x.horizon}`);
+  return {
+    applied,
+    note: !applied ? `the backtest had fewer than ${r.minScores} scores at every horizon: the bands are the model's, not recalibrated`
+      : `recalibrated from the backtest's scores${missing.length ? ` (at ${missing.join(', ')} fewer than ${r.minScores} scores: the model's band there)` : ' at every horizon'}; steps past the backtest's horizon use its last factors; the bands of differences from the baseline and of segments keep the model's widths`,
+    minScores: r.minScores,
+    scoreOrigins: r.scoreOrigins,
+    horizons: r.horizons,
+  };
+}
 
 const byState = (states: readonly string[], v: ArrayLike<number>): Counts => Object.fromEntries(states.map((s, i) => [s, v[i]]));
 
@@ -138,6 +160,29 @@ function fromTables(tables: WaistTables, o: ProjectionOptions): ProjectOutput {
   const named = o.scenarios?.length ? scenarioEdits(o.scenarios, states, f, o.moves, o.horizon) : [];
   const sim = simulatePaths(f.model, start, o.horizon, { samples: o.samples, seed: o.seed, edits: named.map((n) => n.edits) });
   const warnings = forecastWarnings(f, 'the fit window');
+  let bt: Backtest | { skipped: string } | undefined;
+  if (o.backtest !== false) {
+    try {
+      const window = 'last' in selection ? selection.last : picked.length;
+      bt = backtest(tables, {
+        horizon: o.backtestHorizon ?? 8,
+        seed: o.seed,
+        band: o.band,
+        window: o.fit === 'all' ? undefined : window,
+        minFit: Math.min(4, window),
+        maxOrigins: o.backtestOrigins,
+        samples: o.backtestSamples,
+        inflowMethod: o.inflowMethod,
+        season: o.season ?? (o.scheme ? SEASON_OF[o.scheme.grain] : undefined),
+      });
+    } catch (e) {
+      if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') bt = { skipped: e.message };
+      else throw e;
+    }
+  }
+  const recal = bt && 'rows' in bt ? bt.recalibration : null;
+  const factors = recal ? [{ inner: 1, outer: 1 }, ...recal.horizons.map((x) => ({ inner: x.inner ?? 1, outer: x.outer ?? 1 }))] : null;
+  if (factors && factors.some((x) => x.inner !== 1 || x.outer !== 1)) sim.recalibration = { inner: INNER_BAND, outer: o.band, factors, sideRatio: innerSideRatio(o.band) };
   const out: ProjectOutput = {
     states,
     activeStates: [...tables.activeStates],
@@ -161,6 +206,7 @@ function fromTables(tables: WaistTables, o: ProjectionOptions): ProjectOutput {
       rates: f.variation.filter((r) => r.rates !== null).map((r) => ({ state: r.state, periods: r.periods, noise: r.noise, drift: r.drift, estimated: r.estimated })),
       shared: f.model.common ?? 0,
       inflow: { noiseSd: f.inflow.noiseSd, drift: f.inflow.drift },
+      recalibration: recalibrationOutput(bt),
     },
     warnings,
   };
@@ -171,25 +217,7 @@ function fromTables(tables: WaistTables, o: ProjectionOptions): ProjectOutput {
     out.segments = projectSegments(tables, tables.segmentTransitions, selection, { ...o, fi, activeIdx, labels });
     warnings.push(...out.segments.warnings);
   }
-  if (o.backtest !== false) {
-    try {
-      const window = 'last' in selection ? selection.last : picked.length;
-      out.backtest = backtest(tables, {
-        horizon: o.backtestHorizon ?? 8,
-        seed: o.seed,
-        band: o.band,
-        window: o.fit === 'all' ? undefined : window,
-        minFit: Math.min(4, window),
-        maxOrigins: o.backtestOrigins,
-        samples: o.backtestSamples,
-        inflowMethod: o.inflowMethod,
-        season: o.season ?? (o.scheme ? SEASON_OF[o.scheme.grain] : undefined),
-      });
-    } catch (e) {
-      if (e instanceof TidemarkError && e.code === 'NOT_ENOUGH_DATA') out.backtest = { skipped: e.message };
-      else throw e;
-    }
-  }
+  if (bt) out.backtest = bt;
   return out;
 }
 

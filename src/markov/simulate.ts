@@ -20,6 +20,7 @@ import { mulberry32, normal, type Rng } from '../numerics/random.js';
 import { gamma } from '../numerics/gamma.js';
 import { quantileSorted } from '../numerics/quantile.js';
 import type { InflowEstimate } from './inflow.js';
+import { recalibratedBands } from './recalibrate.js';
 import { MAX_VARIATION, type RowVariation } from './variation.js';
 
 /** Pseudo-count added to each observed move when a row's level is drawn (Jeffreys). */
@@ -51,6 +52,22 @@ export interface Simulation {
   states: number;
   /** One per scenario (index 0: the baseline): counts[(k·(H + 1) + t)·S + s] of path k. */
   counts: Float64Array[];
+  /** Set after the backtest: the band sides' factors by step, which {@link pathPercentiles} applies. */
+  recalibration?: BandRecalibration;
+}
+
+/**
+ * Recalibrated band widths (the backtest's `widthFactors`): the sides of the `inner` and `outer` bands of
+ * a step, around its median, are scaled by that step's factors (`recalibrate.ts`; a side of width 0 takes
+ * the other's). Differences between scenarios keep the model's widths.
+ */
+export interface BandRecalibration {
+  inner: readonly [number, number];
+  outer: readonly [number, number];
+  /** factors[t]: step t's factors (1 where none was measured; the last for steps beyond). */
+  factors: readonly { inner: number; outer: number }[];
+  /** The inner band's side over the outer's for a normal, for an inner band of width 0 (`innerAlt`). */
+  sideRatio: number;
 }
 
 /** The largest number of numbers a simulation may hold (samples × steps × states × scenarios). */
@@ -204,7 +221,8 @@ function streamSeed(seed: number, k: number, stream: number): number {
 
 /**
  * Percentiles across paths of a quantity of each path at each step (Hyndman & Fan definition 7):
- * out[q][t] for `levels` in [0, 100].
+ * out[q][t] for `levels` in [0, 100]. With `sim.recalibration`, the bands' percentiles are moved from
+ * the step's median by their factors (not for a difference, `minus`).
  */
 export function pathPercentiles(sim: Simulation, levels: readonly number[], of: (counts: Float64Array, base: number) => number, which = 0, minus?: number): number[][] {
   const { samples, horizon, states } = sim;
@@ -217,7 +235,17 @@ export function pathPercentiles(sim: Simulation, levels: readonly number[], of: 
       sorted[k] = of(sim.counts[which], base) - (minus === undefined ? 0 : of(sim.counts[minus], base));
     }
     sorted.sort();
-    levels.forEach((l, q) => (out[q][t] = quantileSorted(sorted, l / 100)));
+    const r = minus === undefined ? sim.recalibration : undefined;
+    const f = r?.factors[Math.min(t, r.factors.length - 1)];
+    let bands: Map<number, number> | undefined;
+    if (r && f && t > 0) {
+      // the bands recalibrated as the backtest does (recalibrate.ts): each side scaled by its factor
+      const at = (l: number) => quantileSorted(sorted, l / 100);
+      const med = at(50);
+      const [il, iu, ol, ou] = recalibratedBands(med, [at(r.inner[0]), at(r.inner[1]), at(r.outer[0]), at(r.outer[1])], f.inner, f.outer, r.sideRatio);
+      bands = new Map([[r.outer[0], ol], [r.outer[1], ou], [r.inner[0], il], [r.inner[1], iu]]);
+    }
+    levels.forEach((l, q) => (out[q][t] = bands?.get(l) ?? quantileSorted(sorted, l / 100)));
   }
   return out;
 }

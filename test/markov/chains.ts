@@ -6,7 +6,8 @@
  * users move by binomial draws (exact for small counts, the normal approximation for large ones).
  * Optional: `common`, the standard deviation of a Gaussian shock c_tj drawn once a period for each
  * destination j and shared by every row (rates ⊙ exp(c_t)); `trend`, a steady change per period of the
- * log rate into each destination (rates ⊙ exp(trend·t)).
+ * log rate into each destination (rates ⊙ exp(trend·t)); `cycle`, a sine of `period` periods on the
+ * log rate into each destination, amplitude `amp[j]` (rates ⊙ exp(amp·sin(2πt/period))).
  */
 import type { WaistTables } from '../../src/flows/types.js';
 import { mulberry32 } from '../stats/prng.js';
@@ -23,6 +24,7 @@ export interface ChainSpec {
   base?: number[][];
   common?: number;
   trend?: number[];
+  cycle?: { period: number; amp: number[] };
 }
 
 export function simulatedChain(spec: ChainSpec): WaistTables & { trueRates: number[][][] } {
@@ -50,7 +52,7 @@ export function simulatedChain(spec: ChainSpec): WaistTables & { trueRates: numb
   const transitions: WaistTables['transitions'] = [];
   const trueRates: number[][][] = [];
   for (let t = 0; t < spec.periods; t++) {
-    const shared = base.map((_, j) => (spec.common ? spec.common * gauss() : 0) + (spec.trend?.[j] ?? 0) * t); // no draw without a common shock: the other chains keep their numbers
+    const shared = base.map((_, j) => (spec.common ? spec.common * gauss() : 0) + (spec.trend?.[j] ?? 0) * t + (spec.cycle ? spec.cycle.amp[j] * Math.sin((2 * Math.PI * t) / spec.cycle.period) : 0)); // no draw without a common shock: the other chains keep their numbers
     const rates = base.map((row, i) => {
       const w = row.map((p, j) => (p > 0 ? p * Math.exp((walk[i][j] += spec.walk * gauss()) + spec.noise * gauss() + shared[j]) : 0));
       const sum = w.reduce((a, b) => a + b, 0);

@@ -47,7 +47,7 @@ describe('report projection charts', () => {
     const cov = model.charts.find((c) => c.id === 'coverage')!;
     expect(cov.reading).toMatch(/the 50% band held \d+%–\d+% of past shares \(target 40%–60%\) and the 80% band \d+%–\d+% \(target 70%–90%\)/);
     const bt = model.charts.find((c) => c.id === 'backtest')!;
-    expect(bt.table.header).toEqual(['horizon', 'origins', 'mae', 'naive_mae', 'seasonal_mae', 'coverage_50', 'coverage_outer', 'interval_score', 'interval_score_no_change', 'interval_score_seasonal']);
+    expect(bt.table.header).toEqual(['horizon', 'origins', 'mae', 'naive_mae', 'seasonal_mae', 'coverage_50', 'coverage_outer', 'interval_score', 'interval_score_no_change', 'interval_score_seasonal', 'model_coverage_50', 'model_coverage_outer', 'model_interval_score']);
     expect(bt.table.rows).toHaveLength(8);
   });
 });

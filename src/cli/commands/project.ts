@@ -9,6 +9,7 @@ import { selectTransitions } from '../../flows/select.js';
 import { lifecycleMoves } from '../../lifecycle/moves.js';
 import { stateNames, type StateSplit } from '../../lifecycle/states.js';
 import type { Weekday } from '../../rules/schema.js';
+import type { Backtest } from '../../markov/backtest.js';
 import { INFLOW_METHODS, type InflowMethod } from '../../markov/inflow.js';
 import { computeProjection, DEFAULT_FIT, type ProjectionOptions, type ProjectionStep, type ProjectOutput } from '../../markov/run.js';
 import { validateModel } from '../../markov/validate.js';
@@ -78,7 +79,7 @@ export function formatProjection(p: ProjectOutput, format: Format): string {
   out.push(`Long run: ${p.longRun.sentence}`);
   if (p.uncertainty) {
     const u = p.uncertainty;
-    out.push(`Bands: ${u.inner[0]}th-${u.inner[1]}th (50%) and ${u.percentiles[0]}th-${u.percentiles[1]}th percentiles of ${n0(u.samples)} simulated paths, seed ${u.seed}: the rates vary as they did over the fit window (from the level at its end, a drifting level plus period-to-period noise, ${pct(u.shared)} of that movement shared by every state, as in the window), arrivals vary, and a finite audience adds binomial noise. The bands start from where the rates ended in the window, the projection from their average over it, so after a change the two can part. Sources: ${u.sources}.`);
+    out.push(`Bands: ${u.inner[0]}th-${u.inner[1]}th (50%) and ${u.percentiles[0]}th-${u.percentiles[1]}th percentiles of ${n0(u.samples)} simulated paths, seed ${u.seed}: the rates vary as they did over the fit window (from the level at its end, a drifting level plus period-to-period noise, ${pct(u.shared)} of that movement shared by every state, as in the window), arrivals vary, and a finite audience adds binomial noise. The bands start from where the rates ended in the window, the projection from their average over it, so after a change the two can part. Widths: ${u.recalibration.applied ? `each band's sides scaled per horizon so that it would have held its share of the latest ${u.recalibration.scoreOrigins} backtest origins (${u.recalibration.horizons.filter((x) => x.outer !== null).map((x) => `+${x.horizon} x${x.inner!.toFixed(2)}/x${x.outer!.toFixed(2)}`).join(', ')}; 50%/outer band)` : u.recalibration.note}. Sources: ${u.sources}.`);
   } else out.push('Bands: none (a planner\'s matrix carries no record of how its rates vary).');
   if (p.steadyState) out.push(`Steady-state mix: ${p.states.map((s) => `${s} ${pct(p.steadyState![s])}`).join(', ')}`);
   const show = [...new Set([0, 1, Math.min(4, H), Math.min(8, H), H])].filter((k) => k <= H);
@@ -158,6 +159,10 @@ function backtestLines(bt: NonNullable<ProjectOutput['backtest']>): string[] {
   const [ti0, ti1] = bt.target.inner, [to0, to1] = bt.target.outer;
   out.push(`Target: the ${ihi - ilo}% band holds ${pct(ti0, 0)}-${pct(ti1, 0)} and the ${ohi - olo}% band ${pct(to0, 0)}-${pct(to1, 0)} of what happened, at every horizon.`);
   if (bt.seasonalNote) out.push(`note: no seasonal-naive baseline: ${bt.seasonalNote}.`);
+  if (bt.recalibration && bt.rows.some((r) => r.recalibrated > 0)) {
+    const span = (f: (r: Backtest['rows'][number]) => number) => `${pct(Math.min(...bt.rows.map(f)), 0)}-${pct(Math.max(...bt.rows.map(f)), 0)}`;
+    out.push(`note: each origin's bands were recalibrated from the errors of the latest ${bt.recalibration.scoreOrigins} earlier origins whose outcome was known (the model's own where fewer than ${bt.recalibration.minScores} scores); the model's own bands held ${span((r) => r.modelInnerCoverage)} (${ihi - ilo}%) and ${span((r) => r.modelCoverage)} (${ohi - olo}%).`);
+  }
   const below = bt.rows.filter((r) => r.coverage < to0 - 1e-9 || r.innerCoverage < ti0 - 1e-9).map((r) => `+${r.horizon}`);
   const above = bt.rows.filter((r) => r.coverage > to1 + 1e-9 || r.innerCoverage > ti1 + 1e-9).map((r) => `+${r.horizon}`);
   const breaks = bt.missed.slice(0, 6).map((m) => m.period).join(', ');

@@ -71,7 +71,7 @@ export function projectionChart(p: ProjectOutput, grainWord: string, history?: H
   return {
     id: 'projection',
     title: `State mix: the last ${past.length} ${grainWord}s and ${p.horizon} ${grainWord}s ahead`,
-    subtitle: `Solid: what happened; dashed: the projection. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window, partly together, from where they ended; arrivals vary; binomial noise)`,
+    subtitle: `Solid: what happened; dashed: the projection. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window, partly together, from where they ended; arrivals vary; binomial noise)${p.uncertainty?.recalibration?.applied ? ', widths recalibrated by the backtest\'s past errors' : ''}`,
     reading,
     note: 'The bands hold what the fit window says can happen; the backtest below checks how often they held in the past. A change the past never showed (a launch, a promotion) falls outside them.',
     spec: draw(WIDE),
@@ -171,8 +171,8 @@ export function backtestChart(b: Backtest, grainWord: string): Chart {
     legend: methods.map((m, i) => ({ label: m, colour: colours[i] })),
     table: {
       name: 'backtest',
-      header: ['horizon', 'origins', 'mae', 'naive_mae', 'seasonal_mae', 'coverage_50', 'coverage_outer', 'interval_score', 'interval_score_no_change', 'interval_score_seasonal'],
-      rows: b.rows.map((r) => [r.horizon, r.origins, r.mae, r.naiveMae, r.seasonalMae, r.innerCoverage, r.coverage, r.intervalScore.model.outer, r.intervalScore.noChange.outer, r.intervalScore.seasonalNaive?.outer ?? null]),
+      header: ['horizon', 'origins', 'mae', 'naive_mae', 'seasonal_mae', 'coverage_50', 'coverage_outer', 'interval_score', 'interval_score_no_change', 'interval_score_seasonal', 'model_coverage_50', 'model_coverage_outer', 'model_interval_score'],
+      rows: b.rows.map((r) => [r.horizon, r.origins, r.mae, r.naiveMae, r.seasonalMae, r.innerCoverage, r.coverage, r.intervalScore.model.outer, r.intervalScore.noChange.outer, r.intervalScore.seasonalNaive?.outer ?? null, r.modelInnerCoverage, r.modelCoverage, r.modelIntervalScore.outer]),
     },
   };
 }
@@ -201,15 +201,16 @@ export function coverageChart(b: Backtest, grainWord: string): Chart {
       { data: { values: rows }, mark: { type: 'line', point: true, strokeWidth: 2 }, encoding: { x: { field: 'horizon', type: 'quantitative', title: `${grainWord}s ahead`, axis: { tickMinStep: 1 } }, y: { field: 'coverage', type: 'quantitative' }, tooltip: [{ field: 'horizon' }, { field: 'band' }, { field: 'coverage', format: '.0%' }] } },
     ],
   } as unknown as TopLevelSpec;
-  const lo = (k: 'innerCoverage' | 'coverage') => Math.min(...b.rows.map((r) => r[k]));
-  const hi = (k: 'innerCoverage' | 'coverage') => Math.max(...b.rows.map((r) => r[k]));
+  const lo = (k: 'innerCoverage' | 'coverage' | 'modelInnerCoverage' | 'modelCoverage') => Math.min(...b.rows.map((r) => r[k]));
+  const hi = (k: 'innerCoverage' | 'coverage' | 'modelInnerCoverage' | 'modelCoverage') => Math.max(...b.rows.map((r) => r[k]));
+  const recal = b.recalibration !== null && b.rows.some((r) => r.recalibrated > 0);
   const pc = (x: number) => `${Math.round(x * 100)}%`;
   return {
     id: 'coverage',
     title: 'Band coverage',
     legend: bands.map((label, i) => ({ label, colour: seriesColour(i) })),
-    reading: `Over horizons 1 to ${b.rows[b.rows.length - 1].horizon}, the ${inner}% band held ${pc(lo('innerCoverage'))}–${pc(hi('innerCoverage'))} of past shares (target ${pc(b.target.inner[0])}–${pc(b.target.inner[1])}) and the ${outer}% band ${pc(lo('coverage'))}–${pc(hi('coverage'))} (target ${pc(b.target.outer[0])}–${pc(b.target.outer[1])}).`,
+    reading: `Over horizons 1 to ${b.rows[b.rows.length - 1].horizon}, the ${inner}% band held ${pc(lo('innerCoverage'))}–${pc(hi('innerCoverage'))} of past shares (target ${pc(b.target.inner[0])}–${pc(b.target.inner[1])}) and the ${outer}% band ${pc(lo('coverage'))}–${pc(hi('coverage'))} (target ${pc(b.target.outer[0])}–${pc(b.target.outer[1])})${recal ? `; the bands were recalibrated at each origin from the errors of earlier origins, and the model's own bands held ${pc(lo('modelInnerCoverage'))}–${pc(hi('modelInnerCoverage'))} and ${pc(lo('modelCoverage'))}–${pc(hi('modelCoverage'))}` : ''}.`,
     spec,
-    table: { name: 'coverage', header: ['horizon', 'origins', 'coverage_50', 'coverage_outer'], rows: b.rows.map((r) => [r.horizon, r.origins, r.innerCoverage, r.coverage]) },
+    table: { name: 'coverage', header: ['horizon', 'origins', 'coverage_50', 'coverage_outer', 'model_coverage_50', 'model_coverage_outer'], rows: b.rows.map((r) => [r.horizon, r.origins, r.innerCoverage, r.coverage, r.modelInnerCoverage, r.modelCoverage]) },
   };
 }

@@ -1,0 +1,50 @@
+import { describe, expect, it } from 'vitest';
+import { computeProjection } from '../../src/markov/run.js';
+import { simulatedChain } from './chains.js';
+import { expectClose } from './helpers.js';
+
+// The projection's bands at "now" are the model's percentiles with each side moved from the median by the
+// backtest's factors for that horizon (the last horizon's beyond it). Checked against the same run without
+// the backtest (same seed, same paths, so the model's bands): the recalibrated band's width is the factor
+// times the model's, for every state's count and share, active users and each scenario's level bands; the
+// point projection and the scenarios' difference bands are left as they were.
+describe('the projection\'s recalibrated bands', () => {
+  const tables = simulatedChain({ periods: 40, walk: 0.05, noise: 0.05, arrivals: 600, arrivalSd: 60, start: [600, 6000, 900, 2500, 12000], seed: 51 });
+  const o = { horizon: 10, samples: 80, seed: 2, band: [10, 90] as [number, number], fit: '8', backtestHorizon: 8, backtestSamples: 40, scenarios: ['keep=lapsing->dormant*0.8'] };
+  const withBt = computeProjection({ tables }, o);
+  const without = computeProjection({ tables }, { ...o, backtest: false });
+
+  it('says how the bands were made, with the factors per horizon, or that they were not recalibrated', () => {
+    const r = withBt.uncertainty!.recalibration;
+    expect(r.applied).toBe(true);
+    expect(r.horizons.map((x) => x.horizon)).toEqual([1, 2, 3, 4, 5, 6, 7, 8]);
+    for (const x of r.horizons) expect(x.outer).toBeGreaterThan(0);
+    expect(withBt.uncertainty!.method).toMatch(/recalibrated per horizon from the backtest/);
+    expect(withBt.uncertainty!.sources).toMatch(/conformal/);
+    expect(without.uncertainty!.recalibration).toMatchObject({ applied: false, horizons: [] });
+    expect(without.uncertainty!.recalibration.note).toMatch(/--no-backtest/);
+  });
+
+  it('every band\'s width is the factor times the model\'s; the point projection does not move', () => {
+    const f = withBt.uncertainty!.recalibration.horizons;
+    const width = (p: [number, number]) => p[1] - p[0];
+    let checked = 0;
+    for (let t = 1; t <= o.horizon; t++) {
+      const h = f[Math.min(t, 8) - 1];
+      const a = withBt.projection[t], b = without.projection[t];
+      expect(a.counts).toEqual(b.counts);
+      for (const st of withBt.states) {
+        for (const [x, y, k] of [[a.bands!.shares[st], b.bands!.shares[st], h.outer], [a.bands!.inner.shares[st], b.bands!.inner.shares[st], h.inner], [a.bands!.counts[st], b.bands!.counts[st], h.outer], [a.bands!.inner.counts[st], b.bands!.inner.counts[st], h.inner]] as [[number, number], [number, number], number][]) {
+          if (width(y) < 1e-9) continue;
+          expectClose(width(x) / width(y), k, 1e-9);
+          checked++;
+        }
+      }
+      expectClose(width(a.bands!.active!.outer) / width(b.bands!.active!.outer), h.outer, 1e-9);
+      const sa = withBt.scenarios![0].steps[t], sb = without.scenarios![0].steps[t];
+      expectClose(width(sa.total.outer!) / width(sb.total.outer!), h.outer, 1e-9);
+      expect(sa.difference.total.outer).toEqual(sb.difference.total.outer);
+    }
+    expect(checked).toBeGreaterThan(100);
+  });
+});

@@ -1,0 +1,124 @@
+/**
+ * Scores the projection bands' backtest on member-level logs (`memberLogs.ts`): `npx tsx
+ * test/markov/scoreLogs.ts SET` where SET names a list of specs below. For each log: the waist tables
+ * from the memory engine with the weekly rules, then the backtest as `project` runs it (window 8,
+ * horizons 1–8, 100 futures per origin, seed 1, season 52), and the (log, horizon) cells whose 80% and
+ * 50% bands held 70–90% and 40–60%: for the model's bands and for the recalibrated ones.
+ */
+import { mkdirSync, readFileSync, writeFileSync, existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { tmpdir } from 'node:os';
+import { runOnLog } from '../../src/engines/memory/index.js';
+import { readEvents } from '../../src/ingest/read.js';
+import { backtest } from '../../src/markov/backtest.js';
+import { parseRules } from '../../src/rules/load.js';
+import type { WaistTables } from '../../src/flows/types.js';
+import { simulateMakerspace } from '../../src/demo/makerspace.js';
+import { memberLogCsv, type MemberLogSpec } from './memberLogs.js';
+
+/** Logs looked at while designing. */
+export const DEVELOPMENT: Record<string, MemberLogSpec> = {
+  shocks: { weeks: 50, arrivals: 400, seed: 101, shock: 0.25, arrivalShock: 0.2 },
+  decline: { weeks: 55, arrivals: 500, seed: 102, decline: -0.02, arrivalTrend: -0.008 },
+  cycle: { weeks: 60, arrivals: 350, seed: 103, cycle: { period: 11, amp: 0.35 } },
+  drift: { weeks: 55, arrivals: 450, seed: 104, drift: 0.08, spikes: { 30: 6 } },
+  quiet: { weeks: 45, arrivals: 90, seed: 105, spread: 1.6 },
+  growth: { weeks: 50, arrivals: 200, seed: 106, growth: 0.04, shock: 0.12 },
+};
+
+/** More development logs: other seeds and strengths of the same shapes, and combinations. */
+export const DEVELOPMENT_2: Record<string, MemberLogSpec> = {
+  shocks2: { weeks: 45, arrivals: 700, seed: 201, shock: 0.4, spread: 1.1 },
+  decline2: { weeks: 60, arrivals: 300, seed: 202, decline: -0.012, shock: 0.08 },
+  cycle2: { weeks: 50, arrivals: 500, seed: 203, cycle: { period: 8, amp: 0.25 }, arrivalShock: 0.15 },
+  drift2: { weeks: 65, arrivals: 250, seed: 204, drift: 0.12, arrivalShock: 0.1 },
+  quiet2: { weeks: 55, arrivals: 60, seed: 205, spread: 2, spikes: { 20: 5, 41: 4 } },
+  growth2: { weeks: 45, arrivals: 150, seed: 206, growth: 0.06, decline: 0.008 },
+};
+
+/**
+ * Logs generated after the design was committed (270f134), with seeds and settings not used while
+ * designing, scored once: a step change of activity (a planted break) and other members' base rates
+ * (loyal, churny) are shapes the development logs did not have.
+ */
+export const UNSEEN: Record<string, MemberLogSpec> = {
+  surge: { weeks: 48, arrivals: 600, seed: 9001, spikes: { 12: 8, 33: 4 }, shock: 0.1 },
+  slide: { weeks: 62, arrivals: 420, seed: 9002, decline: -0.025, arrivalTrend: -0.01 },
+  cycle6: { weeks: 52, arrivals: 380, seed: 9003, cycle: { period: 6, amp: 0.3 }, spread: 1.2 },
+  wander: { weeks: 58, arrivals: 520, seed: 9004, drift: 0.1, growth: 0.015 },
+  tiny: { weeks: 42, arrivals: 45, seed: 9005, spread: 1.8, shock: 0.1 },
+  boom: { weeks: 46, arrivals: 120, seed: 9006, growth: 0.08, shock: 0.15, arrivalShock: 0.25 },
+  stepdown: { weeks: 56, arrivals: 350, seed: 9007, step: { week: 30, by: -0.5 }, shock: 0.1 },
+  loyal: { weeks: 55, arrivals: 300, seed: 9008, shock: 0.15, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
+  churny: { weeks: 50, arrivals: 800, seed: 9009, cycle: { period: 17, amp: 0.2 }, drift: 0.05, base: { newcomer: -1.2, active: 0.6, idle: -1, idleDecay: 0.5 } },
+};
+
+/**
+ * A second set of logs not seen while designing, generated after the design was committed and the
+ * first unseen set scored (new seeds and settings; a dip of activity for eight weeks and a decline that
+ * turns into a recovery are shapes no earlier log had), scored once.
+ */
+export const UNSEEN_2: Record<string, MemberLogSpec> = {
+  dip: { weeks: 54, arrivals: 400, seed: 9101, dip: { from: 25, to: 33, by: -0.6 }, shock: 0.1 },
+  recovery: { weeks: 60, arrivals: 350, seed: 9102, decline: -0.02, turn: { week: 30, slope: 0.02 } },
+  cycle10: { weeks: 56, arrivals: 450, seed: 9103, cycle: { period: 10, amp: 0.4 }, arrivalShock: 0.2 },
+  decline3: { weeks: 70, arrivals: 380, seed: 9104, decline: -0.018, spread: 1.4 },
+  spiky: { weeks: 50, arrivals: 300, seed: 9105, spikes: { 14: 5, 27: 10, 40: 3 } },
+  small2: { weeks: 60, arrivals: 30, seed: 9106, spread: 1.2 },
+  big: { weeks: 40, arrivals: 1500, seed: 9107, shock: 0.2 },
+  drift3: { weeks: 64, arrivals: 260, seed: 9108, drift: 0.15 },
+  growfade: { weeks: 52, arrivals: 180, seed: 9109, growth: 0.05, decline: -0.01 },
+  longcycle: { weeks: 66, arrivals: 250, seed: 9110, cycle: { period: 26, amp: 0.3 }, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
+};
+
+const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, unseen2: UNSEEN_2, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
+
+export async function tablesOf(name: string, spec: MemberLogSpec | 'demo'): Promise<WaistTables> {
+  const dir = join(tmpdir(), 'tidemark-calib');
+  mkdirSync(dir, { recursive: true });
+  const cache = join(dir, spec === 'demo' ? 'demo.json' : `${name}-${spec.seed}.json`);
+  if (existsSync(cache)) return JSON.parse(readFileSync(cache, 'utf8')) as WaistTables;
+  const f = join(dir, spec === 'demo' ? 'demo.csv' : `${name}-${spec.seed}.csv`);
+  if (spec === 'demo') {
+    const lines = ['user_id,timestamp,event'];
+    simulateMakerspace(undefined, (e) => lines.push(`${e.user_id},${e.timestamp},${e.event}`));
+    writeFileSync(f, lines.join('\n') + '\n');
+  } else writeFileSync(f, memberLogCsv(spec));
+  const rules = parseRules(readFileSync(new URL('../../rules/weekly.yaml', import.meta.url), 'utf8'));
+  const { waist } = await runOnLog(await readEvents([f], { rules }), rules);
+  writeFileSync(cache, JSON.stringify(waist.tables));
+  return waist.tables;
+}
+
+const pct = (x: number) => Math.round(x * 100);
+
+async function main(): Promise<void> {
+  const set = SETS[process.argv[2] ?? 'dev'];
+  if (!set) throw new Error(`unknown set ${process.argv[2]}`);
+  const tot = { model: [0, 0], cal: [0, 0], cells: 0, lower: [0, 0], ratio: [0, 0] };
+  for (const [name, spec] of Object.entries(set)) {
+    const t = await tablesOf(name, spec);
+    const bt = backtest(t, { horizon: 8, window: 8, minFit: 4, samples: 100, seed: 1, season: 52 });
+    const inR = (x: number, lo: number, hi: number) => (x >= lo - 1e-9 && x <= hi + 1e-9 ? 1 : 0);
+    for (const r of bt.rows) {
+      tot.cells++;
+      tot.model[0] += inR(r.modelCoverage, 0.7, 0.9);
+      tot.model[1] += inR(r.modelInnerCoverage, 0.4, 0.6);
+      tot.cal[0] += inR(r.coverage, 0.7, 0.9);
+      tot.cal[1] += inR(r.innerCoverage, 0.4, 0.6);
+      tot.lower[0] += r.intervalScore.model.outer < r.modelIntervalScore.outer ? 1 : 0;
+      tot.lower[1] += r.intervalScore.model.inner < r.modelIntervalScore.inner ? 1 : 0;
+      tot.ratio[0] += r.intervalScore.model.outer / r.modelIntervalScore.outer;
+      tot.ratio[1] += r.intervalScore.model.inner / r.modelIntervalScore.inner;
+    }
+    const line = (f: (r: (typeof bt.rows)[number]) => number) => bt.rows.map((r) => String(pct(f(r))).padStart(3)).join(' ');
+    console.log(`${name.padEnd(8)} periods ${t.periods.length}`);
+    console.log(`  model 80 ${line((r) => r.modelCoverage)} | 50 ${line((r) => r.modelInnerCoverage)} | IS80 ${bt.rows.map((r) => r.modelIntervalScore.outer.toFixed(3)).join(' ')}`);
+    console.log(`  calib 80 ${line((r) => r.coverage)} | 50 ${line((r) => r.innerCoverage)} | IS80 ${bt.rows.map((r) => r.intervalScore.model.outer.toFixed(3)).join(' ')}`);
+    console.log(`  IS50 model ${bt.rows.map((r) => r.modelIntervalScore.inner.toFixed(3)).join(' ')} | calib ${bt.rows.map((r) => r.intervalScore.model.inner.toFixed(3)).join(' ')}`);
+  }
+  console.log(`cells in range of ${tot.cells}: model 80% ${tot.model[0]}, 50% ${tot.model[1]}; recalibrated 80% ${tot.cal[0]}, 50% ${tot.cal[1]}`);
+  console.log(`interval score recalibrated / model, mean over cells: 80% band ${(tot.ratio[0] / tot.cells).toFixed(3)} (lower in ${tot.lower[0]} cells), 50% band ${(tot.ratio[1] / tot.cells).toFixed(3)} (lower in ${tot.lower[1]})`);
+}
+
+if (process.argv[1]?.endsWith('scoreLogs.ts')) void main();
