@@ -121,7 +121,7 @@ export function whyLine(e: ExplainOutput): StoryLine {
   return { kind: 'why', lead: 'Why', periods: `${e.base} → ${e.compare}`, text };
 }
 
-/** What comes next: active users now and at the horizon if the fitted flows hold, with the states' bands summed. */
+/** What comes next: active users now and at the horizon if the fitted flows hold, with their band (the states' bands summed when the projection has none for the active users). */
 export function nextLine(p: ProjectOutput, i: StoryInput): StoryLine | undefined {
   const last = i.periods[i.periods.length - 1];
   const end = p.projection[p.horizon];
@@ -132,7 +132,10 @@ export function nextLine(p: ProjectOutput, i: StoryInput): StoryLine | undefined
   const key = periodKeyOfDate(last, i.scheme);
   const endLabel = key === undefined ? `+${p.horizon}` : periodLabel(key + p.horizon, i.scheme);
   const fit = p.source.kind === 'events' ? ` of the last ${plural(p.source.fit.transitions, i.grain)}` : '';
-  const band = end.bands ? ` (band ${int(sum((s) => end.bands!.counts[s][0]))}–${int(sum((s) => end.bands!.counts[s][1]))})` : '';
+  // the band of the active users themselves where the projection has it (as the projection chart reads),
+  // else the states' bands added up (wider than the band of their sum)
+  const outer = end.bands?.active?.outer;
+  const band = outer ? ` (band ${int(outer[0])}–${int(outer[1])})` : end.bands ? ` (band ${int(sum((s) => end.bands!.counts[s][0]))}–${int(sum((s) => end.bands!.counts[s][1]))})` : '';
   return {
     kind: 'next', lead: 'What comes next', periods: `${last} → ${endLabel}`,
     text: `if the flows${fit} hold, active users go from ${int(sum((s) => now.counts[s]))} to about ${int(sum((s) => end.counts[s]))}${band} in ${plural(p.horizon, i.grain)}.`,
@@ -179,6 +182,6 @@ export function storyTerms(lines: readonly StoryLine[], states: readonly StateIn
   if (/points/.test(text)) terms.push({ term: 'points', meaning: 'percentage points: the difference of two percentages (from 50% to 47% is −3 points).' });
   if (/chance|significant/.test(text)) terms.push({ term: 'significant', meaning: 'larger than chance would often give: p below 0.05 in a two-proportion z-test; within states, after the Benjamini–Hochberg correction for testing several at once.' });
   if (/shift toward|own retention|shift between/.test(text)) terms.push({ term: 'shift, own retention', meaning: "Kitagawa's split of a change: how much came from the mix of users moving between states (the shift) and how much from each state's own retention." });
-  if (/band/.test(text) && bandPercentiles) terms.push({ term: 'band', meaning: `the ${bandPercentiles[0]}th to ${bandPercentiles[1]}th percentiles of sampled futures, added over the active states (wider than the band of their sum).` });
+  if (/band/.test(text) && bandPercentiles) terms.push({ term: 'band', meaning: `the ${bandPercentiles[0]}th to ${bandPercentiles[1]}th percentiles of the active users in sampled futures (the same band as the projection chart's).` });
   return terms;
 }

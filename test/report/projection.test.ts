@@ -34,6 +34,15 @@ describe('report projection charts', () => {
     expect(JSON.stringify(chart.spec)).toMatch(/"label":"now"/);
   });
 
+  it("the story's next line gives the same band of active users as the projection chart's reading", () => {
+    const next = model.story.find((l) => l.kind === 'next')!;
+    const story = /\(band ([\d,]+)–([\d,]+)\)/.exec(next.text);
+    const chart = /\(([\d,]+)–([\d,]+) active users in the 80% band\)/.exec(model.charts.find((c) => c.id === 'projection')!.reading);
+    expect(story).not.toBeNull();
+    expect(chart).not.toBeNull();
+    expect([story![1], story![2]]).toEqual([chart![1], chart![2]]);
+  });
+
   it('the scenario chart compares each scenario with the baseline, and its reading gives each difference with its band', () => {
     const chart = model.charts.find((c) => c.id === 'scenarios')!;
     expect(chart.reading).toMatch(/keep-lapsers adds [\d,]+ active users \(band \+[\d,]+ to \+[\d,]+\); open-day adds/);
