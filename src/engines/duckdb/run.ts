@@ -122,8 +122,10 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
     });
     const tables = {} as Record<TableName, TableRows>;
     stage('facts');
+    // without --by the segment tables are empty by construction (compile.ts): not asked for
+    const noRows = new Set<TableName>(prepared.source.has.by ? [] : ['segmentStateCounts', 'segmentTransitions']);
     for (const name of Object.keys(WAIST_TABLES) as TableName[]) {
-      tables[name] = (await query(compiled.tables[name])) as TableRows;
+      tables[name] = noRows.has(name) ? [] : (await query(compiled.tables[name])) as TableRows;
       stage(name);
     }
     return waistOf(manifest, tables);
