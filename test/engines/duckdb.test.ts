@@ -112,6 +112,23 @@ describe('DuckDB sources give the memory engine\'s waist', () => {
   }, 60_000);
 });
 
+describe('the longest line the duckdb engine reads is the memory engine\'s (1 MiB, ingest/limits.ts)', () => {
+  it('a line just under 1 MiB is read; one over it stops the run with the memory reader\'s message, or is a counted bad row with skipBadRows', async () => {
+    const head = rows.slice(0, 50).map((r) => `${r.user},${new Date(r.ms).toISOString()},${r.event},${r.plan}`);
+    const tail = rows.slice(50, 100).map((r) => `${r.user},${new Date(r.ms).toISOString()},${r.event},${r.plan}`);
+    const prefix = 'm1,2026-03-02T10:00:00Z,booking_made,';
+    // the longest record the memory reader takes: MAX_RECORD_BYTES bytes without the line break
+    const fits = t.file('fits.csv', ['user_id,timestamp,event,plan', ...head, prefix + 'x'.repeat((1 << 20) - prefix.length), ...tail].join('\n') + '\n');
+    expect(comparable(await runDuckdb({ files: [fits] }, rules))).toEqual(comparable(await memoryWaist(fits, rules)));
+    const over = t.file('over.csv', ['user_id,timestamp,event,plan', ...head, prefix + 'x'.repeat(1_500_000), ...tail].join('\n') + '\n');
+    await expect(memoryWaist(over, rules)).rejects.toThrow(/a line longer than 1 MiB/);
+    await expect(runDuckdb({ files: [over] }, rules)).rejects.toThrow(/a line longer than 1 MiB/);
+    const skipped = await runDuckdb({ files: [over], skipBadRows: true }, rules) as unknown as { manifest: { rows: { lines: { read: number; rejected: number } } } };
+    expect(skipped.manifest.rows.lines.read).toBe(102);
+    expect(skipped.manifest.rows.lines.rejected).toBe(1);
+  }, 60_000);
+});
+
 /** Wall-clock text in America/Chicago without an offset (local time, as the rules' zone reads it). */
 function localText(ms: number): string {
   const parts = new Intl.DateTimeFormat('en-CA', { timeZone: 'America/Chicago', hourCycle: 'h23', year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', second: '2-digit' }).formatToParts(new Date(ms));
