@@ -77,13 +77,22 @@ function cellsByBlock(log: EventLog, startKey: number, span: number, bits: numbe
 function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, span: number, bits: number): ActivePeriods {
   const grid = new Uint8Array(log.users.length * span);
   const more = new Map<number, number>();
+  // cells reaching minEvents are counted as they reach it (a cell's count only grows), so one pass reads the grid
+  const at = Math.max(1, minEvents);
+  let active = 0;
   if (bits > 0) {
     const cells = cellsByBlock(log, startKey, span, bits, Math.ceil(grid.length / 2 ** bits));
     for (let i = 0; i < cells.length; i++) {
       const k = cells[i];
       const c = grid[k];
-      if (c < 255) grid[k] = c + 1;
-      else more.set(k, (more.get(k) ?? 0) + 1);
+      let now: number;
+      if (c < 255) now = grid[k] = c + 1;
+      else {
+        const m = (more.get(k) ?? 0) + 1;
+        more.set(k, m);
+        now = 255 + m;
+      }
+      if (now === at) active++;
     }
   } else {
     const { user: users, period } = log;
@@ -92,17 +101,22 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
       if (off < 0 || off >= span) continue;
       const k = users[i] * span + off;
       const c = grid[k];
-      if (c < 255) grid[k] = c + 1;
-      else more.set(k, (more.get(k) ?? 0) + 1);
+      let now: number;
+      if (c < 255) now = grid[k] = c + 1;
+      else {
+        const m = (more.get(k) ?? 0) + 1;
+        more.set(k, m);
+        now = 255 + m;
+      }
+      if (now === at) active++;
     }
   }
-  let active = 0;
   const countOf = (k: number) => (grid[k] < 255 ? grid[k] : 255 + (more.get(k) ?? 0));
-  for (let k = 0; k < grid.length; k++) if (grid[k] !== 0 && countOf(k) >= minEvents) active++;
   const user = new Int32Array(active), offset = new Int32Array(active), events = new Int32Array(active);
   let n = 0;
-  for (let k = 0, u = 0, o = 0; k < grid.length; k++) {
-    if (grid[k] !== 0) {
+  for (let u = 0, k = 0; u < log.users.length; u++) {
+    for (let o = 0; o < span; o++, k++) {
+      if (grid[k] === 0) continue;
       const e = countOf(k);
       if (e >= minEvents) {
         user[n] = u;
@@ -110,10 +124,6 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
         events[n] = e;
         n++;
       }
-    }
-    if (++o === span) {
-      o = 0;
-      u++;
     }
   }
   return { startKey, span, user, offset, events };

@@ -161,7 +161,9 @@ export function waistTables(counts: TableCounts, o: AggregateOptions, extend: (c
  * active from `firstFlow` on, grouped by `groupOf(user, firstActiveOffset)`.
  */
 export function durationRows(c: Pick<Classified, 'firstActive' | 'firstDormant'>, firstFlow: number, span: number, groupOf: (user: number, first: number) => string, labels: readonly string[]): DurationRow[] {
-  const m = new Map<string, DurationRow>();
+  // rows by a numeric key (group index, first, duration, observed): no string made per user
+  const groups = new Map<string, number>();
+  const m = new Map<number, DurationRow>();
   for (let u = 0; u < c.firstActive.length; u++) {
     const first = c.firstActive[u];
     if (first < firstFlow) continue;
@@ -169,7 +171,9 @@ export function durationRows(c: Pick<Classified, 'firstActive' | 'firstDormant'>
     const observed: 0 | 1 = d >= 0 ? 1 : 0;
     const duration = observed ? d - first : span - 1 - first;
     const group = groupOf(u, first);
-    const key = `${group}\u0000${first}|${duration}|${observed}`;
+    let g = groups.get(group);
+    if (g === undefined) groups.set(group, (g = groups.size));
+    const key = ((g * span + first) * span + duration) * 2 + observed;
     const row = m.get(key);
     if (row) row.users++;
     else m.set(key, { group, cohort: labels[first], duration, observed, users: 1 });
