@@ -77,6 +77,11 @@ export function classify(active: ActivePeriods, plan: LifecyclePlan, users: numb
 export interface WalkVisitor {
   /** User `u` is in state `code` at period offset `p` (≥ outStart), after `prevCode`; `first` is their first active offset. */
   row(u: number, p: number, code: number, prevCode: number, first: number): void;
+  /**
+   * User `u` stays in state `code` through the quiet periods [from, to) (all ≥ outStart): one row a
+   * period, each after `code` itself (the plan's fixed point; the walk crosses it in one step).
+   */
+  quiet(u: number, from: number, to: number, code: number, first: number): void;
   /** User `u`'s periods are done: `dormantAt` is the offset of their first period in dormant, or -1. */
   endUser(u: number, first: number, dormantAt: number): void;
 }
@@ -93,6 +98,9 @@ class RowWriter implements WalkVisitor {
     o.prev[r] = prevCode - 1;
     o.tenure[r] = p - first;
     o.cohort[r] = first;
+  }
+  quiet(u: number, from: number, to: number, code: number, first: number): void {
+    for (let p = from; p < to; p++) this.row(u, p, code, code, first);
   }
   endUser(u: number, _first: number, dormantAt: number): void {
     this.out.firstDormant[u] = dormantAt;
@@ -135,6 +143,18 @@ export function walkUsers(active: ActivePeriods, plan: LifecyclePlan, outStart: 
         dormantAt = walker.dormantAt;
         p = stop;
         continue;
+      }
+      if (!isActive && p > first) {
+        // a quiet period after another period: when the plan keeps the state and the idle count's class
+        // (a fixed point), every quiet period up to the next active one gives the same row
+        const j0 = (code * IDLE_CLASSES + (idle < L ? 0 : 1)) * levels;
+        const e0 = idleEffect[j0];
+        if (nextState[j0] === code && (e0 === IDLE_KEEP || (e0 === IDLE_ADD && idle >= L) || (e0 === IDLE_RESET && idle === 0))) {
+          if (code === dormantCode && dormantAt < 0) dormantAt = p;
+          visit.quiet(u, p, nextActive, code, first);
+          p = nextActive;
+          continue;
+        }
       }
       let level = 0;
       if (isActive) {

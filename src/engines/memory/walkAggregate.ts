@@ -37,6 +37,13 @@ class TableCounter implements WalkVisitor {
   private readonly outStart: number;
   /** States at ages 0 … of the current user (a cohort member past the warm-up), by plan state index. */
   private readonly ages: Uint8Array;
+  /**
+   * Runs of an inactive state s through quiet periods, as differences over the periods: +1 where a
+   * run starts, −1 where it stops, for byState (quietState[s · (span + 1) + p]) and for the transitions
+   * s → s (quietPair); {@link finish} adds their running sums to the counts.
+   */
+  private readonly quietState: Float64Array;
+  private readonly quietPair: Float64Array;
 
   constructor(o: AggregateOptions, private readonly firstFlow: number, rows: number, readonly firstDormant: Int32Array, private readonly accs: CohortAccumulators) {
     const S = (this.S = o.states.length);
@@ -62,6 +69,42 @@ class TableCounter implements WalkVisitor {
     for (let k = 0; k < this.triStart.length - 1; k++) this.triStart[k + 1] = this.triStart[k] + (span - firstFlow - k);
     this.tri = new Float64Array(this.dense ? this.triStart[m] : 0);
     this.ages = new Uint8Array(span);
+    this.quietState = new Float64Array(S * (span + 1));
+    this.quietPair = new Float64Array(S * (span + 1));
+  }
+
+  quiet(u: number, from: number, to: number, code: number, first: number): void {
+    const s = code - 1;
+    if (s < this.A) {
+      // an active state kept through quiet periods (no such plan today): row by row
+      for (let p = from; p < to; p++) this.row(u, p, code, code, first);
+      return;
+    }
+    // an inactive state: no retention cell (the prior state is not active) and no cohort activity
+    const base = s * (this.span + 1);
+    this.quietState[base + from]++;
+    this.quietState[base + to]--;
+    const pairFrom = Math.max(from, this.firstFlow + 1);
+    if (pairFrom < to) {
+      this.quietPair[base + pairFrom]++;
+      this.quietPair[base + to]--;
+    }
+    if (first >= this.firstFlow) this.ages.fill(s, from - first, to - first);
+  }
+
+  /** Add the quiet runs into byState and byPair. */
+  finish(): void {
+    const S = this.S, span = this.span;
+    for (let s = 0; s < S; s++) {
+      const base = s * (span + 1);
+      let inState = 0, inPair = 0;
+      for (let p = 0; p < span; p++) {
+        inState += this.quietState[base + p];
+        inPair += this.quietPair[base + p];
+        if (inState !== 0) this.byState[(p - this.outStart) * S + s] += inState;
+        if (inPair !== 0) this.byPair[(p * S + s) * S + s] += inPair;
+      }
+    }
   }
 
   row(_u: number, p: number, code: number, prevCode: number, first: number): void {
@@ -102,6 +145,7 @@ export function walkAggregate(active: ActivePeriods, plan: LifecyclePlan, users:
   const accs = new CohortAccumulators(span, firstFlow);
   const t = new TableCounter(o, firstFlow, classifiedSize(firstActive, span, o.outStart), firstDormant, accs);
   walkUsers(active, plan, o.outStart, t);
+  t.finish();
   const { byState, byPair, byCell, B, dense, tri, triStart, triMap } = t;
   const counts: TableCounts = {
     byState,
