@@ -1,6 +1,7 @@
 /**
- * The in-memory engine: columnar event log → active periods (typed-array sort) → classification
- * (tabulated xstate machine) → waist tables (typed-array counts, aggregate.ts).
+ * The in-memory engine: columnar event log → active periods (activity grid or sort) → a walk of each
+ * user's periods through the tabulated xstate machine that counts the waist tables as it goes
+ * (walkAggregate.ts); the classified rows themselves are made only when a reader asks for them.
  */
 import { TidemarkError } from '../../errors.js';
 import type { EventLog } from '../../ingest/eventLog.js';
