@@ -47,6 +47,20 @@ function anyEscaped(used: readonly number[], flags: Uint8Array): boolean {
   return false;
 }
 
+/** Files below this size are not presized (their columns double a few times at most). */
+const PRESIZE_MIN_BYTES = 4 << 20;
+
+/**
+ * About how many rows `bytes` bytes of the file hold, from the line feeds in the first refill `buf[0, end)`
+ * (4% over, so that an estimate a little short still needs no doubling), or 0 when too few lines tell.
+ */
+export function rowsEstimate(buf: Buffer, end: number, bytes: number): number {
+  if (bytes < PRESIZE_MIN_BYTES) return 0;
+  const lf = countLf(buf, 0, end);
+  if (lf < 64) return 0;
+  return Math.ceil((bytes / end) * lf * 1.04) + 1024;
+}
+
 /** A file's columns and the reusable row state of the scan. */
 interface CsvFile {
   file: string;
@@ -200,6 +214,8 @@ export async function readCsv(file: string, builder: EventLogBuilder, columns: {
     const pos = byteOrderMark(r.buf, r.end, file);
     const onPlan = async (plan: HeaderPlan, line: number): Promise<number> => {
       const size = r.fileSize;
+      // this thread's columns hold the whole file's rows (a worker's part is merged into them)
+      if (size !== undefined) builder.expectRows(rowsEstimate(r.buf, r.end, size - r.base));
       if (!split || size === undefined || size < split.minBytes || line !== 2) return -1;
       const at = await r.lineStartAfter(Math.max(r.base, split.splitNear(size, r.base)));
       if (at === undefined || at >= size) return -1;
@@ -245,6 +261,7 @@ export async function readCsvPart(job: CsvPartJob, builder: EventLogBuilder, col
   try {
     await r.refill(0);
     builder.startFile(job.file, job.plan.attributeNames);
+    if (r.fileSize !== undefined) builder.expectRows(rowsEstimate(r.buf, r.end, r.fileSize - job.start));
     const stop = await scanCsv({ file: job.file, builder, columns, needEvent, limits: job.limits, scanner, r }, 0, 1, job.plan, -1);
     builder.endFile(stop.line - 1);
   } finally {

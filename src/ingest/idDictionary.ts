@@ -10,7 +10,7 @@
  * (one cache miss finds a slot with what its comparison needs: an id of up to 16 bytes is compared
  * there, a longer one then in the arena), grown at half full; a dictionary of at most 8 values (event
  * names, most attributes) is scanned by length and bytes instead, with no hash; the hash is a
- * multiplicative byte hash with a per-run random seed, so no crafted set of ids can make the probes
+ * multiplicative hash (of the first 16 bytes a word at a time, then the rest a byte at a time, then the length) with a per-run random seed, so no crafted set of ids can make the probes
  * long on purpose. A dictionary built elsewhere (a worker thread's share of a file) is merged through
  * {@link DictionaryBytes}: its values' bytes in code order.
  *
@@ -38,6 +38,14 @@ const SLOT = 8;
 interface SliceBuffer extends Buffer {
   latin1Slice(start: number, end: number): string;
   utf8Slice(start: number, end: number): string;
+}
+
+/** The bytes `b[i, min(i + 4, e))` packed little-endian (missing ones zero; 0 when i ≥ e). */
+function wordAt(b: Uint8Array, i: number, e: number): number {
+  const n = e - i;
+  if (n >= 4) return b[i] | (b[i + 1] << 8) | (b[i + 2] << 16) | (b[i + 3] << 24);
+  if (n <= 0) return 0;
+  return b[i] | (n > 1 ? b[i + 1] << 8 : 0) | (n > 2 ? b[i + 2] << 16 : 0);
 }
 
 /** The first 4 bytes of `b[s, e)` packed little-endian (fewer are zero-filled; with the length, they decide a value of up to 4 bytes). */
@@ -76,20 +84,22 @@ export class IdDictionary {
   /** Index of the slot holding the value `b[s, e)`, or of the empty slot where it belongs; sets h and w0–w3. */
   private probe(b: Uint8Array, s: number, e: number): number {
     const len = e - s;
-    let h = this.seed, w0 = 0, w1 = 0, w2 = 0, w3 = 0;
-    for (let i = s; i < e; i++) {
-      const c = b[i];
-      h = Math.imul(h ^ c, 0x5bd1e995);
+    // the first 16 bytes as four words (what a slot keeps), hashed a word at a time, then any bytes beyond
+    const w0 = wordAt(b, s, e), w1 = wordAt(b, s + 4, e), w2 = wordAt(b, s + 8, e), w3 = wordAt(b, s + 12, e);
+    let h = Math.imul(this.seed ^ w0, 0x5bd1e995);
+    h ^= h >>> 15;
+    h = Math.imul(h ^ w1, 0x5bd1e995);
+    h ^= h >>> 15;
+    h = Math.imul(h ^ w2, 0x5bd1e995);
+    h ^= h >>> 15;
+    h = Math.imul(h ^ w3, 0x5bd1e995);
+    h ^= h >>> 15;
+    for (let i = s + 16; i < e; i++) {
+      h = Math.imul(h ^ b[i], 0x5bd1e995);
       h ^= h >>> 15;
-      const k = i - s;
-      if (k < 16) {
-        const v = c << ((k & 3) << 3);
-        if (k < 4) w0 |= v;
-        else if (k < 8) w1 |= v;
-        else if (k < 12) w2 |= v;
-        else w3 |= v;
-      }
     }
+    h = Math.imul(h ^ len, 0x5bd1e995);
+    h ^= h >>> 13;
     this.h = h;
     this.w0 = w0;
     this.w1 = w1;

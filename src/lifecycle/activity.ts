@@ -25,36 +25,98 @@ export interface ActivePeriods {
 /** Largest users × periods grid counted directly (2^26 cells: 64 MiB). */
 const GRID_MAX = 1 << 26;
 
-/** Periods with at least `minEvents` events, for events with period keys in [startKey, startKey + span). */
-export function activePeriods(log: EventLog, minEvents: number, startKey: number, span: number, grid = true): ActivePeriods {
+/** Grid cells a block of the blocked count (2^18 bytes: a block's increments stay in the core's L2 cache). */
+const BLOCK_BITS = 18;
+
+/**
+ * Periods with at least `minEvents` events, for events with period keys in [startKey, startKey + span).
+ * `grid` false forces the sort; `blockBits` sets the blocked count's block size (tests use small
+ * blocks; 0 counts straight into the grid), by default blocks of 2^18 cells for a log of a million
+ * rows or more on a grid of more than 4 blocks.
+ */
+export function activePeriods(log: EventLog, minEvents: number, startKey: number, span: number, grid = true, blockBits?: number): ActivePeriods {
   const cells = log.users.length * span;
-  if (grid && cells <= GRID_MAX && cells <= 8 * Math.max(log.size, 1 << 17)) return gridActivePeriods(log, minEvents, startKey, span);
+  if (grid && cells <= GRID_MAX && cells <= 8 * Math.max(log.size, 1 << 17)) {
+    const bits = blockBits ?? (log.size >= 1 << 20 && cells > 4 << BLOCK_BITS ? BLOCK_BITS : 0);
+    return gridActivePeriods(log, minEvents, startKey, span, bits);
+  }
   return sortActivePeriods(log, minEvents, startKey, span);
+}
+
+/**
+ * The cells of the rows in range, ordered by block of 2^bits cells (a counting sort on the block: a
+ * histogram, then one write per row into its block's run). Counting them block by block keeps each
+ * block's increments in cache: on 10M rows over a 26 MB grid, the increments in row order were cache
+ * misses (about 0.7 s); the two passes over the rows are sequential.
+ */
+function cellsByBlock(log: EventLog, startKey: number, span: number, bits: number, blocks: number): Int32Array {
+  const { user: users, period } = log;
+  const start = new Int32Array(blocks + 1);
+  let n = 0;
+  for (let i = 0; i < log.size; i++) {
+    const off = period[i] - startKey;
+    if (off < 0 || off >= span) continue;
+    start[((users[i] * span + off) >>> bits) + 1]++;
+    n++;
+  }
+  for (let b = 0; b < blocks; b++) start[b + 1] += start[b];
+  const cells = new Int32Array(n);
+  for (let i = 0; i < log.size; i++) {
+    const off = period[i] - startKey;
+    if (off < 0 || off >= span) continue;
+    const k = users[i] * span + off;
+    cells[start[k >>> bits]++] = k;
+  }
+  return cells;
 }
 
 /**
  * The grid count: one byte a cell (half the memory traffic of 16 bits; the increments are random
  * accesses), a cell's count beyond 254 kept in a Map beside it. Exact for any count.
  */
-function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, span: number): ActivePeriods {
+function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, span: number, bits: number): ActivePeriods {
   const grid = new Uint8Array(log.users.length * span);
   const more = new Map<number, number>();
-  const { user: users, period } = log;
-  for (let i = 0; i < log.size; i++) {
-    const off = period[i] - startKey;
-    if (off < 0 || off >= span) continue;
-    const k = users[i] * span + off;
-    const c = grid[k];
-    if (c < 255) grid[k] = c + 1;
-    else more.set(k, (more.get(k) ?? 0) + 1);
-  }
+  // cells reaching minEvents are counted as they reach it (a cell's count only grows), so one pass reads the grid
+  const at = Math.max(1, minEvents);
   let active = 0;
+  if (bits > 0) {
+    const cells = cellsByBlock(log, startKey, span, bits, Math.ceil(grid.length / 2 ** bits));
+    for (let i = 0; i < cells.length; i++) {
+      const k = cells[i];
+      const c = grid[k];
+      let now: number;
+      if (c < 255) now = grid[k] = c + 1;
+      else {
+        const m = (more.get(k) ?? 0) + 1;
+        more.set(k, m);
+        now = 255 + m;
+      }
+      if (now === at) active++;
+    }
+  } else {
+    const { user: users, period } = log;
+    for (let i = 0; i < log.size; i++) {
+      const off = period[i] - startKey;
+      if (off < 0 || off >= span) continue;
+      const k = users[i] * span + off;
+      const c = grid[k];
+      let now: number;
+      if (c < 255) now = grid[k] = c + 1;
+      else {
+        const m = (more.get(k) ?? 0) + 1;
+        more.set(k, m);
+        now = 255 + m;
+      }
+      if (now === at) active++;
+    }
+  }
   const countOf = (k: number) => (grid[k] < 255 ? grid[k] : 255 + (more.get(k) ?? 0));
-  for (let k = 0; k < grid.length; k++) if (grid[k] !== 0 && countOf(k) >= minEvents) active++;
   const user = new Int32Array(active), offset = new Int32Array(active), events = new Int32Array(active);
   let n = 0;
-  for (let k = 0, u = 0, o = 0; k < grid.length; k++) {
-    if (grid[k] !== 0) {
+  for (let u = 0, k = 0; u < log.users.length; u++) {
+    for (let o = 0; o < span; o++, k++) {
+      if (grid[k] === 0) continue;
       const e = countOf(k);
       if (e >= minEvents) {
         user[n] = u;
@@ -62,10 +124,6 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
         events[n] = e;
         n++;
       }
-    }
-    if (++o === span) {
-      o = 0;
-      u++;
     }
   }
   return { startKey, span, user, offset, events };

@@ -52,10 +52,8 @@ export function classifiedSize(firstActive: Int32Array, span: number, outStart: 
  * @param outStart first period offset to emit rows for
  */
 export function classify(active: ActivePeriods, plan: LifecyclePlan, users: number, outStart = 0): Classified {
-  const { span } = active;
-  const { nextState, idleEffect, levels, lapseLimit: L } = plan;
   const firstActive = firstActivePeriods(active, users);
-  const size = classifiedSize(firstActive, span, outStart);
+  const size = classifiedSize(firstActive, active.span, outStart);
   const out: Classified = {
     size,
     user: new Int32Array(size),
@@ -67,51 +65,115 @@ export function classify(active: ActivePeriods, plan: LifecyclePlan, users: numb
     firstDormant: new Int32Array(users).fill(-2),
     firstActive,
   };
+  walkUsers(active, plan, outStart, new RowWriter(out));
+  return out;
+}
+
+/**
+ * What a walk of the users ({@link walkUsers}) tells: each user's periods from max(first active,
+ * outStart) to the end of the range in order, then the end of the user. Codes are plan codes (0 is
+ * unseen, c ≥ 1 is plan.states[c − 1]).
+ */
+export interface WalkVisitor {
+  /** User `u` is in state `code` at period offset `p` (≥ outStart), after `prevCode`; `first` is their first active offset. */
+  row(u: number, p: number, code: number, prevCode: number, first: number): void;
+  /**
+   * User `u` stays in state `code` through the quiet periods [from, to) (all ≥ outStart): one row a
+   * period, each after `code` itself (the plan's fixed point; the walk crosses it in one step).
+   */
+  quiet(u: number, from: number, to: number, code: number, first: number): void;
+  /** User `u`'s periods are done: `dormantAt` is the offset of their first period in dormant, or -1. */
+  endUser(u: number, first: number, dormantAt: number): void;
+}
+
+/** The visitor of {@link classify}: one row of the columns a period. */
+class RowWriter implements WalkVisitor {
+  private r = 0;
+  constructor(private readonly out: Classified) {}
+  row(u: number, p: number, code: number, prevCode: number, first: number): void {
+    const o = this.out, r = this.r++;
+    o.user[r] = u;
+    o.period[r] = p;
+    o.state[r] = code - 1;
+    o.prev[r] = prevCode - 1;
+    o.tenure[r] = p - first;
+    o.cohort[r] = first;
+  }
+  quiet(u: number, from: number, to: number, code: number, first: number): void {
+    for (let p = from; p < to; p++) this.row(u, p, code, code, first);
+  }
+  endUser(u: number, _first: number, dormantAt: number): void {
+    this.out.firstDormant[u] = dormantAt;
+  }
+}
+
+/**
+ * Walk each user's periods through the plan (the loop of {@link classify}, which keeps every row;
+ * the engine's counting pass keeps none). Before `outStart` only the state at `outStart` matters, so
+ * a quiet run there is crossed in a few steps ({@link fastForward}).
+ */
+export function walkUsers(active: ActivePeriods, plan: LifecyclePlan, outStart: number, visit: WalkVisitor): void {
+  const { span } = active;
+  const { nextState, idleEffect, levels, lapseLimit: L } = plan;
   const dormantCode = plan.states.indexOf(baseState('exit')) + 1;
   const split = plan.thresholds.length > 0;
   const walker: Walker = { code: 0, idle: 0, dormantAt: -1 };
-  let row = 0;
+  const aUser = active.user, aOffset = active.offset, aEvents = active.events;
   let i = 0;
-  const n = active.user.length;
+  const n = aUser.length;
   while (i < n) {
-    const u = active.user[i];
-    const first = active.offset[i];
-    walker.code = 0; // unseen
-    walker.idle = 0;
-    walker.dormantAt = -1;
+    const u = aUser[i];
+    const first = aOffset[i];
+    let code = 0; // unseen
+    let idle = 0;
+    let dormantAt = -1;
     let p = first;
+    // the user's next active period (span when none is left)
+    let nextActive = first;
     while (p < span) {
-      const isActive = i < n && active.user[i] === u && active.offset[i] === p;
+      const isActive = p === nextActive;
       if (!isActive && p < outStart) {
-        const nextActive = i < n && active.user[i] === u ? active.offset[i] : span;
         const stop = Math.min(nextActive, outStart);
+        walker.code = code;
+        walker.idle = idle;
+        walker.dormantAt = dormantAt;
         fastForward(plan, walker, p, stop - p, dormantCode);
+        code = walker.code;
+        idle = walker.idle;
+        dormantAt = walker.dormantAt;
         p = stop;
         continue;
       }
-      const level = !isActive ? 0 : split ? levelOf(plan, true, active.events[i]) : 1;
-      if (isActive) i++;
-      const prevCode = walker.code;
-      // one period through the plan (inlined planStep)
-      const j = (prevCode * IDLE_CLASSES + (walker.idle < L ? 0 : 1)) * levels + level;
-      const code = nextState[j];
-      walker.code = code;
-      walker.idle = applyIdle(idleEffect[j], walker.idle, L);
-      if (code === dormantCode && walker.dormantAt < 0) walker.dormantAt = p;
-      if (p >= outStart) {
-        out.user[row] = u;
-        out.period[row] = p;
-        out.state[row] = code - 1;
-        out.prev[row] = prevCode - 1;
-        out.tenure[row] = p - first;
-        out.cohort[row] = first;
-        row++;
+      if (!isActive && p > first) {
+        // a quiet period after another period: when the plan keeps the state and the idle count's class
+        // (a fixed point), every quiet period up to the next active one gives the same row
+        const j0 = (code * IDLE_CLASSES + (idle < L ? 0 : 1)) * levels;
+        const e0 = idleEffect[j0];
+        if (nextState[j0] === code && (e0 === IDLE_KEEP || (e0 === IDLE_ADD && idle >= L) || (e0 === IDLE_RESET && idle === 0))) {
+          if (code === dormantCode && dormantAt < 0) dormantAt = p;
+          visit.quiet(u, p, nextActive, code, first);
+          p = nextActive;
+          continue;
+        }
       }
+      let level = 0;
+      if (isActive) {
+        level = split ? levelOf(plan, true, aEvents[i]) : 1;
+        i++;
+        nextActive = i < n && aUser[i] === u ? aOffset[i] : span;
+      }
+      const prevCode = code;
+      // one period through the plan (inlined planStep and applyIdle)
+      const j = (prevCode * IDLE_CLASSES + (idle < L ? 0 : 1)) * levels + level;
+      code = nextState[j];
+      const effect = idleEffect[j];
+      idle = effect === IDLE_RESET ? 0 : effect === IDLE_ADD ? (idle < L ? idle + 1 : L) : idle;
+      if (code === dormantCode && dormantAt < 0) dormantAt = p;
+      if (p >= outStart) visit.row(u, p, code, prevCode, first);
       p++;
     }
-    out.firstDormant[u] = walker.dormantAt;
+    visit.endUser(u, first, dormantAt);
   }
-  return out;
 }
 
 /** A user's position in the plan while walking. */

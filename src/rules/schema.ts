@@ -31,7 +31,11 @@ export const RULES_BOUNDS = {
   tenureBands: 32,
 } as const;
 
-const fmt = (n: number) => n.toLocaleString('en-US');
+/**
+ * A whole number with en-US thousands separators, as `toLocaleString('en-US')` writes it, without
+ * loading ICU's number formatting at start-up (about 30 ms; this runs when the module loads).
+ */
+export const fmt = (n: number) => (Number.isSafeInteger(n) ? String(n).replace(/\B(?=(\d{3})+(?!\d))/g, ',') : n.toLocaleString('en-US'));
 
 /** A whole number in [min, max]; every refusal (wrong type, NaN, Infinity, fraction, out of range) says so in one message. */
 function wholeNumber(what: string, min: number, max: number, unit: string) {

@@ -21,8 +21,9 @@ describe('activePeriods', () => {
           const want = new Map<string, number>();
           for (const [u, p] of rows) if (p >= startKey && p < startKey + span) want.set(`${u}|${p - startKey}`, (want.get(`${u}|${p - startKey}`) ?? 0) + 1);
           const expected = [...want].filter(([, n]) => n >= minEvents).map(([k, n]) => [...k.split('|').map(Number), n]).sort((a, b) => a[0] - b[0] || a[1] - b[1]);
-          for (const grid of [true, false]) {
-            const a = activePeriods(log, minEvents, startKey, span, grid);
+          // the grid counted row by row, the grid counted block by block (blocks of 1, 8 and 64 cells), and the sort
+          for (const [grid, bits] of [[true, 0], [true, 1], [true, 3], [true, 6], [false, 0]] as const) {
+            const a = activePeriods(log, minEvents, startKey, span, grid, bits);
             expect(Array.from(a.user, (u, i) => [u, a.offset[i], a.events[i]])).toEqual(expected);
           }
         }),
@@ -33,8 +34,9 @@ describe('activePeriods', () => {
   it("a period with more events than a byte holds (70,000) is counted exactly by the grid and the sort", () => {
     const rows: [number, number][] = Array.from({ length: 70_000 }, () => [1, 3]);
     rows.push([0, 2]);
-    for (const grid of [true, false]) expect(Array.from(activePeriods(logOf(rows, 2), 1, 0, 5, grid).events)).toEqual([1, 70_000]);
+    for (const [grid, bits] of [[true, 0], [true, 2], [false, 0]] as const) expect(Array.from(activePeriods(logOf(rows, 2), 1, 0, 5, grid, bits).events)).toEqual([1, 70_000]);
     // and a threshold above 255 counts from the overflow
     expect(Array.from(activePeriods(logOf(rows, 2), 300, 0, 5).user)).toEqual([1]);
+    expect(Array.from(activePeriods(logOf(rows, 2), 300, 0, 5, true, 2).user)).toEqual([1]);
   });
 });

@@ -30,7 +30,7 @@ export interface AggregateOptions {
  * band, kept) and cohort activity by (cohort, age). Each was an arquero group-by on a combined integer
  * key; the pass is several times faster (see DEVELOPERS.md) and allocates nothing per row.
  */
-function countTables(c: Classified, o: AggregateOptions, firstFlow: number) {
+function countTables(c: Classified, o: AggregateOptions, firstFlow: number): TableCounts {
   const S = o.states.length;
   const span = o.labels.length;
   const P = span - o.outStart;
@@ -80,11 +80,30 @@ function countTables(c: Classified, o: AggregateOptions, firstFlow: number) {
 }
 
 export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
+  const firstFlow = o.outStart + o.warmup; // earliest "from" period of a counted pair
+  const counts = countTables(c, o, firstFlow);
+  return waistTables(counts, o, (cohorts) => extendCohorts(c, cohorts, o, firstFlow, o.labels.length), c.firstActive, c.firstDormant);
+}
+
+/** The counts {@link countTables} gives (and the fused walk, walkAggregate.ts). */
+export interface TableCounts {
+  byState: Float64Array;
+  byPair: Float64Array;
+  byCell: Float64Array;
+  age: (k: number, a: number) => number;
+  B: number;
+}
+
+/**
+ * The waist tables from the counts: `extend` adds the cohort rows' per-member summaries; durations
+ * come from each user's first active and first dormant period offsets.
+ */
+export function waistTables(counts: TableCounts, o: AggregateOptions, extend: (cohorts: CohortRow[]) => void, firstActive: Int32Array, firstDormant: Int32Array): WaistTables {
   const S = o.states.length;
   const span = o.labels.length;
   const P = span - o.outStart;
   const firstFlow = o.outStart + o.warmup; // earliest "from" period of a counted pair
-  const { byState, byPair, byCell, age, B } = countTables(c, o, firstFlow);
+  const { byState, byPair, byCell, age, B } = counts;
 
   // state counts per period
   const stateCounts = Array.from({ length: P }, (_, p) => Array.from({ length: S }, (_, s) => byState[p * S + s]));
@@ -120,7 +139,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     if (size === 0) continue;
     cohorts.push({ cohort: o.labels[k], size, active: Array.from({ length: span - k }, (_, a) => age(k, a)) });
   }
-  extendCohorts(c, cohorts, o, firstFlow, span);
+  extend(cohorts);
 
   return {
     states: [...o.states],
@@ -133,7 +152,7 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
     transitions,
     tenureCells,
     cohorts,
-    durations: durationRows(c, firstFlow, span, (_u, first) => o.labels[first], o.labels),
+    durations: durationRows({ firstActive, firstDormant }, firstFlow, span, (_u, first) => o.labels[first], o.labels),
   };
 }
 
@@ -141,8 +160,10 @@ export function aggregate(c: Classified, o: AggregateOptions): WaistTables {
  * Periods from first active to first dormant per user, censored at the range end, for users first
  * active from `firstFlow` on, grouped by `groupOf(user, firstActiveOffset)`.
  */
-export function durationRows(c: Classified, firstFlow: number, span: number, groupOf: (user: number, first: number) => string, labels: readonly string[]): DurationRow[] {
-  const m = new Map<string, DurationRow>();
+export function durationRows(c: Pick<Classified, 'firstActive' | 'firstDormant'>, firstFlow: number, span: number, groupOf: (user: number, first: number) => string, labels: readonly string[]): DurationRow[] {
+  // rows by a numeric key (group index, first, duration, observed): no string made per user
+  const groups = new Map<string, number>();
+  const m = new Map<number, DurationRow>();
   for (let u = 0; u < c.firstActive.length; u++) {
     const first = c.firstActive[u];
     if (first < firstFlow) continue;
@@ -150,7 +171,9 @@ export function durationRows(c: Classified, firstFlow: number, span: number, gro
     const observed: 0 | 1 = d >= 0 ? 1 : 0;
     const duration = observed ? d - first : span - 1 - first;
     const group = groupOf(u, first);
-    const key = `${group}\u0000${first}|${duration}|${observed}`;
+    let g = groups.get(group);
+    if (g === undefined) groups.set(group, (g = groups.size));
+    const key = ((g * span + first) * span + duration) * 2 + observed;
     const row = m.get(key);
     if (row) row.users++;
     else m.set(key, { group, cohort: labels[first], duration, observed, users: 1 });
@@ -167,56 +190,82 @@ export function durationRows(c: Classified, firstFlow: number, span: number, gro
  * in typed arrays with nothing allocated per member (8 times faster at 500,000 members).
  */
 function extendCohorts(c: Classified, cohorts: CohortRow[], o: AggregateOptions, firstFlow: number, span: number): void {
-  const offsetOf = new Map<string, number>();
-  for (let k = firstFlow; k < span; k++) offsetOf.set(o.labels[k], k);
-  const rows = new Map<number, { last: Float64Array; before: Float64Array; gap?: Float64Array; gapStart?: Int32Array }>();
-  for (const row of cohorts) {
-    const k = offsetOf.get(row.cohort)!;
-    const A = span - 1 - k;
-    if (A <= WINDOW_MAX_AGE + 1) {
-      // gap[a][d] for d = 0 … A − a, rows laid one after another
-      const gapStart = new Int32Array(A + 2);
-      for (let a = 0; a <= A; a++) gapStart[a + 1] = gapStart[a] + (A - a + 1);
-      rows.set(k, { last: new Float64Array(A + 1), before: new Float64Array(A), gap: new Float64Array(gapStart[A + 1]), gapStart });
-    } else rows.set(k, { last: new Float64Array(A + 1), before: new Float64Array(A) });
-  }
+  const accs = new CohortAccumulators(span, firstFlow);
   const { user, cohort, state } = c;
   const active = o.activeCount;
   for (let r0 = 0; r0 < c.size; ) {
     const u = user[r0];
     let r1 = r0 + 1;
     while (r1 < c.size && user[r1] === u) r1++;
-    const acc = cohort[r0] >= firstFlow ? rows.get(cohort[r0]) : undefined;
-    if (acc) {
-      // rows r0 … r1 − 1 are ages 0 … r1 − 1 − r0
-      const { last, before, gap, gapStart } = acc;
-      const A = before.length;
-      let next = -1;
-      let beforeFound = false;
-      for (let a = r1 - 1 - r0; a >= 0; a--) {
-        if (state[r0 + a] < active) {
-          if (next < 0) last[a]++;
-          if (!beforeFound && a < A) {
-            before[a]++;
-            beforeFound = true;
-          }
-          next = a;
-        }
-        if (gap && next >= 0) gap[gapStart![a] + next - a]++;
-      }
-    }
+    // rows r0 … r1 − 1 are ages 0 … r1 − 1 − r0
+    if (cohort[r0] >= firstFlow) accs.addMember(cohort[r0], state, r0, r1 - r0, active);
     r0 = r1;
   }
-  for (const row of cohorts) {
-    const acc = rows.get(offsetOf.get(row.cohort)!)!;
-    row.lastActiveAge = Array.from(acc.last);
-    row.lastActiveAgeBeforeFinal = Array.from(acc.before);
-    if (acc.gap) {
-      const { gap, gapStart } = acc;
-      row.windowActive = Array.from({ length: gapStart!.length - 1 }, (_, a) => {
-        let running = 0;
-        return Array.from(gap.subarray(gapStart![a], gapStart![a + 1]), (v) => (running += v));
-      });
+  accs.finish(cohorts, o.labels);
+}
+
+interface CohortAcc {
+  last: Float64Array;
+  before: Float64Array;
+  gap?: Float64Array;
+  gapStart?: Int32Array;
+}
+
+/** The per-cohort histograms of {@link extendCohorts}, made on a cohort's first member. */
+export class CohortAccumulators {
+  private readonly accs: (CohortAcc | undefined)[];
+  constructor(private readonly span: number, private readonly firstFlow: number) {
+    this.accs = new Array<CohortAcc | undefined>(Math.max(0, span - firstFlow)).fill(undefined);
+  }
+
+  private accOf(k: number): CohortAcc {
+    let acc = this.accs[k - this.firstFlow];
+    if (acc) return acc;
+    const A = this.span - 1 - k;
+    if (A <= WINDOW_MAX_AGE + 1) {
+      // gap[a][d] for d = 0 … A − a, rows laid one after another
+      const gapStart = new Int32Array(A + 2);
+      for (let a = 0; a <= A; a++) gapStart[a + 1] = gapStart[a] + (A - a + 1);
+      acc = { last: new Float64Array(A + 1), before: new Float64Array(A), gap: new Float64Array(gapStart[A + 1]), gapStart };
+    } else acc = { last: new Float64Array(A + 1), before: new Float64Array(A) };
+    this.accs[k - this.firstFlow] = acc;
+    return acc;
+  }
+
+  /** A member of cohort `k` (≥ firstFlow) whose states at ages 0 … n − 1 are `state[r0 …]`: read backwards once. */
+  addMember(k: number, state: ArrayLike<number>, r0: number, n: number, active: number): void {
+    const { last, before, gap, gapStart } = this.accOf(k);
+    const A = before.length;
+    let next = -1;
+    let beforeFound = false;
+    for (let a = n - 1; a >= 0; a--) {
+      if (state[r0 + a] < active) {
+        if (next < 0) last[a]++;
+        if (!beforeFound && a < A) {
+          before[a]++;
+          beforeFound = true;
+        }
+        next = a;
+      }
+      if (gap && next >= 0) gap[gapStart![a] + next - a]++;
+    }
+  }
+
+  /** Write the summaries into the cohort rows (every row's cohort has had a member). */
+  finish(cohorts: CohortRow[], labels: readonly string[]): void {
+    const offsetOf = new Map<string, number>();
+    for (let k = this.firstFlow; k < this.span; k++) offsetOf.set(labels[k], k);
+    for (const row of cohorts) {
+      const acc = this.accOf(offsetOf.get(row.cohort)!);
+      row.lastActiveAge = Array.from(acc.last);
+      row.lastActiveAgeBeforeFinal = Array.from(acc.before);
+      if (acc.gap) {
+        const { gap, gapStart } = acc;
+        row.windowActive = Array.from({ length: gapStart!.length - 1 }, (_, a) => {
+          let running = 0;
+          return Array.from(gap.subarray(gapStart![a], gapStart![a + 1]), (v) => (running += v));
+        });
+      }
     }
   }
 }

@@ -1,6 +1,7 @@
 /**
- * The in-memory engine: columnar event log → active periods (typed-array sort) → classification
- * (tabulated xstate machine) → waist tables (typed-array counts, aggregate.ts).
+ * The in-memory engine: columnar event log → active periods (activity grid or sort) → a walk of each
+ * user's periods through the tabulated xstate machine that counts the waist tables as it goes
+ * (walkAggregate.ts); the classified rows themselves are made only when a reader asks for them.
  */
 import { TidemarkError } from '../../errors.js';
 import type { EventLog } from '../../ingest/eventLog.js';
@@ -9,7 +10,8 @@ import { activePeriods, type ActivePeriods } from '../../lifecycle/activity.js';
 import { classifiedSize, classify, firstActivePeriods, type Classified } from '../../lifecycle/classify.js';
 import { compilePlan } from '../../lifecycle/plan.js';
 import { lifecycleStates } from '../../lifecycle/states.js';
-import { aggregate, durationRows } from './aggregate.js';
+import { durationRows } from './aggregate.js';
+import { walkAggregate } from './walkAggregate.js';
 import { loadArquero, segmentCells, segmentFlows } from './segments.js';
 import { activeAttribute, activeIndex } from './attributes.js';
 import { checkSplitColumn } from '../../lifecycle/perPerson.js';
@@ -36,7 +38,8 @@ export interface RunLimits {
 export interface LogRun extends EngineRun {
   range: ResolvedRange;
   labels: string[];
-  classified: Classified;
+  /** The classified rows: made on first reading (the waist itself is counted without them). */
+  readonly classified: Classified;
   /** The active (user, period) pairs the classification walked (audience lists read them). */
   active: ActivePeriods;
   /** The bytes the run was estimated to need (budget.ts). */
@@ -71,11 +74,12 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   // labels of the output periods only: history before --from is classified, never shown
   const labels: string[] = new Array<string>(r.span);
   for (let i = r.outStart; i < r.span; i++) labels[i] = periodLabel(r.startKey + i, scheme);
-  const classified = classify(active, plan, log.users.length, r.outStart);
   const table = lifecycleStates(rules);
   const activeCount = table.filter((s) => s.active).length;
   const roleName = (role: string) => (table.find((s) => s.role === role) as { name: string }).name;
-  const waist = aggregate(classified, {
+  // the tables in one walk of the users, with no classified rows (walkAggregate.ts); the rows are
+  // made only for a reader that asks for them (--by, audience lists, the classify command)
+  const walked = walkAggregate(active, plan, log.users.length, {
     states: plan.states,
     activeCount,
     arrivalState: roleName('arrival'),
@@ -84,8 +88,12 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     outStart: r.outStart,
     warmup,
     tenureBands: rules.tenureBands,
-  });
+  }, firstActive);
+  const waist = walked.tables;
+  let rows: Classified | undefined;
+  const classifiedRows = (): Classified => (rows ??= classify(active, plan, log.users.length, r.outStart));
   if (range.by) {
+    const classified = classifiedRows();
     const aq = await loadArquero();
     const attr = activeAttribute(log, range.by, active);
     const cells = segmentCells(aq, classified, active, attr, { states: plan.states, activeCount, labels, firstFlow: r.outStart + warmup });
@@ -108,7 +116,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     rows: log.rows,
     rowsInLastPeriod: last.rows,
     lastPeriod,
-    users: countUsers(classified.firstActive),
+    users: countUsers(walked.firstActive),
     events,
     attributes: log.attributes.map((a) => ({ name: a.name, values: a.values.length - 1 })),
     by: range.by ?? null,
@@ -116,7 +124,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     warnings: outliers ? [outlierWarning(outliers, r, scheme)] : [],
   });
   const full: Waist = { manifest, tables: waist };
-  return { waist: full, range: r, labels, classified, active, footprint: need };
+  return { waist: full, range: r, labels, get classified() { return classifiedRows(); }, active, footprint: need };
 }
 
 function countUsers(firstActive: Int32Array): number {
