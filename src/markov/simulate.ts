@@ -222,9 +222,9 @@ function streamSeed(seed: number, k: number, stream: number): number {
 /**
  * Percentiles across paths of a quantity of each path at each step (Hyndman & Fan definition 7):
  * out[q][t] for `levels` in [0, 100]. With `sim.recalibration`, the bands' percentiles are moved from
- * the step's median by their factors (not for a difference, `minus`).
+ * the step's median by their factors (not for a difference, `minus`), kept within [0, `upper`].
  */
-export function pathPercentiles(sim: Simulation, levels: readonly number[], of: (counts: Float64Array, base: number) => number, which = 0, minus?: number): number[][] {
+export function pathPercentiles(sim: Simulation, levels: readonly number[], of: (counts: Float64Array, base: number) => number, which = 0, minus?: number, upper = Infinity): number[][] {
   const { samples, horizon, states } = sim;
   const stride = (horizon + 1) * states;
   const sorted = new Float64Array(samples);
@@ -243,7 +243,10 @@ export function pathPercentiles(sim: Simulation, levels: readonly number[], of: 
       const at = (l: number) => quantileSorted(sorted, l / 100);
       const med = at(50);
       const [il, iu, ol, ou] = recalibratedBands(med, [at(r.inner[0]), at(r.inner[1]), at(r.outer[0]), at(r.outer[1])], f.inner, f.outer, r.sideRatio);
-      bands = new Map([[r.outer[0], ol], [r.outer[1], ou], [r.inner[0], il], [r.inner[1], iu]]);
+      // a widened band stays within what the quantity can be: counts and shares are never below 0, a
+      // share never above 1 (`upper`)
+      const clamp = (v: number) => Math.min(upper, Math.max(0, v));
+      bands = new Map([[r.outer[0], clamp(ol)], [r.outer[1], clamp(ou)], [r.inner[0], clamp(il)], [r.inner[1], clamp(iu)]]);
     }
     levels.forEach((l, q) => (out[q][t] = bands?.get(l) ?? quantileSorted(sorted, l / 100)));
   }

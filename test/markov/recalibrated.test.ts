@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { computeProjection } from '../../src/markov/run.js';
+import { pathPercentiles, type Simulation } from '../../src/markov/simulate.js';
 import { simulatedChain } from './chains.js';
 import { expectClose } from './helpers.js';
 
@@ -46,5 +47,26 @@ describe('the projection\'s recalibrated bands', () => {
       expect(sa.difference.total.outer).toEqual(sb.difference.total.outer);
     }
     expect(checked).toBeGreaterThan(100);
+  });
+});
+
+// A widened band can reach past what the quantity can be (a small state's count below 0, a share above
+// 1); the projection keeps it within [0, upper]. Hand-made paths (five paths, one step): state 0's counts
+// 1…5 have median 3 and 10th/90th percentiles 1.4 and 4.6 (Hyndman & Fan definition 7), so a factor of 10
+// moves the outer band to 3 ∓ 16, clamped to [0, 19]; its shares (count / 10) are clamped to [0, 1].
+describe('recalibrated bands stay within what the quantity can be', () => {
+  const counts = new Float64Array(5 * 2 * 2);
+  for (let k = 0; k < 5; k++) {
+    counts[(k * 2 + 1) * 2] = k + 1;
+    counts[(k * 2 + 1) * 2 + 1] = 10 - (k + 1);
+  }
+  const sim: Simulation = { samples: 5, horizon: 1, states: 2, counts: [counts], recalibration: { inner: [25, 75], outer: [10, 90], factors: [{ inner: 1, outer: 1 }, { inner: 10, outer: 10 }], sideRatio: 0.5 } };
+  it('a count band is never below 0, a share band never above 1', () => {
+    const c = pathPercentiles(sim, [10, 90], (x, b) => x[b]);
+    expect(c[0][1]).toBe(0);
+    expectClose(c[1][1], 3 + 10 * 1.6, 1e-9);
+    const s = pathPercentiles(sim, [10, 90], (x, b) => x[b] / (x[b] + x[b + 1]), 0, undefined, 1);
+    expect(s[0][1]).toBe(0);
+    expect(s[1][1]).toBe(1);
   });
 });
