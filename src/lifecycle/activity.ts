@@ -70,6 +70,15 @@ function cellsByBlock(log: EventLog, startKey: number, span: number, bits: numbe
   return cells;
 }
 
+/** One more event in cell k of the grid (a count beyond 254 kept in `more`); its count now. */
+function bump(grid: Uint8Array, more: Map<number, number>, k: number): number {
+  const c = grid[k];
+  if (c < 255) return (grid[k] = c + 1);
+  const m = (more.get(k) ?? 0) + 1;
+  more.set(k, m);
+  return 255 + m;
+}
+
 /**
  * The grid count: one byte a cell (half the memory traffic of 16 bits; the increments are random
  * accesses), a cell's count beyond 254 kept in a Map beside it. Exact for any count.
@@ -83,32 +92,14 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
   if (bits > 0) {
     const cells = cellsByBlock(log, startKey, span, bits, Math.ceil(grid.length / 2 ** bits));
     for (let i = 0; i < cells.length; i++) {
-      const k = cells[i];
-      const c = grid[k];
-      let now: number;
-      if (c < 255) now = grid[k] = c + 1;
-      else {
-        const m = (more.get(k) ?? 0) + 1;
-        more.set(k, m);
-        now = 255 + m;
-      }
-      if (now === at) active++;
+      if (bump(grid, more, cells[i]) === at) active++;
     }
   } else {
     const { user: users, period } = log;
     for (let i = 0; i < log.size; i++) {
       const off = period[i] - startKey;
       if (off < 0 || off >= span) continue;
-      const k = users[i] * span + off;
-      const c = grid[k];
-      let now: number;
-      if (c < 255) now = grid[k] = c + 1;
-      else {
-        const m = (more.get(k) ?? 0) + 1;
-        more.set(k, m);
-        now = 255 + m;
-      }
-      if (now === at) active++;
+      if (bump(grid, more, users[i] * span + off) === at) active++;
     }
   }
   const countOf = (k: number) => (grid[k] < 255 ? grid[k] : 255 + (more.get(k) ?? 0));
