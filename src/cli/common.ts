@@ -359,7 +359,9 @@ export function addPartialOption(cmd: Command): Command {
  */
 export function rowLine(r: Omit<RowAccount, 'lines'> & { lines?: RowAccount['lines'] }): string {
   const f = (n: number) => n.toLocaleString('en-US');
-  const rejected = Object.entries(r.rejected);
+  // by count, then reason: the same line whichever engine counted them (the memory engine meets the reasons
+  // in file order, SQL in no order)
+  const rejected = Object.entries(r.rejected).sort(([a, m], [b, n]) => (n ?? 0) - (m ?? 0) || (a < b ? -1 : a > b ? 1 : 0));
   const nRej = rejected.reduce((a, [, n]) => a + (n ?? 0), 0);
   const parts = [`${f(r.read)} read`, `${f(r.used)} used`];
   if (r.notKeyEvent) parts.push(`${f(r.notKeyEvent)} not key events`);

@@ -18,3 +18,13 @@ describe('rowLine(account)', () => {
     expect(rowLine(r)).toBe('rows: 203 read, 200 used, 3 rejected (unclosed quote 3); lines: 212 read = 1 header + 2 blank + 206 in rows + 3 in rejected rows');
   });
 });
+
+describe('rowLine(account): order of the reasons', () => {
+  it('when reasons were met in different orders then the line lists them by count, then by name, the same either way', () => {
+    const lines = { read: 9, header: 1, blank: 0, records: 4, rejected: 4 };
+    const a = account({ read: 8, used: 4, rejected: { 'bad timestamp': 2, 'wrong number of fields': 1, 'missing user id': 1 }, lines });
+    const b = account({ read: 8, used: 4, rejected: { 'missing user id': 1, 'wrong number of fields': 1, 'bad timestamp': 2 }, lines });
+    expect(rowLine(a)).toBe('rows: 8 read, 4 used, 4 rejected (bad timestamp 2, missing user id 1, wrong number of fields 1)');
+    expect(rowLine(b)).toBe(rowLine(a));
+  });
+});
