@@ -197,26 +197,43 @@ export async function runEngine(o: Pick<CommonOptions, 'engine' | 'format' | 'qu
   }
 }
 
-/** Event files at least this large (bytes on disk, compressed or not) get a hint to use the duckdb engine. */
+/** Event text at least this large (bytes; compressed files counted as the text they hold) gets a hint to use the duckdb engine. */
 export const LARGE_INPUT_BYTES = 1_000_000_000;
+/**
+ * How many bytes of CSV text a byte of a compressed file stands for, in the hint: gzip and Parquet both
+ * hold about 3.6–3.9 bytes of text a byte on the benchmark's logs (50 MB of CSV: 12.9 MB gzipped, 13.9 MB
+ * of Parquet), rounded to 4. Parquet counts 10: the memory engine reads it several times slower than CSV
+ * (10M events: 31.6 s from Parquet against 8.1 s from CSV, reports/bench.md of 2026-12-02), so
+ * 100 MB of Parquet (about 7M events) already take longer than the duckdb engine needs.
+ */
+const TEXT_BYTES_PER_BYTE = { text: 1, gzip: 4, parquet: 10 } as const;
 
 /**
- * A one-line note on standard error when the memory engine is about to read event files of at least
- * {@link LARGE_INPUT_BYTES} in all: the duckdb engine reads them out of core. Undefined otherwise (another
+ * A one-line note on standard error when the memory engine is about to read event files that hold at
+ * least {@link LARGE_INPUT_BYTES} of text in all (compressed ones weighted by {@link TEXT_BYTES_PER_BYTE}):
+ * the duckdb engine reads them out of core, and Parquet several times faster. Undefined otherwise (another
  * engine, a database source, smaller files, files that cannot be listed: the run reports those).
  */
 export function largeInputHint(source: EventSource, engine: string | undefined): string | undefined {
   if ((engine ?? 'memory') !== 'memory' || source.kind !== 'files') return undefined;
-  let bytes = 0;
+  let bytes = 0, weighted = 0, parquet = 0;
   for (const f of source.files) {
+    let size: number;
     try {
-      bytes += statSync(f).size;
+      size = statSync(f).size;
     } catch {
       return undefined;
     }
+    const lower = f.toLowerCase();
+    const kind = source.format === 'parquet' || (!source.format && lower.endsWith('.parquet')) ? 'parquet' : lower.endsWith('.gz') ? 'gzip' : 'text';
+    bytes += size;
+    weighted += size * TEXT_BYTES_PER_BYTE[kind];
+    if (kind === 'parquet') parquet += size;
   }
-  if (bytes < LARGE_INPUT_BYTES) return undefined;
-  return `note: ${(bytes / 1e9).toFixed(1)} GB of events for the memory engine; --engine duckdb reads large logs out of core, in less memory`;
+  if (weighted < LARGE_INPUT_BYTES) return undefined;
+  const size = (b: number) => (b >= 1e9 ? `${(b / 1e9).toFixed(1)} GB` : `${Math.round(b / 1e6)} MB`);
+  if (parquet > 0) return `note: ${size(parquet)} of Parquet for the memory engine, which reads Parquet several times slower; --engine duckdb reads it faster, out of core, in less memory`;
+  return `note: ${size(bytes)} of events${weighted > bytes ? ` (about ${size(weighted)} as text)` : ''} for the memory engine; --engine duckdb reads large logs out of core, in less memory`;
 }
 
 /** As {@link runEngine}, streaming the classification to `sink`. */

@@ -142,4 +142,26 @@ describe('a hint to use the duckdb engine for large files', () => {
     truncateSync(big, LARGE_INPUT_BYTES - 1);
     expect(largeInputHint(filesSource([big]), 'memory')).toBeUndefined();
   });
+
+  it('counts a compressed file as the text it holds: gzip 4 bytes a byte, Parquet 10 (the memory engine reads it slowly)', () => {
+    const gz = join(dir, 'big.csv.gz');
+    writeFileSync(gz, '');
+    truncateSync(gz, LARGE_INPUT_BYTES / 4);
+    expect(largeInputHint(filesSource([gz]), 'memory')).toBe('note: 250 MB of events (about 1.0 GB as text) for the memory engine; --engine duckdb reads large logs out of core, in less memory');
+    truncateSync(gz, LARGE_INPUT_BYTES / 4 - 1);
+    expect(largeInputHint(filesSource([gz]), 'memory')).toBeUndefined();
+    const pq = join(dir, 'big.parquet');
+    writeFileSync(pq, '');
+    truncateSync(pq, LARGE_INPUT_BYTES / 10);
+    expect(largeInputHint(filesSource([pq]), 'memory')).toMatch(/^note: 100 MB of Parquet for the memory engine, which reads Parquet several times slower; --engine duckdb/);
+    expect(largeInputHint(filesSource([pq]), 'duckdb')).toBeUndefined();
+    truncateSync(pq, LARGE_INPUT_BYTES / 10 - 1);
+    expect(largeInputHint(filesSource([pq]), 'memory')).toBeUndefined();
+    // a Parquet file without the extension, named by --input-format
+    const bin = join(dir, 'big.bin');
+    writeFileSync(bin, '');
+    truncateSync(bin, LARGE_INPUT_BYTES / 10);
+    expect(largeInputHint(filesSource([bin], { format: 'parquet' }), 'memory')).toBeDefined();
+    expect(largeInputHint(filesSource([bin]), 'memory')).toBeUndefined();
+  });
 });
