@@ -4,7 +4,7 @@
  * (walkAggregate.ts); the classified rows themselves are made only when a reader asks for them.
  */
 import { TidemarkError } from '../../errors.js';
-import type { EventLog } from '../../ingest/eventLog.js';
+import { userCount, type EventLog } from '../../ingest/eventLog.js';
 import { readEvents, type ReadProgress } from '../../ingest/read.js';
 import { activePeriods, type ActivePeriods } from '../../lifecycle/activity.js';
 import { classifiedSize, classify, firstActivePeriods, type Classified } from '../../lifecycle/classify.js';
@@ -49,6 +49,9 @@ export interface LogRun extends EngineRun {
 /** Run the heavy stage on an event log already in memory (async only to load arquero for `--by`). */
 export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, limits: RunLimits = {}): Promise<LogRun> {
   const scheme: PeriodScheme = log.scheme;
+  if (range.by !== undefined && log.wallMs.length < log.size) {
+    throw new TidemarkError('INPUT_INVALID', 'a log read for the waist only (no attribute column per row) cannot be split by an attribute', { key: 'by' }, 'Read the log without waistOnly for --by');
+  }
   const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
   let minKey = Infinity, maxKey = -Infinity;
   for (let i = 0; i < log.size; i++) {
@@ -67,7 +70,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   }
   const plan = compilePlan(rules);
   const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span);
-  const firstActive = firstActivePeriods(active, log.users.length);
+  const firstActive = firstActivePeriods(active, userCount(log));
   const outliers = outputOutliers(log, r);
   const need = engineFootprint({ ...sizesOf(log, active, firstActive, r, warmup, rules.tenureBands.length), split: range.by !== undefined, rowObjects: limits.rowObjects ?? false });
   checkFootprint(need, limits.budget ?? memoryBudget(), log, r, countUsers(firstActive), outliers);
@@ -79,7 +82,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   const roleName = (role: string) => (table.find((s) => s.role === role) as { name: string }).name;
   // the tables in one walk of the users, with no classified rows (walkAggregate.ts); the rows are
   // made only for a reader that asks for them (--by, audience lists, the classify command)
-  const walked = walkAggregate(active, plan, log.users.length, {
+  const walked = walkAggregate(active, plan, userCount(log), {
     states: plan.states,
     activeCount,
     arrivalState: roleName('arrival'),
@@ -91,7 +94,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   }, firstActive);
   const waist = walked.tables;
   let rows: Classified | undefined;
-  const classifiedRows = (): Classified => (rows ??= classify(active, plan, log.users.length, r.outStart));
+  const classifiedRows = (): Classified => (rows ??= classify(active, plan, userCount(log), r.outStart));
   if (range.by) {
     const classified = classifiedRows();
     const aq = await loadArquero();
@@ -101,7 +104,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels), perPerson: split?.perPerson };
     // each user's segment is the value in their first active period, so the segments partition the users
-    const segmentOf = new Int32Array(log.users.length);
+    const segmentOf = new Int32Array(userCount(log));
     for (let u = 0; u < segmentOf.length; u++) if (classified.firstActive[u] >= 0) segmentOf[u] = attr.codes[activeIndex(active, u, classified.firstActive[u])];
     const segments = segmentFlows(aq, classified, segmentOf, attr.values, { states: plan.states, labels, outStart: r.outStart, firstFlow: r.outStart + warmup, freshCode: plan.states.indexOf(roleName('arrival')) });
     waist.segmentTransitions = { by: range.by, perPerson: split?.perPerson, segments };
@@ -150,7 +153,7 @@ function sizesOf(log: EventLog, active: ActivePeriods, firstActive: Int32Array, 
     events: log.size,
     attributes: log.attributes.length,
     activePeriods: active.user.length,
-    users: log.users.length,
+    users: userCount(log),
     rows: classifiedSize(firstActive, r.span, r.outStart),
     cohortActive,
     outPeriods: r.span - r.outStart,
@@ -176,7 +179,9 @@ export class MemoryEngine implements Engine {
     const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
     const toKey = optionKey(range.to, scheme, 'to');
     const tell = this.opts.onProgress;
-    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
+    // without --by the waist needs no wall-clock or attribute column per row (fewer fresh pages to fill)
+    const waistOnly = range.by === undefined;
+    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, waistOnly, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
     tell?.({ stage: 'classifying' });
     return { log, run: await runOnLog(log, rules, range) };
   }
