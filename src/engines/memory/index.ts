@@ -32,6 +32,12 @@ import type { Waist } from '../../waist/types.js';
 export interface RunLimits {
   budget?: number;
   rowObjects?: boolean;
+  /**
+   * The caller reads the log's user and period columns no more after the run (the engine's own runs):
+   * the active periods are written into their pages instead of fresh memory (activePeriods' spendLog).
+   * Not with --by, which reads the log's rows after.
+   */
+  spendLog?: boolean;
 }
 
 /** One run of the heavy stage on a log in memory: the waist, and what `classify` streams from. */
@@ -69,7 +75,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${r.span - r.outStart})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
   }
   const plan = compilePlan(rules);
-  const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span);
+  const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span, true, undefined, limits.spendLog === true && range.by === undefined);
   const firstActive = firstActivePeriods(active, userCount(log));
   const outliers = outputOutliers(log, r);
   const need = engineFootprint({ ...sizesOf(log, active, firstActive, r, warmup, rules.tenureBands.length), split: range.by !== undefined, rowObjects: limits.rowObjects ?? false });
@@ -183,7 +189,8 @@ export class MemoryEngine implements Engine {
     const waistOnly = range.by === undefined;
     const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, waistOnly, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
     tell?.({ stage: 'classifying' });
-    return { log, run: await runOnLog(log, rules, range) };
+    // the log's user and period columns are spent by the run (only its ids are read after: classify)
+    return { log, run: await runOnLog(log, rules, range, { spendLog: true }) };
   }
 
   async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineRun> {
