@@ -105,6 +105,12 @@ export interface EventLog {
    * it through {@link userCount}.
    */
   userCount?: number;
+  /**
+   * The first and last period keys of the rows, when known with no pass over them: a log from
+   * {@link EventLogBuilder.build} (without detail) takes them from its earliest and latest rows, since
+   * a row's period key grows with its wall clock.
+   */
+  keyRange?: { min: number; max: number };
   attributes: AttributeColumn[];
   rows: RowAccount;
   scheme: PeriodScheme;
@@ -494,6 +500,9 @@ export class EventLogBuilder {
 
   build(): EventLog {
     const users = this.users;
+    const { earliest, latest } = this.extremes;
+    const keyOf = (wall: number) => this.keyOfDay(Math.floor(wall / DAY));
+    const keyRange = !this.detail && this.user.length > 0 && earliest.length > 0 ? { min: keyOf(earliest[0].wallMs), max: keyOf(latest[0].wallMs) } : undefined;
     return {
       size: this.user.length,
       user: this.user.view(),
@@ -504,6 +513,7 @@ export class EventLogBuilder {
         return users.values;
       },
       userCount: users.size,
+      ...(keyRange ? { keyRange } : {}),
       attributes: this.attrNames.map((name, i) => ({ name, codes: this.attrCodes[i].view(), values: this.attrDicts[i].values })),
       rows: this.rows,
       scheme: this.scheme,

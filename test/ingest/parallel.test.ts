@@ -121,8 +121,14 @@ describe('two-part reading', () => {
         // the last period's coverage: from the latest row when there is no wall-clock column, from the column otherwise
         const a = await readEvents([file], { rules, skipBadRows, parallel: false });
         const b = await readEvents([file], { rules, skipBadRows, parallel: split, waistOnly: true });
-        let maxKey = -Infinity;
-        for (let i = 0; i < a.size; i++) maxKey = Math.max(maxKey, a.period[i]);
+        let minKey = Infinity, maxKey = -Infinity;
+        for (let i = 0; i < a.size; i++) {
+          minKey = Math.min(minKey, a.period[i]);
+          maxKey = Math.max(maxKey, a.period[i]);
+        }
+        // the key range told by the earliest and latest rows is the rows' own
+        expect(a.keyRange).toEqual({ min: minKey, max: maxKey });
+        expect(b.keyRange).toEqual({ min: minKey, max: maxKey });
         for (const k of [maxKey - 1, maxKey, maxKey + 1]) expect(lastPeriodOf(b, k, b.scheme)).toEqual(lastPeriodOf(a, k, a.scheme));
         expect((await runOnLog(b, rules)).waist).toEqual((await runOnLog(a, rules)).waist);
       }),

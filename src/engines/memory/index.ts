@@ -60,10 +60,13 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   }
   const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
   let minKey = Infinity, maxKey = -Infinity;
-  for (let i = 0; i < log.size; i++) {
-    const k = log.period[i];
-    if (k < minKey) minKey = k;
-    if (k > maxKey) maxKey = k;
+  if (log.keyRange) ({ min: minKey, max: maxKey } = log.keyRange);
+  else {
+    for (let i = 0; i < log.size; i++) {
+      const k = log.period[i];
+      if (k < minKey) minKey = k;
+      if (k > maxKey) maxKey = k;
+    }
   }
   const fromKey = optionKey(range.from, scheme, 'from');
   const toKey = optionKey(range.to, scheme, 'to');
