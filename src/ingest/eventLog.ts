@@ -14,6 +14,7 @@ import { GrowableFloat64, GrowableInt32, ownCopy } from './growable.js';
 import { IdDictionary, type DictionaryBytes } from './idDictionary.js';
 import { Extremes, type ExtremeRow } from './extremes.js';
 import { DetailColumns, type EventDetail } from './detail.js';
+import { blankBytes } from './text.js';
 
 const DAY = 86_400_000;
 const MIN_MS = Date.UTC(1900, 0, 1);
@@ -92,9 +93,24 @@ export interface EventLog {
   user: Int32Array;
   /** Per row: period key (see periods/calendar.ts). */
   period: Int32Array;
-  /** Per row: wall-clock ms in the rules' zone. */
+  /**
+   * Per row: wall-clock ms in the rules' zone. Empty in a log read with `waistOnly` (then the latest
+   * row's wall clock is `extremes.latest[0]`).
+   */
   wallMs: Float64Array;
   users: string[];
+  /**
+   * Number of user codes, when the log knows it without its ids (a log from {@link EventLogBuilder.build}
+   * decodes `users` only when they are read, and the engine's counts need only this number); read
+   * it through {@link userCount}.
+   */
+  userCount?: number;
+  /**
+   * The first and last period keys of the rows, when known with no pass over them: a log from
+   * {@link EventLogBuilder.build} (without detail) takes them from its earliest and latest rows, since
+   * a row's period key grows with its wall clock.
+   */
+  keyRange?: { min: number; max: number };
   attributes: AttributeColumn[];
   rows: RowAccount;
   scheme: PeriodScheme;
@@ -126,6 +142,14 @@ export interface BuilderOptions {
   toKey?: number;
   /** Keep per-row detail and the rows that are not key events (detail.ts); off by default. */
   detail?: boolean;
+  /**
+   * Keep per row only what the waist needs without `--by`: the user and period columns. The wall-clock
+   * column and the attribute columns' per-row codes stay empty (attribute values are still coded, so
+   * their counts are known). Fresh memory is the costly part of filling columns (measured on the
+   * benchmark machine: a first write to a page costs about 60 times a later one), and these are 12 of
+   * a row's 20 bytes with one attribute. Off by default; not with `detail`.
+   */
+  waistOnly?: boolean;
 }
 
 /** An extreme row as data (its file and line resolver are the merging builder's). */
@@ -175,8 +199,11 @@ export class EventLogBuilder {
   private eventIsKey: number[] = [];
   private readonly extremes = new Extremes();
   private readonly detail: DetailColumns | undefined;
+  /** Whether the wall-clock and attribute columns are filled (not {@link BuilderOptions.waistOnly}). */
+  private readonly allColumns: boolean;
 
   constructor(private readonly opts: BuilderOptions) {
+    this.allColumns = !opts.waistOnly;
     this.clock = new ZoneClock(opts.rules.timezone);
     this.keyEvents = opts.rules.activity.keyEvents ? new Set(opts.rules.activity.keyEvents) : undefined;
     this.scheme = { grain: opts.rules.grain, weekStart: opts.rules.weekStart };
@@ -202,7 +229,7 @@ export class EventLogBuilder {
         const g = new GrowableInt32();
         const d = new IdDictionary();
         d.code(''); // code 0: no value
-        g.pushRepeated(0, this.user.length);
+        if (this.allColumns) g.pushRepeated(0, this.user.length);
         this.attrCodes.push(g);
         this.attrDicts.push(d);
         this.attrCaches.push(new Map());
@@ -221,6 +248,7 @@ export class EventLogBuilder {
     const n = this.user.length + Math.max(0, Math.floor(rows));
     this.user.ensure(n);
     this.period.ensure(n);
+    if (!this.allColumns) return;
     this.wall.ensure(n);
     for (const g of this.attrCodes) g.ensure(n);
   }
@@ -288,10 +316,11 @@ export class EventLogBuilder {
     this.detail?.add(event, isKey, typeof ts === 'string' ? ts : ts(), this.lineOf(line));
     this.user.push(typeof userId === 'number' ? userId : this.users.code(userId));
     this.period.push(key);
-    this.wall.push(wall);
+    if (this.allColumns) this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {
       const pos = this.slots[a];
-      this.attrCodes[a].push(pos >= 0 ? cached(this.attrCaches[a], attrs[pos] ?? '', this.attrDicts[a]) : 0);
+      const code = pos >= 0 ? cached(this.attrCaches[a], attrs[pos] ?? '', this.attrDicts[a]) : 0;
+      if (this.allColumns) this.attrCodes[a].push(code);
     }
   }
 
@@ -347,10 +376,7 @@ export class EventLogBuilder {
     }
     const us = starts[user], ue = ends[user];
     const known = this.users.find(b, us, ue);
-    if (known < 0) {
-      const id = utf8Text(b, us, ue);
-      if (id.trim() === '') return this.reject('missing user id', file, line, this.opts.rules.columns.user, id, undefined, lines);
-    }
+    if (known < 0 && blankBytes(b, us, ue)) return this.reject('missing user id', file, line, this.opts.rules.columns.user, utf8Text(b, us, ue), undefined, lines);
     const ts0 = starts[ts], ts1 = ends[ts];
     let wall = parseTimestampBytes(b, ts0, ts1, this.clock);
     let tsText: string | undefined;
@@ -379,13 +405,15 @@ export class EventLogBuilder {
     }
     this.rows.used++;
     if (this.extremes.wants(wall)) this.extremes.add(wall, tsText ?? utf8Text(b, ts0, ts1), file, line, this.lineOf);
-    this.user.push(known >= 0 ? known : this.users.codeBytes(b, us, ue));
+    // a new id: stored where its look-up above ended (no other user look-up came between)
+    this.user.push(known >= 0 ? known : this.users.addMissed(b, us, ue));
     this.period.push(key);
-    this.wall.push(wall);
+    if (this.allColumns) this.wall.push(wall);
     for (let a = 0; a < this.attrCodes.length; a++) {
       const pos = this.slots[a];
       const f = pos >= 0 ? attrFields[pos] : -1;
-      this.attrCodes[a].push(f >= 0 ? this.attrDicts[a].codeBytes(b, starts[f], ends[f]) : 0);
+      const code = f >= 0 ? this.attrDicts[a].codeBytes(b, starts[f], ends[f]) : 0;
+      if (this.allColumns) this.attrCodes[a].push(code);
     }
   }
 
@@ -423,11 +451,15 @@ export class EventLogBuilder {
     const n = p.user.length;
     this.user.pushMapped(p.user, userMap);
     this.period.pushAll(p.period);
-    this.wall.pushAll(p.wall);
+    if (this.allColumns) this.wall.pushAll(p.wall);
     for (let a = 0; a < this.attrNames.length; a++) {
       const j = p.attrNames.indexOf(this.attrNames[a]);
-      if (j < 0) this.attrCodes[a].pushRepeated(0, n);
-      else this.attrCodes[a].pushMapped(p.attrs[j], this.attrDicts[a].merge(p.attrValues[j]));
+      if (j < 0) {
+        if (this.allColumns) this.attrCodes[a].pushRepeated(0, n);
+      } else {
+        const map = this.attrDicts[a].merge(p.attrValues[j]);
+        if (this.allColumns) this.attrCodes[a].pushMapped(p.attrs[j], map);
+      }
     }
     const evMap = this.events.merge(p.events);
     for (let c = 0; c < evMap.length; c++) {
@@ -467,12 +499,21 @@ export class EventLogBuilder {
   }
 
   build(): EventLog {
+    const users = this.users;
+    const { earliest, latest } = this.extremes;
+    const keyOf = (wall: number) => this.keyOfDay(Math.floor(wall / DAY));
+    const keyRange = !this.detail && this.user.length > 0 && earliest.length > 0 ? { min: keyOf(earliest[0].wallMs), max: keyOf(latest[0].wallMs) } : undefined;
     return {
       size: this.user.length,
       user: this.user.view(),
       period: this.period.view(),
       wallMs: this.wall.view(),
-      users: this.users.values,
+      // the ids are decoded when first read (per-user outputs, --by): flows and the waist need only their number
+      get users() {
+        return users.values;
+      },
+      userCount: users.size,
+      ...(keyRange ? { keyRange } : {}),
       attributes: this.attrNames.map((name, i) => ({ name, codes: this.attrCodes[i].view(), values: this.attrDicts[i].values })),
       rows: this.rows,
       scheme: this.scheme,
@@ -482,6 +523,11 @@ export class EventLogBuilder {
       ...(this.detail ? { detail: this.detail.build() } : {}),
     };
   }
+}
+
+/** Number of user codes of a log (its ids are not decoded for it). */
+export function userCount(log: EventLog): number {
+  return log.userCount ?? log.users.length;
 }
 
 /**

@@ -80,6 +80,8 @@ export class IdDictionary {
   private w1 = 0;
   private w2 = 0;
   private w3 = 0;
+  /** The empty slot where the value of the last {@link find} that missed belongs, or -1 (see {@link addMissed}). */
+  private missAt = -1;
 
   /** Index of the slot holding the value `b[s, e)`, or of the empty slot where it belongs; sets h and w0–w3. */
   private probe(b: Uint8Array, s: number, e: number): number {
@@ -164,8 +166,26 @@ export class IdDictionary {
 
   /** The code of the value whose UTF-8 bytes are `b[s, e)`, or -1 when it has none yet. */
   find(b: Uint8Array, s: number, e: number): number {
-    if (this.size <= SMALL) return this.small(b, s, e);
-    return this.slots[(this.probe(b, s, e) << 3) + 1];
+    if (this.size <= SMALL) {
+      this.missAt = -1;
+      return this.small(b, s, e);
+    }
+    const at = this.probe(b, s, e);
+    const c = this.slots[(at << 3) + 1];
+    this.missAt = c < 0 ? at : -1;
+    return c;
+  }
+
+  /**
+   * The code of `b[s, e)` (well-formed UTF-8) just after {@link find} gave -1 for it, with no other
+   * look-up in this dictionary between: a new value, stored in the slot where that look-up ended, so
+   * it is not probed for twice. Any other case is {@link codeBytes}.
+   */
+  addMissed(b: Uint8Array, s: number, e: number): number {
+    const at = this.missAt;
+    if (at < 0) return this.codeBytes(b, s, e);
+    this.missAt = -1;
+    return this.insert(at, b, s, e, undefined);
   }
 
   /**
@@ -174,6 +194,7 @@ export class IdDictionary {
    * as UTF-8 when {@link values} is read.
    */
   codeBytes(b: Uint8Array, s: number, e: number, text?: (b: Uint8Array, s: number, e: number) => string): number {
+    this.missAt = -1;
     if (this.size <= SMALL) {
       const c = this.small(b, s, e);
       if (c >= 0) return c;
@@ -188,6 +209,7 @@ export class IdDictionary {
    * well-formed text (no lone surrogate: the readers refuse those in ids), since its UTF-8 bytes are its key.
    */
   code(id: string): number {
+    this.missAt = -1;
     const bytes = Buffer.from(id, 'utf8');
     const at = this.probe(bytes, 0, bytes.length);
     const found = this.slots[(at << 3) + 1];

@@ -11,13 +11,17 @@ const DAY = 86_400_000;
  */
 export function lastPeriodOf(log: EventLog, lastKey: number, scheme: PeriodScheme): { label: string; coverage: number; complete: boolean; rows: number } {
   let maxWall = -Infinity, rows = 0, later = log.rows.afterRange > 0;
+  // a log without its wall-clock column (read waistOnly): the latest row of all is the latest of the
+  // last period when no row is later (period keys grow with the wall clock), and unused when one is
+  const wall = log.wallMs.length === log.size ? log.wallMs : undefined;
   for (let i = 0; i < log.size; i++) {
     const k = log.period[i];
     if (k === lastKey) {
       rows++;
-      if (log.wallMs[i] > maxWall) maxWall = log.wallMs[i];
+      if (wall && wall[i] > maxWall) maxWall = wall[i];
     } else if (k > lastKey) later = true;
   }
+  if (!wall && rows > 0) maxWall = log.extremes.latest[0].wallMs;
   const startMs = periodStartDay(lastKey, scheme) * DAY;
   const endMs = periodEndDay(lastKey, scheme) * DAY;
   const coverage = later ? 1 : Math.max(0, Math.min(1, (maxWall - startMs) / (endMs - startMs)));

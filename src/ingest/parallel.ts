@@ -39,6 +39,8 @@ export interface PartJob {
   rules: Rules;
   skipBadRows: boolean;
   toKey?: number;
+  /** The user and period columns only (BuilderOptions.waistOnly), as the main thread's builder keeps. */
+  waistOnly?: boolean;
 }
 
 /** The worker's answer. */
@@ -61,7 +63,7 @@ export function twoThreadSplit(job: Omit<PartJob, 'part'>, overrides: Partial<Om
 
 /** Read a later part of a file on this thread: what the worker runs (and what tests run in its place). */
 export async function readPartHere(job: PartJob, onBytes?: (n: number) => void): Promise<PartResult> {
-  const builder = new EventLogBuilder({ rules: job.rules, skipBadRows: job.skipBadRows, toKey: job.toKey });
+  const builder = new EventLogBuilder({ rules: job.rules, skipBadRows: job.skipBadRows, toKey: job.toKey, waistOnly: job.waistOnly });
   try {
     await readCsvPart(job.part, builder, job.rules.columns, job.rules.activity.keyEvents !== undefined, onBytes);
   } catch (e) {

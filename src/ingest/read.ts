@@ -28,6 +28,8 @@ export interface ReadEventsOptions {
   limits?: Partial<ScanLimits>;
   /** Keep per-row detail and the rows that are not key events (detail.ts); off by default. */
   detail?: boolean;
+  /** Keep only the columns the waist needs without --by (BuilderOptions.waistOnly); off by default, and ignored with `detail`. */
+  waistOnly?: boolean;
   /**
    * Told how reading goes, after each read of a file's bytes (about every MiB): the bytes read of all
    * the files so far, and their total size when every file is a regular file (a pipe has none).
@@ -71,12 +73,13 @@ export function formatOf(file: string, format?: EventFormat): EventFormat {
 
 /** Read one or more event files. Throws TidemarkError for unreadable files, bad headers, bad rows (unless skipping) and logs with no usable row. */
 export async function readEvents(files: string[], opts: ReadEventsOptions): Promise<EventLog> {
-  const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey, detail: opts.detail });
+  const waistOnly = opts.waistOnly === true && !opts.detail;
+  const builder = new EventLogBuilder({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey, detail: opts.detail, waistOnly });
   const needEvent = opts.rules.activity.keyEvents !== undefined;
   const limits: ScanLimits = { ...DEFAULT_LIMITS, ...opts.limits };
   // the second thread's part carries no per-row detail: a read with detail stays on one thread
   const split = opts.parallel === false || opts.detail ? undefined
-    : twoThreadSplit({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey }, opts.parallel === true || opts.parallel === undefined ? {} : opts.parallel);
+    : twoThreadSplit({ rules: opts.rules, skipBadRows: opts.skipBadRows ?? false, toKey: opts.toKey, waistOnly }, opts.parallel === true || opts.parallel === undefined ? {} : opts.parallel);
   const total = opts.onProgress ? await totalSize(files) : undefined;
   let bytes = 0;
   for (const file of files) {

@@ -122,3 +122,19 @@ function lastLf(buf: Buffer, from: number, end: number): number {
 export function invalidUtf8Hint(offset: number, byte: number): string {
   return `byte 0x${byte.toString(16).toUpperCase().padStart(2, '0')} at byte offset ${offset.toLocaleString('en-US')} is not UTF-8 (ids must not be guessed): re-save the file as UTF-8, or pass --skip-bad-rows to skip and count such rows`;
 }
+
+/**
+ * Whether the UTF-8 text `b[s, e)` is empty or white space only, as `text.trim() === ''` decides,
+ * from the bytes: an ASCII byte other than TAB, LF, VT, FF, CR or space settles it at once (trim
+ * removes no other ASCII character); text with only non-ASCII bytes beside white space is decoded
+ * and trimmed (trim also removes U+00A0, U+FEFF and other Unicode spaces).
+ */
+export function blankBytes(b: Uint8Array, s: number, e: number): boolean {
+  let other = false;
+  for (let i = s; i < e; i++) {
+    const c = b[i];
+    if (c >= 0x80) other = true;
+    else if (c !== 0x20 && (c < 0x09 || c > 0x0d)) return false;
+  }
+  return !other || Buffer.from(b.buffer, b.byteOffset + s, e - s).toString('utf8').trim() === '';
+}

@@ -8,7 +8,7 @@
  * equal keys is an active (user, period). (A hash group-by took about 30 s and 2.5 GB on 10M mostly
  * distinct keys.) Both give the same table.
  */
-import type { EventLog } from '../ingest/eventLog.js';
+import { userCount, type EventLog } from '../ingest/eventLog.js';
 
 export interface ActivePeriods {
   /** First period key of the range. */
@@ -32,13 +32,15 @@ const BLOCK_BITS = 18;
  * Periods with at least `minEvents` events, for events with period keys in [startKey, startKey + span).
  * `grid` false forces the sort; `blockBits` sets the blocked count's block size (tests use small
  * blocks; 0 counts straight into the grid), by default blocks of 2^18 cells for a log of a million
- * rows or more on a grid of more than 4 blocks.
+ * rows or more on a grid of more than 4 blocks. `spendLog`: the caller reads the log's user and period
+ * columns no more, so the grid count may write its result into their pages (fresh memory costs far
+ * more than a write to pages in use; the engine's waist run spends its log so).
  */
-export function activePeriods(log: EventLog, minEvents: number, startKey: number, span: number, grid = true, blockBits?: number): ActivePeriods {
-  const cells = log.users.length * span;
+export function activePeriods(log: EventLog, minEvents: number, startKey: number, span: number, grid = true, blockBits?: number, spendLog = false): ActivePeriods {
+  const cells = userCount(log) * span;
   if (grid && cells <= GRID_MAX && cells <= 8 * Math.max(log.size, 1 << 17)) {
     const bits = blockBits ?? (log.size >= 1 << 20 && cells > 4 << BLOCK_BITS ? BLOCK_BITS : 0);
-    return gridActivePeriods(log, minEvents, startKey, span, bits);
+    return gridActivePeriods(log, minEvents, startKey, span, bits, spendLog);
   }
   return sortActivePeriods(log, minEvents, startKey, span);
 }
@@ -83,17 +85,22 @@ function bump(grid: Uint8Array, more: Map<number, number>, k: number): number {
  * The grid count: one byte a cell (half the memory traffic of 16 bits; the increments are random
  * accesses), a cell's count beyond 254 kept in a Map beside it. Exact for any count.
  */
-function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, span: number, bits: number): ActivePeriods {
-  const grid = new Uint8Array(log.users.length * span);
+function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, span: number, bits: number, spendLog: boolean): ActivePeriods {
+  const nUsers = userCount(log);
+  const grid = new Uint8Array(nUsers * span);
   const more = new Map<number, number>();
   // cells reaching minEvents are counted as they reach it (a cell's count only grows), so one pass reads the grid
   const at = Math.max(1, minEvents);
   let active = 0;
+  // the blocked count's cells, once counted, hold the active users' codes (fewer than the cells): fresh
+  // memory is costly (a first touch of a page costs far more than a write), so its pages are used again
+  let reuse: Int32Array | undefined;
   if (bits > 0) {
     const cells = cellsByBlock(log, startKey, span, bits, Math.ceil(grid.length / 2 ** bits));
     for (let i = 0; i < cells.length; i++) {
       if (bump(grid, more, cells[i]) === at) active++;
     }
+    reuse = cells;
   } else {
     const { user: users, period } = log;
     for (let i = 0; i < log.size; i++) {
@@ -103,9 +110,12 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
     }
   }
   const countOf = (k: number) => (grid[k] < 255 ? grid[k] : 255 + (more.get(k) ?? 0));
-  const user = new Int32Array(active), offset = new Int32Array(active), events = new Int32Array(active);
+  // the read below looks at the grid only: the rows' columns, once counted, may hold the result (spendLog)
+  const user = reuse ? reuse.subarray(0, active) : new Int32Array(active);
+  const offset = spendLog ? log.period.subarray(0, active) : new Int32Array(active);
+  const events = spendLog ? log.user.subarray(0, active) : new Int32Array(active);
   let n = 0;
-  for (let u = 0, k = 0; u < log.users.length; u++) {
+  for (let u = 0, k = 0; u < nUsers; u++) {
     for (let o = 0; o < span; o++, k++) {
       if (grid[k] === 0) continue;
       const e = countOf(k);

@@ -71,3 +71,34 @@ describe('IdDictionary.merge', () => {
     );
   });
 });
+
+describe('IdDictionary.addMissed (a new id stored where its look-up ended)', () => {
+  it('gives the codes code() gives, whatever other calls come between find and addMissed (fast-check; a string-keyed Map is the reference)', () => {
+    const id = fc.oneof(fc.constantFrom('', 'm1', 'José', '🛠', 'a'.repeat(40)), fc.nat(3000).map((n) => `u${n}`));
+    // what happens between a find that missed and addMissed: nothing, another find, a codeBytes, or a code()
+    const between = fc.constantFrom('none', 'find', 'codeBytes', 'code');
+    fc.assert(
+      fc.property(fc.array(fc.tuple(id, between, id), { maxLength: 3000 }), (ops) => {
+        const d = new IdDictionary();
+        const ref = new Map<string, number>();
+        const refCode = (s: string) => {
+          if (!ref.has(s)) ref.set(s, ref.size);
+          return ref.get(s)!;
+        };
+        for (const [s, how, other] of ops) {
+          const b = Buffer.from(`,${s},`);
+          const found = d.find(b, 1, b.length - 1);
+          expect(found).toBe(ref.get(s) ?? -1);
+          if (found >= 0) continue;
+          const o = Buffer.from(other);
+          if (how === 'find') expect(d.find(o, 0, o.length)).toBe(ref.get(other) ?? -1);
+          if (how === 'codeBytes') expect(d.codeBytes(o, 0, o.length)).toBe(refCode(other));
+          if (how === 'code') expect(d.code(other)).toBe(refCode(other));
+          expect(d.addMissed(b, 1, b.length - 1)).toBe(refCode(s));
+        }
+        expect(d.values).toEqual([...ref.keys()]);
+      }),
+      { seed: 61, numRuns: 60 },
+    );
+  });
+});

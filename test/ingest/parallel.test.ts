@@ -17,6 +17,8 @@ import { headerPlan } from '../../src/ingest/header.js';
 import { DEFAULT_LIMITS } from '../../src/ingest/limits.js';
 import { readPartHere, twoThreadSplit } from '../../src/ingest/parallel.js';
 import { readEvents, type ReadEventsOptions } from '../../src/ingest/read.js';
+import { lastPeriodOf } from '../../src/ingest/lastPeriod.js';
+import { runOnLog } from '../../src/engines/memory/index.js';
 import { rulesOf, tempDir } from '../core/helpers.js';
 import { rfc4180Write } from './helpers.js';
 
@@ -97,4 +99,51 @@ describe('two-part reading', () => {
     const got = await twoThreadSplit({ rules, skipBadRows: false })!.readPart({ file, start, plan, delimiter: ',', limits: DEFAULT_LIMITS }).result;
     expect(got.ok && got.partial.user.length).toBe(6_667); // rows 10,001–20,000 less the 'browse' ones (i % 3 = 0)
   }, 30_000); // a bound on a worker that never answers
+
+  it('a read for the waist only (waistOnly) equals the full read less its wall-clock and attribute columns, on one thread or two, and gives the same last period and waist (fast-check; the full read is the reference)', async () => {
+    /** The full log as a waistOnly read should give it: no wall clock and no attribute code per row. */
+    const lean = (full: unknown) => {
+      if (!full || typeof full !== 'object' || !('wallMs' in full)) return full; // an error: the same one
+      const log = full as EventLog;
+      return { ...log, wallMs: new Float64Array(0), attributes: log.attributes.map((a) => ({ ...a, codes: new Int32Array(0) })) };
+    };
+    await fc.assert(
+      fc.asyncProperty(fc.array(row, { minLength: 1, maxLength: 40 }), damage, fc.nat(10_000), fc.boolean(), async (rows, dmg, where, skipBadRows) => {
+        const bytes = fileOf(rows, dmg);
+        const file = join(t.dir, `w${n++}.csv`);
+        writeFileSync(file, bytes);
+        const near = Math.floor((where / 10_001) * bytes.length);
+        const full = await outcome(file, { rules, skipBadRows, parallel: false });
+        const split = { minBytes: 0, splitNear: () => near, readPart: readPartHere };
+        expect(await outcome(file, { rules, skipBadRows, parallel: false, waistOnly: true })).toEqual(lean(full));
+        expect(await outcome(file, { rules, skipBadRows, parallel: split, waistOnly: true })).toEqual(lean(full));
+        if (!full || typeof full !== 'object' || !('wallMs' in full)) return;
+        // the last period's coverage: from the latest row when there is no wall-clock column, from the column otherwise
+        const a = await readEvents([file], { rules, skipBadRows, parallel: false });
+        const b = await readEvents([file], { rules, skipBadRows, parallel: split, waistOnly: true });
+        let minKey = Infinity, maxKey = -Infinity;
+        for (let i = 0; i < a.size; i++) {
+          minKey = Math.min(minKey, a.period[i]);
+          maxKey = Math.max(maxKey, a.period[i]);
+        }
+        // the key range told by the earliest and latest rows is the rows' own
+        expect(a.keyRange).toEqual({ min: minKey, max: maxKey });
+        expect(b.keyRange).toEqual({ min: minKey, max: maxKey });
+        for (const k of [maxKey - 1, maxKey, maxKey + 1]) expect(lastPeriodOf(b, k, b.scheme)).toEqual(lastPeriodOf(a, k, a.scheme));
+        expect((await runOnLog(b, rules)).waist).toEqual((await runOnLog(a, rules)).waist);
+      }),
+      { seed: 2027, numRuns: 150 },
+    );
+  }, 60_000);
+
+  it('a real worker thread reads the second part for the waist only: the same log as one thread', async () => {
+    const lines = ['user_id,timestamp,event,plan'];
+    for (let i = 0; i < 20_000; i++) lines.push(`m${(i * 7919) % 3001},${new Date(Date.UTC(2026, 0, 5) + ((i * 104_729) % 5_000_000) * 3600).toISOString()},${i % 3 ? 'booking' : 'browse'},${i % 5 ? 'pro' : '"hob""by"'}`);
+    const file = t.file('worker-waist.csv', `${lines.join('\n')}\n`);
+    const one = await outcome(file, { rules, parallel: false, waistOnly: true });
+    const two = await outcome(file, { rules, parallel: { minBytes: 0, splitNear: (size) => size / 2 }, waistOnly: true });
+    expect(two).toEqual(one);
+    expect((one as EventLog).size).toBe(13_333);
+    expect((one as EventLog).wallMs.length).toBe(0);
+  }, 30_000);
 });

@@ -2,7 +2,7 @@
 import { isUtf8 } from 'node:buffer';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { byteOrderMark, countLf, firstInvalidUtf8 } from '../../src/ingest/text.js';
+import { blankBytes, byteOrderMark, countLf, firstInvalidUtf8 } from '../../src/ingest/text.js';
 import { TidemarkError } from '../../src/errors.js';
 
 const fatal = new TextDecoder('utf-8', { fatal: true });
@@ -76,5 +76,20 @@ describe('countLf', () => {
     expect(countLf(b, 0, b.length)).toBe(4);
     expect(countLf(b, 2, 5)).toBe(2);
     expect(countLf(b, 5, 5)).toBe(0);
+  });
+});
+
+describe('blankBytes (a user id that is empty or white space, decided from its bytes)', () => {
+  it("agrees with String.prototype.trim() === '' on its UTF-8 bytes (fast-check; trim, as ECMA-262 defines white space, is the reference)", () => {
+    // ASCII white space and the Unicode spaces trim removes (U+00A0, U+1680, U+2000–U+200A, U+2028, U+2029, U+202F, U+205F, U+3000, U+FEFF), and characters it keeps (U+200B, U+0085)
+    const piece = fc.constantFrom(' ', '\t', '\n', '\v', '\f', '\r', '\u00a0', '\u1680', '\u2000', '\u200a', '\u2028', '\u2029', '\u202f', '\u205f', '\u3000', '\ufeff', '\u200b', '\u0085', 'u', '1', 'é', '🛠', '\u0001', '\u007f');
+    fc.assert(
+      fc.property(fc.array(piece, { maxLength: 8 }), (parts) => {
+        const s = parts.join('');
+        const b = Buffer.from(`x${s}y`);
+        expect(blankBytes(b, 1, b.length - 1)).toBe(s.trim() === '');
+      }),
+      { seed: 67, numRuns: 2000 },
+    );
   });
 });

@@ -25,6 +25,9 @@ describe('activePeriods', () => {
           for (const [grid, bits] of [[true, 0], [true, 1], [true, 3], [true, 6], [false, 0]] as const) {
             const a = activePeriods(log, minEvents, startKey, span, grid, bits);
             expect(Array.from(a.user, (u, i) => [u, a.offset[i], a.events[i]])).toEqual(expected);
+            // and written into the log's own columns (spendLog; a fresh log each time, since it is spent)
+            const b = activePeriods(logOf(rows, users), minEvents, startKey, span, grid, bits, true);
+            expect(Array.from(b.user, (u, i) => [u, b.offset[i], b.events[i]])).toEqual(expected);
           }
         }),
       { seed: 1707, numRuns: 300 },

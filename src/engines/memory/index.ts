@@ -4,7 +4,7 @@
  * (walkAggregate.ts); the classified rows themselves are made only when a reader asks for them.
  */
 import { TidemarkError } from '../../errors.js';
-import type { EventLog } from '../../ingest/eventLog.js';
+import { userCount, type EventLog } from '../../ingest/eventLog.js';
 import { readEvents, type ReadProgress } from '../../ingest/read.js';
 import { activePeriods, type ActivePeriods } from '../../lifecycle/activity.js';
 import { classifiedSize, classify, firstActivePeriods, type Classified } from '../../lifecycle/classify.js';
@@ -32,6 +32,12 @@ import type { Waist } from '../../waist/types.js';
 export interface RunLimits {
   budget?: number;
   rowObjects?: boolean;
+  /**
+   * The caller reads the log's user and period columns no more after the run (the engine's own runs):
+   * the active periods are written into their pages instead of fresh memory (activePeriods' spendLog).
+   * Not with --by, which reads the log's rows after.
+   */
+  spendLog?: boolean;
 }
 
 /** One run of the heavy stage on a log in memory: the waist, and what `classify` streams from. */
@@ -49,12 +55,18 @@ export interface LogRun extends EngineRun {
 /** Run the heavy stage on an event log already in memory (async only to load arquero for `--by`). */
 export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions = {}, limits: RunLimits = {}): Promise<LogRun> {
   const scheme: PeriodScheme = log.scheme;
+  if (range.by !== undefined && log.wallMs.length < log.size) {
+    throw new TidemarkError('INPUT_INVALID', 'a log read for the waist only (no attribute column per row) cannot be split by an attribute', { key: 'by' }, 'Read the log without waistOnly for --by');
+  }
   const split = range.by === undefined ? undefined : checkSplitColumn(log, range.by, range.allowPerPersonColumn);
   let minKey = Infinity, maxKey = -Infinity;
-  for (let i = 0; i < log.size; i++) {
-    const k = log.period[i];
-    if (k < minKey) minKey = k;
-    if (k > maxKey) maxKey = k;
+  if (log.keyRange) ({ min: minKey, max: maxKey } = log.keyRange);
+  else {
+    for (let i = 0; i < log.size; i++) {
+      const k = log.period[i];
+      if (k < minKey) minKey = k;
+      if (k > maxKey) maxKey = k;
+    }
   }
   const fromKey = optionKey(range.from, scheme, 'from');
   const toKey = optionKey(range.to, scheme, 'to');
@@ -66,8 +78,8 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${r.span - r.outStart})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
   }
   const plan = compilePlan(rules);
-  const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span);
-  const firstActive = firstActivePeriods(active, log.users.length);
+  const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span, true, undefined, limits.spendLog === true && range.by === undefined);
+  const firstActive = firstActivePeriods(active, userCount(log));
   const outliers = outputOutliers(log, r);
   const need = engineFootprint({ ...sizesOf(log, active, firstActive, r, warmup, rules.tenureBands.length), split: range.by !== undefined, rowObjects: limits.rowObjects ?? false });
   checkFootprint(need, limits.budget ?? memoryBudget(), log, r, countUsers(firstActive), outliers);
@@ -79,7 +91,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   const roleName = (role: string) => (table.find((s) => s.role === role) as { name: string }).name;
   // the tables in one walk of the users, with no classified rows (walkAggregate.ts); the rows are
   // made only for a reader that asks for them (--by, audience lists, the classify command)
-  const walked = walkAggregate(active, plan, log.users.length, {
+  const walked = walkAggregate(active, plan, userCount(log), {
     states: plan.states,
     activeCount,
     arrivalState: roleName('arrival'),
@@ -91,7 +103,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   }, firstActive);
   const waist = walked.tables;
   let rows: Classified | undefined;
-  const classifiedRows = (): Classified => (rows ??= classify(active, plan, log.users.length, r.outStart));
+  const classifiedRows = (): Classified => (rows ??= classify(active, plan, userCount(log), r.outStart));
   if (range.by) {
     const classified = classifiedRows();
     const aq = await loadArquero();
@@ -101,7 +113,7 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
     const groupOf = (u: number, first: number) => attr.values[attr.codes[activeIndex(active, u, first)]] || '(none)';
     waist.segmentDurations = { by: range.by, rows: durationRows(classified, r.outStart + warmup, r.span, groupOf, labels), perPerson: split?.perPerson };
     // each user's segment is the value in their first active period, so the segments partition the users
-    const segmentOf = new Int32Array(log.users.length);
+    const segmentOf = new Int32Array(userCount(log));
     for (let u = 0; u < segmentOf.length; u++) if (classified.firstActive[u] >= 0) segmentOf[u] = attr.codes[activeIndex(active, u, classified.firstActive[u])];
     const segments = segmentFlows(aq, classified, segmentOf, attr.values, { states: plan.states, labels, outStart: r.outStart, firstFlow: r.outStart + warmup, freshCode: plan.states.indexOf(roleName('arrival')) });
     waist.segmentTransitions = { by: range.by, perPerson: split?.perPerson, segments };
@@ -150,7 +162,7 @@ function sizesOf(log: EventLog, active: ActivePeriods, firstActive: Int32Array, 
     events: log.size,
     attributes: log.attributes.length,
     activePeriods: active.user.length,
-    users: log.users.length,
+    users: userCount(log),
     rows: classifiedSize(firstActive, r.span, r.outStart),
     cohortActive,
     outPeriods: r.span - r.outStart,
@@ -176,9 +188,12 @@ export class MemoryEngine implements Engine {
     const scheme: PeriodScheme = { grain: rules.grain, weekStart: rules.weekStart };
     const toKey = optionKey(range.to, scheme, 'to');
     const tell = this.opts.onProgress;
-    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
+    // without --by the waist needs no wall-clock or attribute column per row (fewer fresh pages to fill)
+    const waistOnly = range.by === undefined;
+    const log = await readEvents(source.files, { rules, format: source.format, skipBadRows: source.skipBadRows, toKey, delimiter: source.delimiter, waistOnly, onProgress: tell && ((p) => tell({ stage: 'reading', ...p })) });
     tell?.({ stage: 'classifying' });
-    return { log, run: await runOnLog(log, rules, range) };
+    // the log's user and period columns are spent by the run (only its ids are read after: classify)
+    return { log, run: await runOnLog(log, rules, range, { spendLog: true }) };
   }
 
   async run(source: EventSource, rules: Rules, range: RangeOptions = {}): Promise<EngineRun> {
