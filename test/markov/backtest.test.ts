@@ -259,7 +259,9 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
   };
   const shiftOf = (used: BacktestCell[], state: number) => { const e = used.filter((d) => d.state === state).map(errorOf); return e.length >= 6 ? median(e) : 0; };
   /** Signed side scores of cell d against its own moved band (the shift from the cells before it). */
-  const scoresOf = (cells: BacktestCell[], d: BacktestCell) => {
+  const memo = new WeakMap<BacktestCell, { inner: number[]; outer: number[] }>();
+  const scoresOf = (cells: BacktestCell[], d: BacktestCell) => memo.get(d) ?? memo.set(d, scoresOfCell(cells, d)).get(d)!;
+  const scoresOfCell = (cells: BacktestCell[], d: BacktestCell) => {
     const sh = shiftOf(latest(cells, d), d.state) * (d.model[3] - d.model[2]) / 2;
     const m = d.median + sh, x = d.actual - m;
     const one = (lo: number, hi: number) => (Math.abs(x) <= 1e-12 ? [0, 0] : [lo > 1e-12 ? -x / lo : x < 0 ? 1e6 : -1e6, hi > 1e-12 ? x / hi : x > 0 ? 1e6 : -1e6]);
