@@ -89,7 +89,7 @@ function recalibrationOutput(bt: Backtest | { skipped: string } | undefined, sta
   return {
     applied,
     note: !applied ? `the backtest had fewer than ${r.minScores} scores at every horizon: the bands are the model's, not recalibrated`
-      : `recalibrated from the backtest's errors${missing.length ? ` (at ${missing.join(', ')} fewer than ${r.minScores} scores: the model's widths there)` : ' at every horizon'}: each state's band moved by the median of its recent errors (intercept correction), then each side scaled by its own quantile of past errors; steps past the backtest's horizon use its last factors; the bands of active users and totals are scaled but not moved; the bands of differences from the baseline and of segments are the model's`,
+      : `recalibrated from the backtest's errors${missing.length ? ` (at ${missing.join(', ')} fewer than ${r.minScores} scores: the model's widths there)` : ' at every horizon'}: each state's band moved by the median of its recent errors (intercept correction), then each side scaled by its own quantile of past errors; steps past the backtest's horizon use its last corrections and factors; the bands of active users and totals are scaled but not moved; the bands of differences from the baseline and of segments are the model's`,
     minScores: r.minScores,
     scoreOrigins: r.scoreOrigins,
     horizons: r.horizons.map((x) => ({ ...x, shift: x.shift ? Object.fromEntries(states.map((st, i) => [st, x.shift![i]])) : null })),
