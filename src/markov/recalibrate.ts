@@ -154,7 +154,9 @@ export function centreShift(used: readonly BandScoreRecord[], s: number, min: nu
  * side scores (the largest when that exceeds n), at most {@link MAX_FACTOR}. Null when fewer than `min`
  * records.
  *
- * @example widthFactors(used, 30, 0.5, 0.8) // { inner: [0.9, 0.7], outer: [1.4, 1.2], scores: 75 }
+ * @example // four records whose outer lower-side scores are 0.5, 1, 2, 3: level 0.8 takes the ⌈5·0.9⌉ = 5th
+ * // smallest, more than 4, so the largest: outer[0] = 3; at level 0.5 the ⌈5·0.75⌉ = 4th, also 3
+ * widthFactors(used, 1, 0.5, 0.8).outer[0] // 3
  */
 export function widthFactors(used: readonly BandScoreRecord[], min: number, levelInner: number, levelOuter: number): { inner: [number, number]; outer: [number, number]; scores: number } | null {
   if (used.length === 0 || used.length < min) return null;
