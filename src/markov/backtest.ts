@@ -19,17 +19,22 @@
  * σ_h = σ√(k + 1), k = ⌊(h − 1)/m⌋, σ from the changes over one season). The seasonal baseline needs a
  * season of history before the origin; without one it is left out and the reason given.
  *
- * Recalibration (on by default): each band the model simulates is scored at every origin against what
- * happened (`bandScore`: the distance of the actual share from the paths' median in units of the band's
- * side). An origin's band at horizon h has both sides scaled by the empirical quantile, at the band's
- * level, of the scores at horizon h of the latest {@link SCORE_ORIGINS} earlier origins whose outcome was
- * known at the origin (origin + h ≤ this origin: no look-ahead) — split conformal prediction with a
- * normalised score (Vovk, Gammerman & Shafer 2005, *Algorithmic Learning in a Random World*; Shafer &
- * Vovk 2008, JMLR 9:371–421); the latest origins only, since the errors of a changing audience are not
- * exchangeable over a long log. Fewer than {@link MIN_SCORES} such scores leave the model's band. The
- * coverage, interval scores and missed periods are of the bands so made; `model…` fields keep the model's.
- * The same quantiles over the latest origins of all scored give the factors for the projection at the
- * last period (`recalibration`).
+ * Recalibration (on by default), from the cells at horizon h of the latest {@link SCORE_ORIGINS} earlier
+ * origins whose outcome was known at the origin (origin + h ≤ this origin: no look-ahead); the latest
+ * only, since the errors of a changing audience are not exchangeable over a long log (`recalibrate.ts`):
+ * 1. intercept correction (Clements & Hendry 1996, Journal of Applied Econometrics 11:475–494; 1998,
+ *    *Forecasting Economic Time Series*, ch. 8): each state's band is moved by the median of that state's
+ *    signed errors (actual share − the paths' median, in units of the outer band's half-width), once
+ *    {@link SHIFT_ORIGINS} such origins exist;
+ * 2. asymmetric split conformal prediction with a normalised score (Vovk, Gammerman & Shafer 2005,
+ *    *Algorithmic Learning in a Random World*; Shafer & Vovk 2008, JMLR 9:371–421; Romano, Patterson &
+ *    Candès 2019, "Conformalized quantile regression", NeurIPS, Theorem 2): each cell is scored on each
+ *    side of its moved band (`sideScores`: how far beyond the moved median the actual share fell, in units
+ *    of that side, signed), and each side of the band is scaled by the empirical quantile of its scores at
+ *    (1 + level)/2, once {@link MIN_SCORES} scores exist (the model's widths before).
+ * The coverage, interval scores and missed periods are of the bands so made; `model…` fields keep the
+ * model's. The same over the latest origins of all scored give the corrections and factors for the
+ * projection at the last period (`recalibration`).
  *
  * Periods where the outer band missed at least half of the cells aimed at them (10 cells or more) are
  * listed: the flows changed there beyond their past variation (a structural break).
@@ -44,9 +49,9 @@ import { projectVarying } from './project.js';
 import { pathPercentiles, simulatePaths } from './simulate.js';
 import type { Vector } from './types.js';
 import { commonShare, rateVariation } from './variation.js';
-import { bandScore, innerAlt, recalibratedBands, widthFactors, type BandScoreRecord } from './recalibrate.js';
+import { centreShift, innerAlt, recalibratedBands, sideScores, signedError, usedRecords, widthFactors, type BandScoreRecord, type SideFactors } from './recalibrate.js';
 
-export { bandScore, widen, widthFactors } from './recalibrate.js';
+export { bandScore, centreShift, sideScores, signedError, usedRecords, widen, widthFactors } from './recalibrate.js';
 
 export interface BacktestOptions {
   /** Steps ahead H (default 8). */
@@ -75,6 +80,8 @@ export interface BacktestOptions {
   minScores?: number;
   /** Only the scores of the latest N origins whose outcome is known count (default {@link SCORE_ORIGINS}). */
   scoreOrigins?: number;
+  /** Past origins a state needs before its centre is corrected (default {@link SHIFT_ORIGINS}). */
+  minShiftOrigins?: number;
   /** Also return every scored cell (`cells`), for checks (default false). */
   detail?: boolean;
 }
@@ -96,6 +103,8 @@ export interface BacktestCell {
 export const MIN_SCORES = 30;
 /** Origins whose scores count toward a recalibration: the latest this many with known outcomes. */
 export const SCORE_ORIGINS = 15;
+/** Origins with a known outcome a state needs before its centre is corrected (6 × 5 states = {@link MIN_SCORES}). */
+export const SHIFT_ORIGINS = 6;
 
 /** The inner band's percentiles (a 50% band). */
 export const INNER_BAND: [number, number] = [25, 75];
@@ -123,7 +132,7 @@ export interface BacktestRow {
   modelCoverage: number;
   modelInnerCoverage: number;
   modelIntervalScore: IntervalScores;
-  /** Origins at this horizon whose bands were recalibrated (the rest had too few past scores and kept the model's). */
+  /** Origins at this horizon whose bands were recalibrated (moved or scaled; the rest had too few past scores and kept the model's). */
   recalibrated: number;
 }
 
@@ -132,7 +141,13 @@ export interface Recalibration {
   /** Past (origin, state) scores needed, and origins whose scores count (the latest with known outcomes). */
   minScores: number;
   scoreOrigins: number;
-  horizons: { horizon: number; scores: number; inner: number | null; outer: number | null }[];
+  /** Origins (per state) needed before a state's centre is corrected. */
+  minShiftOrigins: number;
+  /**
+   * Per horizon: the records counted, the factors [lower, upper] of each band's sides (null with too few
+   * records) and each state's centre correction in units of its outer band's half-width (null when none).
+   */
+  horizons: { horizon: number; scores: number; inner: [number, number] | null; outer: [number, number] | null; shift: number[] | null }[];
 }
 
 export interface Backtest {
@@ -165,7 +180,8 @@ export interface Backtest {
  * @example backtest(tables, { horizon: 2 }).rows // [{ horizon: 1, mae, coverage, innerCoverage, intervalScore, … }, { horizon: 2, … }]
  */
 export function backtest(tables: WaistTables, options: BacktestOptions = {}): Backtest {
-  const { horizon = 8, minFit = 4, window, samples = 100, seed = 1, band = [10, 90], season, calibrate = true, minScores = MIN_SCORES, scoreOrigins = SCORE_ORIGINS } = options;
+  const { horizon = 8, minFit = 4, window, samples = 100, seed = 1, band = [10, 90], season, calibrate = true, minScores = MIN_SCORES, scoreOrigins = SCORE_ORIGINS, minShiftOrigins = SHIFT_ORIGINS } = options;
+  assertInteger(minShiftOrigins, 'minShiftOrigins', 1);
   assertInteger(horizon, 'horizon', 1, 1000);
   assertInteger(minFit, 'minFit', 1);
   assertInteger(samples, 'samples', 1, 100000);
@@ -237,15 +253,21 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
       acc.n += 1;
       const target = targets.get(p + h) ?? { cells: 0, outside: 0 };
       targets.set(p + h, target);
-      // the factors from the scores of earlier origins whose outcome at this horizon was known at p
-      const f = calibrate ? widthFactors(scores[h - 1], p, originNo, minScores, scoreOrigins, levelInner, levelOuter) : null;
-      if (f) acc.recal += 1;
+      // the centre's correction and the sides' factors from the cells of earlier origins whose outcome at
+      // this horizon was known at p (the latest scoreOrigins of them)
+      const used = calibrate ? usedRecords(scores[h - 1], p, originNo, scoreOrigins) : [];
+      const f = calibrate ? widthFactors(used, minScores, levelInner, levelOuter) : null;
+      let moved = false;
       states.forEach((_, s) => {
         const a = actual[s];
         const [mil, miu, mol, mou, med] = q[s].map((row) => row[h]);
         const alt = innerAlt(med, mol, mou, sideRatio);
-        scores[h - 1].push({ origin: originNo, known: p + h, inner: bandScore(a, med, mil, miu, alt), outer: bandScore(a, med, mol, mou) });
-        const [il, iu, ol, ou] = f ? recalibratedBands(med, [mil, miu, mol, mou], f.inner, f.outer, sideRatio) : [mil, miu, mol, mou];
+        const shift = calibrate ? centreShift(used, s, minShiftOrigins) * (mou - mol) / 2 : 0;
+        const m = med + shift;
+        scores[h - 1].push({ origin: originNo, known: p + h, state: s, error: signedError(a, med, mol, mou), inner: sideScores(a, m, mil + shift, miu + shift, alt), outer: sideScores(a, m, mol + shift, mou + shift) });
+        const ONE: SideFactors = [1, 1];
+        const [il, iu, ol, ou] = f || shift !== 0 ? recalibratedBands(med, [mil, miu, mol, mou], f?.inner ?? ONE, f?.outer ?? ONE, sideRatio, shift) : [mil, miu, mol, mou];
+        if (f || shift !== 0) moved = true;
         if (options.detail) cells.push({ origin: originNo, period: p, horizon: h, state: s, actual: a, median: med, model: [mil, miu, mol, mou], band: [il, iu, ol, ou] });
         acc.cells += 1;
         acc.mae += Math.abs(point.shares[h][s] - a);
@@ -274,6 +296,7 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
           acc.isSeason[1] += intervalScore(f - zOuter * ws, f + zOuter * ws, a, alphaOuter);
         }
       });
+      if (moved) acc.recal += 1;
     }
   }
   if (origins.length === 0) {
@@ -312,9 +335,12 @@ export function backtest(tables: WaistTables, options: BacktestOptions = {}): Ba
       ? {
           minScores,
           scoreOrigins,
+          minShiftOrigins,
           horizons: scores.map((sc, i) => {
-            const f = widthFactors(sc, Infinity, origins.length, minScores, scoreOrigins, levelInner, levelOuter);
-            return { horizon: i + 1, scores: f?.scores ?? sc.length, inner: f?.inner ?? null, outer: f?.outer ?? null };
+            const used = usedRecords(sc, Infinity, origins.length, scoreOrigins);
+            const f = widthFactors(used, minScores, levelInner, levelOuter);
+            const shift = states.map((_, st) => centreShift(used, st, minShiftOrigins));
+            return { horizon: i + 1, scores: f?.scores ?? used.length, inner: f?.inner ?? null, outer: f?.outer ?? null, shift: shift.some((x) => x !== 0) ? shift : null };
           }),
         }
       : null,

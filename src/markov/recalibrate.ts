@@ -1,12 +1,19 @@
 /**
- * Recalibrating the projection bands' widths from past errors (split conformal prediction with a
- * normalised score; Vovk, Gammerman & Shafer 2005, *Algorithmic Learning in a Random World*, ch. 2;
- * Shafer & Vovk 2008, "A tutorial on conformal prediction", JMLR 9:371–421). A band [l, u] around the
- * paths' median m is scored against the outcome x by the distance of x from m in units of the band's side
- * on x's side; a band with both sides scaled by c holds x exactly when the score is at most c, so the
- * quantile of past scores at the band's level is the factor that would have made past bands hold that
- * share. Used by the backtest (each origin from the scores of earlier ones) and by the projection at the
- * last period (`simulate.ts`, from the backtest's latest scores).
+ * Recalibrating the projection bands from past errors, in two steps, both from earlier origins only:
+ * 1. an intercept correction of the centre (Clements & Hendry 1998, *Forecasting Economic Time Series*,
+ *    ch. 8; Clements & Hendry 1996, "Intercept corrections and structural change", Journal of Applied
+ *    Econometrics 11:475–494): each state's band is moved by the median of its recent signed errors, in
+ *    units of its outer band's half-width, so a bias that persists (a steady trend the model does not
+ *    have) is followed;
+ * 2. split conformal prediction with a normalised score (Vovk, Gammerman & Shafer 2005, *Algorithmic
+ *    Learning in a Random World*, ch. 2; Shafer & Vovk 2008, "A tutorial on conformal prediction", JMLR
+ *    9:371–421) in its asymmetric form (Romano, Patterson & Candès 2019, "Conformalized quantile
+ *    regression", NeurIPS, §3 and Theorem 2): each side of the moved band is scored by the signed distance
+ *    of the outcome x beyond the moved median m in units of that side, (m − x)/(m − l) below and
+ *    (x − m)/(u − m) above, and scaled by the empirical quantile of its own past scores at level
+ *    (1 + level)/2, so each side misses at most (1 − level)/2 of the time and the band at most 1 − level.
+ * Used by the backtest (each origin from the scores of earlier ones) and by the projection at the last
+ * period (`simulate.ts`, from the backtest's latest scores).
  */
 
 /** The largest factor a band's sides are scaled by (a model 10 times too narrow). */
@@ -29,9 +36,9 @@ export function bandSides(m: number, l: number, u: number, alt?: readonly [numbe
 }
 
 /**
- * The score of outcome x against a band [l, u] around its median m: (x − m)/(u − m) above m,
+ * The (unsigned) score of outcome x against a band [l, u] around its median m: (x − m)/(u − m) above m,
  * (m − x)/(m − l) below, with the sides of {@link bandSides}. An outcome off the median of a band of
- * width 0 scores 10⁶.
+ * width 0 scores 10⁶. (The recalibration uses the signed side scores of {@link sideScores}.)
  *
  * @example bandScore(0.7, 0.3, 0.2, 0.5) // 2
  */
@@ -43,10 +50,48 @@ export function bandScore(x: number, m: number, l: number, u: number, alt?: read
   return w > EPS ? Math.abs(d) / w : 1e6;
 }
 
-/** The band [l, u] around m with each side ({@link bandSides}) scaled by c. */
-export function widen(m: number, l: number, u: number, c: number, alt?: readonly [number, number]): [number, number] {
+/**
+ * The signed scores [below, above] of outcome x against a band [l, u] around m, with the sides of
+ * {@link bandSides}: (m − x)/(m − l) and (x − m)/(u − m). The lower side scaled by c₁ holds x exactly
+ * when the first is at most c₁; the upper side scaled by c₂ when the second is at most c₂. A side of
+ * width 0 scores ±10⁶ (10⁶ when x is beyond m on that side, −10⁶ otherwise; 0 when x = m).
+ *
+ * @example sideScores(0.4, 0.3, 0.2, 0.5) // [-1, 0.5]
+ */
+export function sideScores(x: number, m: number, l: number, u: number, alt?: readonly [number, number]): [number, number] {
+  const d = x - m;
+  if (Math.abs(d) <= EPS) return [0, 0];
   const [lo, hi] = bandSides(m, l, u, alt);
-  return [m - c * lo, m + c * hi];
+  return [lo > EPS ? -d / lo : d < 0 ? 1e6 : -1e6, hi > EPS ? d / hi : d > 0 ? 1e6 : -1e6];
+}
+
+/**
+ * A cell's signed error in units of its outer band's half-width, (x − m)/((u − l)/2); 0 for a band of
+ * width 0 (nothing to scale by).
+ *
+ * @example signedError(0.4, 0.3, 0.2, 0.6) // 0.5
+ */
+export function signedError(x: number, m: number, l: number, u: number): number {
+  const w = (u - l) / 2;
+  return w > EPS ? (x - m) / w : 0;
+}
+
+/** Factors for a band's sides: [lower, upper]. */
+export type SideFactors = readonly [number, number];
+
+/**
+ * The band [l, u] around m with its lower side ({@link bandSides}) scaled by c[0] and its upper side by
+ * c[1], all moved by `shift`. A factor below 0 (the outcomes kept to one side of the median) puts that
+ * bound past the median; should the bounds cross, both are their midpoint.
+ *
+ * @example widen(0.3, 0.2, 0.5, [2, 0.5]) // [0.1, 0.4]
+ */
+export function widen(m: number, l: number, u: number, c: number | SideFactors, alt?: readonly [number, number], shift = 0): [number, number] {
+  const [lo, hi] = bandSides(m, l, u, alt);
+  const [c0, c1] = typeof c === 'number' ? [c, c] : c;
+  let a = m + shift - c0 * lo, b = m + shift + c1 * hi;
+  if (a > b) a = b = (a + b) / 2;
+  return [a, b];
 }
 
 /** The inner band's fallback sides when both of its own are 0: the outer band's, times `ratio`. */
@@ -56,42 +101,69 @@ export function innerAlt(m: number, ol: number, ou: number, ratio: number): [num
 
 /**
  * Both bands recalibrated: [inner lo, inner hi, outer lo, outer hi] of the model around the median m,
- * each band's sides scaled by its factor ({@link widen}; the inner band's fallback sides from the outer's
- * times `ratio`), the inner band kept inside the outer one.
+ * moved by `shift` (the intercept correction, in the quantity's units), each band's sides scaled by its
+ * factors ({@link widen}; the inner band's fallback sides from the outer's times `ratio`), the inner band
+ * kept inside the outer one.
  *
- * @example recalibratedBands(0.3, [0.25, 0.35, 0.2, 0.4], 1, 1.5, 0.53) // [0.25, 0.35, 0.15, 0.45]
+ * @example recalibratedBands(0.3, [0.25, 0.35, 0.2, 0.4], [1, 1], [1.5, 1.5], 0.53) // [0.25, 0.35, 0.15, 0.45]
  */
-export function recalibratedBands(m: number, model: readonly [number, number, number, number], inner: number, outer: number, ratio: number): [number, number, number, number] {
-  const [il, iu] = widen(m, model[0], model[1], inner, innerAlt(m, model[2], model[3], ratio));
-  const [ol, ou] = widen(m, model[2], model[3], outer);
-  return [Math.max(il, ol), Math.min(iu, ou), ol, ou];
-}
-
-/** One past score: the origin's number, the period its outcome was known, and the inner and outer bands' scores. */
-export interface BandScoreRecord {
-  origin: number;
-  known: number;
-  inner: number;
-  outer: number;
+export function recalibratedBands(m: number, model: readonly [number, number, number, number], inner: number | SideFactors, outer: number | SideFactors, ratio: number, shift = 0): [number, number, number, number] {
+  const [il, iu] = widen(m, model[0], model[1], inner, innerAlt(m, model[2], model[3], ratio), shift);
+  const [ol, ou] = widen(m, model[2], model[3], outer, undefined, shift);
+  const a = Math.min(Math.max(il, ol), ou), b = Math.max(Math.min(iu, ou), ol);
+  return a <= b ? [a, b, ol, ou] : [(a + b) / 2, (a + b) / 2, ol, ou];
 }
 
 /**
- * The factors by which the band sides are scaled at an origin at period p: from the scores of earlier
- * origins (number < `before`) whose outcome was known at p, of the latest `keep` such origins, the
- * ⌈(n + 1)·level⌉-th smallest of the n scores (the largest when that exceeds n) for each band's level,
- * at most {@link MAX_FACTOR}. Null when fewer than `min` scores.
- *
- * @example widthFactors(scores, 30, 26, 30, 15, 0.5, 0.8) // { inner: 0.92, outer: 1.1, scores: 75 }
+ * One past cell: the origin's number, the period its outcome was known, its state, its signed error
+ * against the model's band ({@link signedError}), and the signed side scores ({@link sideScores}) of the
+ * inner and outer bands as moved by that origin's own intercept correction.
  */
-export function widthFactors(sc: readonly BandScoreRecord[], p: number, before: number, min: number, keep: number, levelInner: number, levelOuter: number): { inner: number; outer: number; scores: number } | null {
+export interface BandScoreRecord {
+  origin: number;
+  known: number;
+  state: number;
+  error: number;
+  inner: SideFactors;
+  outer: SideFactors;
+}
+
+/** The records that count at an origin at period p: of earlier origins (number < `before`) whose outcome was known at p, the latest `keep` such origins. */
+export function usedRecords(sc: readonly BandScoreRecord[], p: number, before: number, keep: number): BandScoreRecord[] {
   const known = sc.filter((x) => x.origin < before && x.known <= p);
-  if (known.length === 0) return null;
   const last = known.reduce((a, x) => Math.max(a, x.origin), -1);
-  const used = known.filter((x) => x.origin > last - keep);
-  if (used.length < min) return null;
+  return known.filter((x) => x.origin > last - keep);
+}
+
+/**
+ * The intercept correction of state s at an origin: the median of the signed errors of state s among
+ * `used` ({@link usedRecords}), in units of the outer band's half-width; 0 with fewer than `min` of them.
+ *
+ * @example centreShift([{ state: 0, error: -1 }, { state: 0, error: -0.5 }, { state: 0, error: 2 }] as BandScoreRecord[], 0, 3) // -0.5
+ */
+export function centreShift(used: readonly BandScoreRecord[], s: number, min: number): number {
+  const e = used.filter((x) => x.state === s).map((x) => x.error).sort((a, b) => a - b);
+  const n = e.length;
+  if (n === 0 || n < min) return 0;
+  return n % 2 ? e[(n - 1) / 2] : (e[n / 2 - 1] + e[n / 2]) / 2;
+}
+
+/**
+ * The factors by which the (moved) bands' sides are scaled at an origin, from `used`
+ * ({@link usedRecords}): for each band and side, the ⌈(n + 1)·(1 + level)/2⌉-th smallest of the n signed
+ * side scores (the largest when that exceeds n), at most {@link MAX_FACTOR}. Null when fewer than `min`
+ * records.
+ *
+ * @example // four records whose outer lower-side scores are 0.5, 1, 2, 3: level 0.8 takes the ⌈5·0.9⌉ = 5th
+ * // smallest, more than 4, so the largest: outer[0] = 3; at level 0.5 the ⌈5·0.75⌉ = 4th, also 3
+ * widthFactors(used, 1, 0.5, 0.8).outer[0] // 3
+ */
+export function widthFactors(used: readonly BandScoreRecord[], min: number, levelInner: number, levelOuter: number): { inner: [number, number]; outer: [number, number]; scores: number } | null {
+  if (used.length === 0 || used.length < min) return null;
   const q = (v: number[], level: number) => {
     v.sort((a, b) => a - b);
-    return Math.min(MAX_FACTOR, v[Math.min(v.length, Math.ceil((v.length + 1) * level)) - 1]);
+    return Math.min(MAX_FACTOR, v[Math.min(v.length, Math.ceil((v.length + 1) * (1 + level) / 2)) - 1]);
   };
-  return { inner: q(used.map((x) => x.inner), levelInner), outer: q(used.map((x) => x.outer), levelOuter), scores: used.length };
+  const side = (band: 'inner' | 'outer', k: 0 | 1, level: number) => q(used.map((x) => x[band][k]), level);
+  return { inner: [side('inner', 0, levelInner), side('inner', 1, levelInner)], outer: [side('outer', 0, levelOuter), side('outer', 1, levelOuter)], scores: used.length };
 }

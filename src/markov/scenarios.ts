@@ -88,7 +88,7 @@ export function namedScenarios(named: readonly NamedEdits[], states: readonly st
   const sum = (v: number[], idx: readonly number[]) => idx.reduce((a, i) => a + v[i], 0);
   return named.map((n, k) => {
     const which = k + 1;
-    const pct = (of: (c: Float64Array, b: number) => number, minus?: number, upper?: number) => (sim ? pathPercentiles(sim, levels, of, which, minus, upper) : undefined);
+    const pct = (of: (c: Float64Array, b: number) => number, minus?: number, upper?: number, state?: number) => (sim ? pathPercentiles(sim, levels, of, which, minus, upper, state) : undefined);
     const qTotal = pct(total), qActive = activeIdx.length ? pct(active) : undefined;
     const dTotal = pct(total, 0), dActive = activeIdx.length ? pct(active, 0) : undefined;
     const steps = n.point.counts.map((c, t) => ({
@@ -102,7 +102,7 @@ export function namedScenarios(named: readonly NamedEdits[], states: readonly st
       },
     }));
     const perState = (of: (s: number) => (c: Float64Array, b: number) => number, value: (s: number) => number, minus?: number, upper?: number): Record<string, Banded> =>
-      Object.fromEntries(states.map((st, s) => [st, banded(value(s), pct(of(s), minus, upper), H)]));
+      Object.fromEntries(states.map((st, s) => [st, banded(value(s), pct(of(s), minus, upper ?? Infinity, s), H)]));
     const count = (s: number) => (c: Float64Array, b: number) => c[b + s];
     const share = (s: number) => (c: Float64Array, b: number) => { const t = total(c, b); return t > 0 ? c[b + s] / t : 0; };
     return {

@@ -20,7 +20,7 @@ import { mulberry32, normal, type Rng } from '../numerics/random.js';
 import { gamma } from '../numerics/gamma.js';
 import { quantileSorted } from '../numerics/quantile.js';
 import type { InflowEstimate } from './inflow.js';
-import { recalibratedBands } from './recalibrate.js';
+import { recalibratedBands, type SideFactors } from './recalibrate.js';
 import { MAX_VARIATION, type RowVariation } from './variation.js';
 
 /** Pseudo-count added to each observed move when a row's level is drawn (Jeffreys). */
@@ -57,15 +57,19 @@ export interface Simulation {
 }
 
 /**
- * Recalibrated band widths (the backtest's `widthFactors`): the sides of the `inner` and `outer` bands of
- * a step, around its median, are scaled by that step's factors (`recalibrate.ts`; a side of width 0 takes
- * the other's). Differences between scenarios keep the model's widths.
+ * Recalibrated bands (the backtest's `centreShift` and `widthFactors`): the `inner` and `outer` bands of
+ * a step are moved by the state's centre correction (a quantity of one state only) and the lower and
+ * upper sides around the median scaled by that step's factors (`recalibrate.ts`; a side of width 0 takes
+ * the other's). Differences between scenarios keep the model's bands.
  */
 export interface BandRecalibration {
   inner: readonly [number, number];
   outer: readonly [number, number];
-  /** factors[t]: step t's factors (1 where none was measured; the last for steps beyond). */
-  factors: readonly { inner: number; outer: number }[];
+  /**
+   * factors[t]: step t's factors [lower, upper] per band ([1, 1] where none was measured; the last for
+   * steps beyond) and each state's centre correction in units of its outer band's half-width.
+   */
+  factors: readonly { inner: SideFactors; outer: SideFactors; shift?: readonly number[] }[];
   /** The inner band's side over the outer's for a normal, for an inner band of width 0 (`innerAlt`). */
   sideRatio: number;
 }
@@ -222,9 +226,11 @@ function streamSeed(seed: number, k: number, stream: number): number {
 /**
  * Percentiles across paths of a quantity of each path at each step (Hyndman & Fan definition 7):
  * out[q][t] for `levels` in [0, 100]. With `sim.recalibration`, the bands' percentiles are moved from
- * the step's median by their factors (not for a difference, `minus`), kept within [0, `upper`].
+ * the step's median by their factors (not for a difference, `minus`), and, for a quantity of one
+ * `state`, the band by that state's centre correction times the model's outer half-width; kept within
+ * [0, `upper`].
  */
-export function pathPercentiles(sim: Simulation, levels: readonly number[], of: (counts: Float64Array, base: number) => number, which = 0, minus?: number, upper = Infinity): number[][] {
+export function pathPercentiles(sim: Simulation, levels: readonly number[], of: (counts: Float64Array, base: number) => number, which = 0, minus?: number, upper = Infinity, state?: number): number[][] {
   const { samples, horizon, states } = sim;
   const stride = (horizon + 1) * states;
   const sorted = new Float64Array(samples);
@@ -242,7 +248,9 @@ export function pathPercentiles(sim: Simulation, levels: readonly number[], of: 
       // the bands recalibrated as the backtest does (recalibrate.ts): each side scaled by its factor
       const at = (l: number) => quantileSorted(sorted, l / 100);
       const med = at(50);
-      const [il, iu, ol, ou] = recalibratedBands(med, [at(r.inner[0]), at(r.inner[1]), at(r.outer[0]), at(r.outer[1])], f.inner, f.outer, r.sideRatio);
+      const model: [number, number, number, number] = [at(r.inner[0]), at(r.inner[1]), at(r.outer[0]), at(r.outer[1])];
+      const shift = state === undefined ? 0 : (f.shift?.[state] ?? 0) * (model[3] - model[2]) / 2;
+      const [il, iu, ol, ou] = recalibratedBands(med, model, f.inner, f.outer, r.sideRatio, shift);
       // a widened band stays within what the quantity can be: counts and shares are never below 0, a
       // share never above 1 (`upper`)
       const clamp = (v: number) => Math.min(upper, Math.max(0, v));

@@ -34,7 +34,7 @@ export interface ProjectionStep {
 export function stepsWithBands(states: readonly string[], point: { counts: number[][]; shares: number[][]; totals: number[] }, sim: Simulation | undefined, which: number, band: Pair, activeIdx: readonly number[], labels?: readonly (string | undefined)[]): ProjectionStep[] {
   const S = states.length;
   const levels = [band[0], band[1], INNER_BAND[0], INNER_BAND[1]];
-  const q = sim ? states.map((_, s) => ({ counts: pathPercentiles(sim, levels, (c, b) => c[b + s], which), shares: pathPercentiles(sim, levels, (c, b) => share(c, b, S, s), which, undefined, 1) })) : undefined;
+  const q = sim ? states.map((_, s) => ({ counts: pathPercentiles(sim, levels, (c, b) => c[b + s], which, undefined, Infinity, s), shares: pathPercentiles(sim, levels, (c, b) => share(c, b, S, s), which, undefined, 1, s) })) : undefined;
   const act = sim && activeIdx.length ? pathPercentiles(sim, levels, (c, b) => activeIdx.reduce((a, i) => a + c[b + i], 0), which) : undefined;
   return point.counts.map((c, t) => ({
     step: t,

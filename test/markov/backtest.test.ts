@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { backtest, bandScore, intervalScore, widen, widthFactors, type BacktestCell } from '../../src/markov/backtest.js';
-import { recalibratedBands } from '../../src/markov/recalibrate.js';
+import { centreShift, recalibratedBands, sideScores, signedError, usedRecords, type BandScoreRecord } from '../../src/markov/recalibrate.js';
 import { simulatedChain } from './chains.js';
 import { MAKERSPACE_P, exactTables, expectClose, expectRefusal } from './helpers.js';
 
@@ -184,71 +184,118 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
     expectClose(recalibratedBands(0.3, [0.3, 0.3, 0.2, 0.4], 1, 1, 0.5), [0.25, 0.35, 0.2, 0.4], 1e-12);
   });
 
-  it('widthFactors takes the ⌈(n + 1)·level⌉-th smallest score of the latest origins known at the origin (hand values)', () => {
+  it('sideScores, signedError and the asymmetric band: each side by its own factor, the band moved (hand values)', () => {
+    // band [0.2, 0.5] around 0.3: lower side 0.1, upper side 0.2; x = 0.4 is 1 lower side above m (−1) and half an upper side (0.5)
+    expectClose(sideScores(0.4, 0.3, 0.2, 0.5), [-1, 0.5], 1e-12);
+    expectClose(sideScores(0.25, 0.3, 0.2, 0.5), [0.5, -0.25], 1e-12);
+    expect(sideScores(0.3, 0.3, 0.2, 0.5)).toEqual([0, 0]);
+    // outer band [0.2, 0.6]: half-width 0.2, x 0.1 above the median → 0.5
+    expectClose(signedError(0.4, 0.3, 0.2, 0.6), 0.5, 1e-12);
+    expect(signedError(0.4, 0.3, 0.3, 0.3)).toBe(0);
+    // lower side ×2, upper ×0.5: [0.3 − 0.2, 0.3 + 0.1]; moved by 0.05
+    expectClose(widen(0.3, 0.2, 0.5, [2, 0.5]), [0.1, 0.4], 1e-12);
+    expectClose(widen(0.3, 0.2, 0.5, [2, 0.5], undefined, 0.05), [0.15, 0.45], 1e-12);
+    // a negative factor puts the bound past the median; crossing bounds meet at their midpoint
+    expectClose(widen(0.3, 0.2, 0.5, [-1, 1]), [0.4, 0.5], 1e-12);
+    expectClose(widen(0.3, 0.2, 0.5, [-2, -0.5]), [0.35, 0.35], 1e-12);
+    // both bands moved by 0.1, sides scaled: outer [0.3 + 0.1 − 1.5·0.1, 0.3 + 0.1 + 2·0.1]
+    expectClose(recalibratedBands(0.3, [0.25, 0.35, 0.2, 0.4], [1, 1], [1.5, 2], 0.53, 0.1), [0.35, 0.45, 0.25, 0.6], 1e-12);
+  });
+
+  it('widthFactors takes the ⌈(n + 1)·(1 + level)/2⌉-th smallest signed score of each side; centreShift the median error of the state (hand values)', () => {
     // The finite-sample quantile of split conformal prediction (common practice; e.g. Lei, G'Sell,
-    // Rinaldo, Tibshirani & Wasserman 2018, JASA 113, §2.2, from memory). 8 origins × 5 cells, scores
-    // 1…40 in order; origin o's outcome known at period 10 + o.
-    // 8 origins × 5 cells, scores 0.1…4.0 in order (outer: the reverse); origin o's outcome known at period 10 + o
-    const sc = Array.from({ length: 40 }, (_, i) => ({ origin: Math.floor(i / 5), known: 10 + Math.floor(i / 5), inner: (i + 1) / 10, outer: (41 - (i + 1)) / 10 }));
-    const close = (r: ReturnType<typeof widthFactors>, inner: number, outer: number, scores: number) => {
-      expect(r!.scores).toBe(scores);
-      expectClose([r!.inner, r!.outer], [inner, outer], 1e-12);
-    };
-    // all 40 known: level 0.8 → ⌈41·0.8⌉ = 33rd smallest; level 0.5 → ⌈20.5⌉ = 21st
-    close(widthFactors(sc, 100, 8, 30, 100, 0.5, 0.8), 2.1, 3.3, 40);
-    // at period 15 only origins 0…5 are known (30 scores 0.1…3.0): ⌈15.5⌉ = 16th, ⌈24.8⌉ = 25th smallest of 1.1…4.0 → 3.5
-    close(widthFactors(sc, 15, 8, 30, 100, 0.5, 0.8), 1.6, 3.5, 30);
-    // fewer than 30 scores: none
-    expect(widthFactors(sc, 14, 8, 30, 100, 0.5, 0.8)).toBeNull();
-    // only origins before 7 count; the latest 2 of them (5, 6): scores 2.6…3.5, n = 10 → ⌈5.5⌉ = 6th → 3.1, ⌈8.8⌉ = 9th of 0.6…1.5 → 1.4
-    close(widthFactors(sc, 100, 7, 10, 2, 0.5, 0.8), 3.1, 1.4, 10);
-    // ⌈(n + 1)·level⌉ > n: the largest
-    close(widthFactors(sc.slice(0, 5), 100, 8, 1, 100, 0.9, 0.9), 0.5, 4, 5);
-    // factors are capped at 10 (a model 10 times too narrow)
-    close(widthFactors(sc.map((x) => ({ ...x, inner: x.inner * 10, outer: x.outer * 10 })), 100, 8, 30, 100, 0.5, 0.8), 10, 10, 40);
+    // Rinaldo, Tibshirani & Wasserman 2018, JASA 113, §2.2, from memory), each side at (1 + level)/2 as
+    // in the asymmetric variant of Romano, Patterson & Candès 2019 (NeurIPS), Theorem 2.
+    // 8 origins × 5 cells; lower-side scores 0.1…4.0 in order, upper-side the reverse; origin o known at period 10 + o.
+    const sc: BandScoreRecord[] = Array.from({ length: 40 }, (_, i) => ({ origin: Math.floor(i / 5), known: 10 + Math.floor(i / 5), state: i % 5, error: (i % 5) - 2 + Math.floor(i / 5) / 10, inner: [(i + 1) / 10, (40 - i) / 10], outer: [(i + 1) / 20, (40 - i) / 20] }));
+    const all = usedRecords(sc, 100, 8, 100);
+    expect(all).toHaveLength(40);
+    const f = widthFactors(all, 30, 0.5, 0.8)!;
+    // inner: level 0.75 → ⌈41·0.75⌉ = 31st smallest of 0.1…4.0 = 3.1 (both sides); outer: level 0.9 → ⌈36.9⌉ = 37th of 0.05…2.0 = 1.85
+    expect(f.scores).toBe(40);
+    expectClose([...f.inner, ...f.outer], [3.1, 3.1, 1.85, 1.85], 1e-12);
+    // at period 15 only origins 0…5 are known (30 records): ⌈31·0.75⌉ = 24th, ⌈31·0.9⌉ = 28th smallest
+    const at15 = usedRecords(sc, 15, 8, 100);
+    expect(at15).toHaveLength(30);
+    const g = widthFactors(at15, 30, 0.5, 0.8)!;
+    // lower sides 0.1…3.0 and 0.05…1.5, upper sides 1.1…4.0 and 0.55…2.0
+    expectClose([...g.inner, ...g.outer], [2.4, 3.4, 1.4, 1.9], 1e-12);
+    // fewer than 30: none
+    expect(widthFactors(usedRecords(sc, 14, 8, 100), 30, 0.5, 0.8)).toBeNull();
+    // only origins before 7 count, the latest 2 (5, 6)
+    expect(usedRecords(sc, 100, 7, 2).map((x) => x.origin)).toEqual([5, 5, 5, 5, 5, 6, 6, 6, 6, 6]);
+    // capped at 10
+    expect(widthFactors(all.map((x) => ({ ...x, outer: [x.outer[0] * 100, 1] })), 30, 0.5, 0.8)!.outer[0]).toBe(10);
+    // state 0's errors over origins 0…7: −2, −1.9, …, −1.3 → median (−1.7 − 1.6)/2; state 2: 0 … 0.7 → 0.35
+    expectClose(centreShift(all, 0, 6), -1.65, 1e-12);
+    expectClose(centreShift(all, 2, 6), 0.35, 1e-12);
+    // fewer origins of the state than asked: no correction
+    expect(centreShift(all, 2, 9)).toBe(0);
   });
 
   const chain = () => simulatedChain({ periods: 40, walk: 0.05, noise: 0.05, arrivals: 600, arrivalSd: 60, start: [600, 6000, 900, 2500, 12000], seed: 41 });
+
+  // A plain recomputation of the rule, written out here independently of recalibrate.ts: at an origin,
+  // the cells at the same horizon of the latest 15 earlier origins whose outcome was known; each state's
+  // band moved by the median of that state's errors (actual − median, in outer half-widths) once 6 such
+  // origins exist; the signed side scores of the moved bands; each side scaled by the
+  // ⌈(n + 1)·(1 + level)/2⌉-th smallest of its scores once 30 exist (capped at 10).
+  const ratio = 0.6744897501960817 / 1.2815515655446004; // standard normal quantiles z(0.75)/z(0.9) (tables)
+  const sidesOf = (m: number, l: number, u: number, alt?: [number, number]): [number, number] => {
+    let lo = Math.max(0, m - l), hi = Math.max(0, u - m);
+    if (alt && lo <= 1e-12 && hi <= 1e-12) [lo, hi] = alt;
+    if (lo <= 1e-12) lo = hi;
+    if (hi <= 1e-12) hi = lo;
+    return [lo, hi];
+  };
+  const altOf = (d: BacktestCell): [number, number] => [(d.median - d.model[2]) * ratio, (d.model[3] - d.median) * ratio];
+  const median = (v: number[]) => { const w = [...v].sort((x, y) => x - y); const n = w.length; return n % 2 ? w[(n - 1) / 2] : (w[n / 2 - 1] + w[n / 2]) / 2; };
+  const kth = (v: number[], level: number) => Math.min(10, [...v].sort((x, y) => x - y)[Math.min(v.length, Math.ceil((v.length + 1) * (1 + level) / 2)) - 1]);
+  const errorOf = (d: BacktestCell) => { const w = (d.model[3] - d.model[2]) / 2; return w > 1e-12 ? (d.actual - d.median) / w : 0; };
+  const latest = (cells: BacktestCell[], c: { origin: number; period: number; horizon: number }) => {
+    const known = cells.filter((d) => d.horizon === c.horizon && d.origin < c.origin && d.period + d.horizon <= c.period);
+    const last = Math.max(-1, ...known.map((d) => d.origin));
+    return known.filter((d) => d.origin > last - 15);
+  };
+  const shiftOf = (used: BacktestCell[], state: number) => { const e = used.filter((d) => d.state === state).map(errorOf); return e.length >= 6 ? median(e) : 0; };
+  /** Signed side scores of cell d against its own moved band (the shift from the cells before it). */
+  const memo = new WeakMap<BacktestCell, { inner: number[]; outer: number[] }>();
+  const scoresOf = (cells: BacktestCell[], d: BacktestCell) => memo.get(d) ?? memo.set(d, scoresOfCell(cells, d)).get(d)!;
+  const scoresOfCell = (cells: BacktestCell[], d: BacktestCell) => {
+    const sh = shiftOf(latest(cells, d), d.state) * (d.model[3] - d.model[2]) / 2;
+    const m = d.median + sh, x = d.actual - m;
+    const one = (lo: number, hi: number) => (Math.abs(x) <= 1e-12 ? [0, 0] : [lo > 1e-12 ? -x / lo : x < 0 ? 1e6 : -1e6, hi > 1e-12 ? x / hi : x > 0 ? 1e6 : -1e6]);
+    return { inner: one(...sidesOf(d.median, d.model[0], d.model[1], altOf(d))), outer: one(...sidesOf(d.median, d.model[2], d.model[3])) };
+  };
 
   it('each origin\'s bands equal a plain recomputation from the model bands and outcomes known at that origin', () => {
     const tables = chain();
     const bt = backtest(tables, { horizon: 4, window: 8, samples: 40, seed: 3, detail: true });
     const cells = bt.cells as BacktestCell[];
-    let recalibrated = 0;
+    let scaled = 0, moved = 0;
     for (const c of cells) {
-      // scores of earlier origins, same horizon, outcome at or before this origin's period
-      const known = cells.filter((d) => d.horizon === c.horizon && d.origin < c.origin && d.period + d.horizon <= c.period);
-      const last = Math.max(-1, ...known.map((d) => d.origin));
-      const used = known.filter((d) => d.origin > last - 15);
+      const used = latest(cells, c);
+      const sh = shiftOf(used, c.state) * (c.model[3] - c.model[2]) / 2;
+      if (sh !== 0) moved++;
+      const m = c.median + sh;
+      const [il, iu] = sidesOf(c.median, c.model[0], c.model[1], altOf(c)), [ol, ou] = sidesOf(c.median, c.model[2], c.model[3]);
       if (used.length < 30) {
-        expect(c.band).toEqual(c.model);
+        expectClose(c.band, c.model.map((v) => v + sh), 1e-12);
         continue;
       }
-      recalibrated++;
-      // sides: a side of width 0 takes the other's; an inner band of width 0 the outer's times z(0.75)/z(0.9)
-      const ratio = 0.6744897501960817 / 1.2815515655446004; // standard normal quantiles (tables)
-      const sides = (d: BacktestCell, inner: boolean): [number, number] => {
-        const m = d.median;
-        let lo = inner ? m - d.model[0] : m - d.model[2], hi = inner ? d.model[1] - m : d.model[3] - m;
-        if (inner && lo <= 1e-12 && hi <= 1e-12) [lo, hi] = [(m - d.model[2]) * ratio, (d.model[3] - m) * ratio];
-        if (lo <= 1e-12) lo = hi;
-        if (hi <= 1e-12) hi = lo;
-        return [lo, hi];
-      };
-      const score = (d: BacktestCell, inner: boolean) => {
-        const [lo, hi] = sides(d, inner);
-        const w = d.actual > d.median ? hi : lo;
-        return Math.abs(d.actual - d.median) <= 1e-12 ? 0 : w > 1e-12 ? Math.abs(d.actual - d.median) / w : 1e6;
-      };
-      const kth = (v: number[], level: number) => Math.min(10, v.sort((a, b) => a - b)[Math.min(v.length, Math.ceil((v.length + 1) * level)) - 1]);
-      const fi = kth(used.map((d) => score(d, true)), 0.5);
-      const fo = kth(used.map((d) => score(d, false)), 0.8);
-      const m = c.median, [il, iu] = sides(c, true), [ol, ou] = sides(c, false);
+      scaled++;
+      const sc = used.map((d) => scoresOf(cells, d));
+      const fi = [kth(sc.map((x) => x.inner[0]), 0.5), kth(sc.map((x) => x.inner[1]), 0.5)];
+      const fo = [kth(sc.map((x) => x.outer[0]), 0.8), kth(sc.map((x) => x.outer[1]), 0.8)];
+      let lo = m - fo[0] * ol, hi = m + fo[1] * ou;
+      if (lo > hi) lo = hi = (lo + hi) / 2;
       // the inner band kept inside the outer one
-      expectClose(c.band, [Math.max(m - fi * il, m - fo * ol), Math.min(m + fi * iu, m + fo * ou), m - fo * ol, m + fo * ou], 1e-12);
+      const a = Math.min(Math.max(m - fi[0] * il, lo), hi), b = Math.max(Math.min(m + fi[1] * iu, hi), lo);
+      expectClose(c.band, a <= b ? [a, b, lo, hi] : [(a + b) / 2, (a + b) / 2, lo, hi], 1e-12);
     }
-    expect(recalibrated).toBeGreaterThan(cells.length / 3);
-    expect(bt.rows.reduce((a, r) => a + r.recalibrated, 0)).toBe(new Set(cells.filter((c, i) => cells.findIndex((d) => d.origin === c.origin && d.horizon === c.horizon) === i && c.band.some((v, k) => v !== c.model[k])).map((c) => `${c.origin}:${c.horizon}`)).size);
+    expect(scaled).toBeGreaterThan(cells.length / 3);
+    expect(moved).toBeGreaterThan(cells.length / 3);
+    expect(bt.rows.reduce((a, r) => a + r.recalibrated, 0)).toBe(new Set(cells.filter((c, i) => cells.findIndex((d) => d.origin === c.origin && d.horizon === c.horizon) === i && cells.some((d) => d.origin === c.origin && d.horizon === c.horizon && d.band.some((v, k) => v !== d.model[k]))).map((c) => `${c.origin}:${c.horizon}`)).size);
   });
 
   it('no look-ahead: changing every period after T leaves the bands of every origin up to T as they were', () => {
@@ -265,22 +312,22 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
     expect(ca.some((c) => c.band.some((v, k) => v !== c.model[k]))).toBe(true);
   });
 
-  it('the projection\'s factors use the latest origins of all scored (the recalibration output)', () => {
+  it('the projection\'s factors and centre corrections use the latest origins of all scored (the recalibration output)', () => {
     const tables = chain();
     const bt = backtest(tables, { horizon: 3, window: 8, samples: 40, seed: 3, detail: true });
     const cells = bt.cells as BacktestCell[];
     const r = bt.recalibration!;
     expect(r.minScores).toBe(30);
     expect(r.scoreOrigins).toBe(15);
+    expect(r.minShiftOrigins).toBe(6);
     for (const x of r.horizons) {
-      const at = cells.filter((c) => c.horizon === x.horizon);
-      const last = Math.max(...at.map((c) => c.origin));
-      const used = at.filter((c) => c.origin > last - 15);
+      const used = latest(cells, { origin: Infinity, period: Infinity, horizon: x.horizon });
       expect(x.scores).toBe(used.length);
-      const alt = (c: BacktestCell): [number, number] => [(c.median - c.model[2]) * 0.6744897501960817 / 1.2815515655446004, (c.model[3] - c.median) * 0.6744897501960817 / 1.2815515655446004];
-      const f = widthFactors(at.map((c) => ({ origin: c.origin, known: c.period + c.horizon, inner: bandScore(c.actual, c.median, c.model[0], c.model[1], alt(c)), outer: bandScore(c.actual, c.median, c.model[2], c.model[3]) })), Infinity, Infinity, 30, 15, 0.5, 0.8)!;
-      expect(x.inner).toBe(f.inner);
-      expect(x.outer).toBe(f.outer);
+      const sc = used.map((d) => scoresOf(cells, d));
+      expectClose(x.inner!, [kth(sc.map((y) => y.inner[0]), 0.5), kth(sc.map((y) => y.inner[1]), 0.5)], 1e-12);
+      expectClose(x.outer!, [kth(sc.map((y) => y.outer[0]), 0.8), kth(sc.map((y) => y.outer[1]), 0.8)], 1e-12);
+      expect(x.shift).not.toBeNull();
+      x.shift!.forEach((v, s) => expectClose(v, shiftOf(used, s), 1e-12));
     }
   });
 });

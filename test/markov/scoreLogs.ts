@@ -71,7 +71,29 @@ export const UNSEEN_2: Record<string, MemberLogSpec> = {
   longcycle: { weeks: 66, arrivals: 250, seed: 9110, cycle: { period: 26, amp: 0.3 }, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
 };
 
-const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, unseen2: UNSEEN_2, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
+/**
+ * A third set of logs not seen while designing, written after the fourth pass's design was committed
+ * (a6a3195) and before anything was scored on them; scored once with that design and once with main's
+ * method. New seeds and new mixes: a steep steady decline and a steep steady rise of activity, four
+ * spikes of newcomers with shocks, a 9-week cycle over a decline, churning members with drift, loyal
+ * members with an upward step at week 28 (a planted break), a tiny declining log, a large log with big
+ * shocks of activity and arrivals, an eight-week dip followed by a spike (a planted break), and growth
+ * whose activity turns from rising to falling.
+ */
+export const UNSEEN_3: Record<string, MemberLogSpec> = {
+  plunge: { weeks: 58, arrivals: 300, seed: 9201, decline: -0.03, shock: 0.05 },
+  climb: { weeks: 56, arrivals: 400, seed: 9202, decline: 0.025, arrivalTrend: -0.005 },
+  spikes4: { weeks: 52, arrivals: 350, seed: 9203, spikes: { 10: 6, 22: 12, 35: 4, 44: 7 }, shock: 0.08 },
+  cyclefade: { weeks: 60, arrivals: 300, seed: 9204, cycle: { period: 9, amp: 0.3 }, decline: -0.01 },
+  churndrift: { weeks: 54, arrivals: 600, seed: 9205, drift: 0.1, base: { newcomer: -1.2, active: 0.6, idle: -1, idleDecay: 0.5 } },
+  loyalstep: { weeks: 56, arrivals: 250, seed: 9206, step: { week: 28, by: 0.4 }, shock: 0.08, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
+  tinyfall: { weeks: 60, arrivals: 40, seed: 9207, spread: 1.5, decline: -0.015 },
+  hugeshock: { weeks: 44, arrivals: 1200, seed: 9208, shock: 0.3, arrivalShock: 0.3 },
+  dipspike: { weeks: 58, arrivals: 320, seed: 9209, dip: { from: 20, to: 28, by: -0.5 }, spikes: { 38: 6 } },
+  growturn: { weeks: 62, arrivals: 200, seed: 9210, growth: 0.05, decline: 0.01, turn: { week: 25, slope: -0.02 } },
+};
+
+const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, unseen2: UNSEEN_2, unseen3: UNSEEN_3, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
 
 export async function tablesOf(name: string, spec: MemberLogSpec | 'demo'): Promise<WaistTables> {
   const dir = join(tmpdir(), 'tidemark-calib');

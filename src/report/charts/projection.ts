@@ -71,7 +71,7 @@ export function projectionChart(p: ProjectOutput, grainWord: string, history?: H
   return {
     id: 'projection',
     title: `State mix: the last ${past.length} ${grainWord}s and ${p.horizon} ${grainWord}s ahead`,
-    subtitle: `Solid: what happened; dashed: the projection. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window, partly together, from where they ended; arrivals vary; binomial noise)${p.uncertainty?.recalibration?.applied ? ', widths recalibrated by the backtest\'s past errors' : ''}`,
+    subtitle: `Solid: what happened; dashed: the projection. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window, partly together, from where they ended; arrivals vary; binomial noise)${p.uncertainty?.recalibration?.applied ? ', recalibrated by the backtest\'s past errors (each state\'s band moved by its recent bias, each side widened or narrowed)' : ''}`,
     reading,
     note: 'The bands hold what the fit window says can happen; the backtest below checks how often they held in the past. A change the past never showed (a launch, a promotion) falls outside them.',
     spec: draw(WIDE),
