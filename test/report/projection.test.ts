@@ -5,6 +5,7 @@ import { filesSource } from '../../src/engines/types.js';
 import { analysisWaist } from '../../src/waist/derive.js';
 import type { Waist } from '../../src/waist/types.js';
 import { buildReport, type ReportModel } from '../../src/report/build.js';
+import { offLineReading } from '../../src/report/charts/projection.js';
 import { loadRulesFile } from '../../src/rules/load.js';
 import { DEFAULT_RULES } from '../../src/cli/common.js';
 import { demoEvents, tempDir } from './fixtures.js';
@@ -58,5 +59,23 @@ describe('report projection charts', () => {
     const bt = model.charts.find((c) => c.id === 'backtest')!;
     expect(bt.table.header).toEqual(['horizon', 'origins', 'mae', 'naive_mae', 'seasonal_mae', 'coverage_50', 'coverage_outer', 'interval_score', 'interval_score_no_change', 'interval_score_seasonal', 'model_coverage_50', 'model_coverage_outer', 'model_interval_score']);
     expect(bt.table.rows).toHaveLength(8);
+  });
+});
+
+describe('offLineReading: states whose dashed line lies outside their moved 50% band', () => {
+  // hand-made end step: fresh's line above its 25th–75th band, dormant's below, engaged's inside
+  const p = { states: ['fresh', 'engaged', 'dormant'] } as unknown as Parameters<typeof offLineReading>[0];
+  const end = (inner: Record<string, [number, number]>) => ({ shares: { fresh: 0.1, engaged: 0.3, dormant: 0.6 }, bands: { inner: { shares: inner } } }) as unknown as Parameters<typeof offLineReading>[1];
+
+  it('names the states above and below, from the shares and the inner band only', () => {
+    const text = offLineReading(p, end({ fresh: [0.05, 0.08], engaged: [0.25, 0.35], dormant: [0.62, 0.7] }));
+    expect(text).toContain('above what happened for fresh (their bands sit below the dashed line)');
+    expect(text).toContain('below what happened for dormant (their bands sit above it)');
+    expect(text).not.toContain('engaged');
+  });
+
+  it('says nothing when every line lies within its band, or when there are no bands', () => {
+    expect(offLineReading(p, end({ fresh: [0.05, 0.1], engaged: [0.25, 0.35], dormant: [0.6, 0.7] }))).toBe('');
+    expect(offLineReading(p, { shares: { fresh: 0.1, engaged: 0.3, dormant: 0.6 } } as unknown as Parameters<typeof offLineReading>[1])).toBe('');
   });
 });

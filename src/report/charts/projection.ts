@@ -68,11 +68,12 @@ export function projectionChart(p: ProjectOutput, grainWord: string, history?: H
   const share = (x: typeof end) => (x.active ?? 0) / (x.total || 1);
   const act = end.bands?.active?.outer;
   const reading = `If the fitted flows hold, ${(share(end) * 100).toFixed(1)}% of users are active ${p.horizon} ${grainWord}s ahead${act ? ` (${Math.round(act[0]).toLocaleString('en-US')}–${Math.round(act[1]).toLocaleString('en-US')} active users in the ${band[1] - band[0]}% band)` : ''}, against ${(share(now) * 100).toFixed(1)}% now; the audience grows from ${Math.round(now.total).toLocaleString('en-US')} to ${Math.round(end.total).toLocaleString('en-US')} users with a state.`;
+  const offLine = p.uncertainty?.recalibration?.applied ? offLineReading(p, end) : '';
   return {
     id: 'projection',
     title: `State mix: the last ${past.length} ${grainWord}s and ${p.horizon} ${grainWord}s ahead`,
-    subtitle: `Solid: what happened; dashed: the projection. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window, partly together, from where they ended; arrivals vary; binomial noise)${p.uncertainty?.recalibration?.applied ? ', recalibrated by the backtest\'s past errors (each state\'s band moved by its recent bias, each side widened or narrowed)' : ''}`,
-    reading,
+    subtitle: `Solid: what happened; dashed: the projection if the fitted flows hold. Bands: 25th–75th and ${band[0]}th–${band[1]}th percentiles of simulated paths (rates drift and vary as in the fit window, partly together, from where they ended; arrivals vary; binomial noise)${p.uncertainty?.recalibration?.applied ? ', recalibrated by the backtest\'s past errors (each state\'s band moved by its recent bias, each side widened or narrowed)' : ''}`,
+    reading: reading + offLine,
     note: 'The bands hold what the fit window says can happen; the backtest below checks how often they held in the past. A change the past never showed (a launch, a promotion) falls outside them.',
     spec: draw(WIDE),
     draw,
@@ -80,6 +81,22 @@ export function projectionChart(p: ProjectOutput, grainWord: string, history?: H
     legend: p.states.map((st, k) => ({ label: st, colour: colours[k] })),
     table: { name: 'projection', header: ['step', 'period', 'state', 'count', 'share', 'share_lower', 'share_upper', 'share_lower50', 'share_upper50'], rows: rows.map((r) => [r.step, dated ? r.x : null, r.state, r.count, r.share, r.lower, r.upper, r.lower50, r.upper50]) },
   };
+}
+
+/**
+ * When recalibration moved the bands by the backtest's recent bias, the states whose dashed line lies
+ * outside their own 25th–75th band at the horizon: the chain has lately run above (or below) what
+ * happened for them, and the bands say where the mix fell around such projections. Empty when none.
+ */
+export function offLineReading(p: ProjectOutput, end: ProjectOutput['projection'][number]): string {
+  const inner = end.bands?.inner.shares;
+  if (!inner) return '';
+  const high = p.states.filter((st) => end.shares[st] > inner[st][1]);
+  const low = p.states.filter((st) => end.shares[st] < inner[st][0]);
+  if (!high.length && !low.length) return '';
+  const list = (xs: string[]) => (xs.length > 1 ? `${xs.slice(0, -1).join(', ')} and ${xs[xs.length - 1]}` : xs[0]);
+  const parts = [high.length ? `above what happened for ${list(high)} (their bands sit below the dashed line)` : '', low.length ? `below what happened for ${list(low)} (their bands sit above it)` : ''].filter(Boolean);
+  return ` In the backtest the chain has lately run ${parts.join(', and ')}: the bands are moved by that recent bias, so read them, not the line alone, as where the mix is likely to be.`;
 }
 
 /** Active users under each named scenario against the baseline, with their outer bands. */
