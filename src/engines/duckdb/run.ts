@@ -10,7 +10,6 @@ import { performance } from 'node:perf_hooks';
 import { createRequire } from 'node:module';
 import type { DuckDBConnection } from '@duckdb/node-api';
 import { TidemarkError, showValue } from '../../errors.js';
-import { readEvents } from '../../ingest/read.js';
 import { optionKey } from '../../periods/range.js';
 import { periodLabel, type PeriodScheme } from '../../periods/calendar.js';
 import type { Rules } from '../../rules/schema.js';
@@ -212,6 +211,8 @@ async function countRejects(c: DuckDBConnection, tables: string[], input: Duckdb
 async function throwFirstBadRow(input: DuckdbInput, rules: Rules, toKey: number | undefined,
   readerRejects: Record<string, number>, accounting: SqlFacts['accounting']): Promise<never> {
   if (!('db' in input) && input.files.every((f) => !f.toLowerCase().endsWith('.gz') && fileFormat(f, input.format) !== 'parquet')) {
+    // the memory engine's reader, loaded only here: a run with no bad row never needs it
+    const { readEvents } = await import('../../ingest/read.js');
     await readEvents(input.files, { rules, format: input.format as 'csv' | 'ndjson' | undefined, skipBadRows: false, toKey, delimiter: input.delimiter });
   }
   const counts: Record<string, number> = { ...readerRejects };
