@@ -102,6 +102,8 @@ export interface Compiled {
    * each query of `split` as a table or view of its key; the other steps read those.
    */
   rowPass: { name: string; select: string; split: Record<string, string> };
+  /** Whether the fast-form pass was compiled (CompileInput.fastTimestamps, where it applies). */
+  fastTimestamps: boolean;
 }
 
 export interface CompileInput {
@@ -109,9 +111,25 @@ export interface CompileInput {
   rules: Rules;
   source: SqlSource;
   range?: SqlRange;
+  /**
+   * Expect every timestamp in the commonest form (`YYYY-MM-DDTHH:MM:SS[.sss]Z`, read natively by the
+   * dialect's `fastUtcMs`): the steps that parse any other form are left out, and a row whose text is
+   * not in that form (a typed timestamp, a number, no text: any other) is rejected with the reason
+   * {@link FULL_PARSE_REASON}. An engine that finds such a row must run the pass again without this
+   * option; rows in the form get exactly what the full steps give them. For a source with text
+   * timestamps and a `pre_reason` column, in a dialect with `fastUtcMs`; ignored otherwise (see
+   * {@link Compiled.fastTimestamps}).
+   */
+  fastTimestamps?: boolean;
 }
 
-export function compile({ dialect: D, rules, source, range = {} }: CompileInput): Compiled {
+/**
+ * The reason of a row the fast-form pass (CompileInput.fastTimestamps) could not read: never part of
+ * a waist, since the engine then runs the full pass.
+ */
+export const FULL_PARSE_REASON = '(timestamp for the full parse)';
+
+export function compile({ dialect: D, rules, source, range = {}, fastTimestamps = false }: CompileInput): Compiled {
   const base = gapModel(rules);
   const outStates = stateNames(rules);
   const outIndex = (b: number) => outStates.indexOf(base.states[b]);
@@ -155,8 +173,10 @@ export function compile({ dialect: D, rules, source, range = {} }: CompileInput)
   // Only typed timestamps (a Parquet or database column): no text to parse, so the steps that parse
   // text are left out and tm_instant reads the typed columns (what those steps give when all is NULL).
   const textual = has.tsText || has.tsNum;
-  const textCte = (n: string, comment: string, sql: string) => void (textual && cte(n, comment, sql));
   const fast = has.tsText && D.fastUtcMs ? D.fastUtcMs('ts_text') : undefined;
+  // the fast-form pass (CompileInput.fastTimestamps): only tm_fast of the text steps, then tm_wall
+  const lean = fastTimestamps && fast !== undefined && has.preReason;
+  const textCte = (n: string, comment: string, sql: string) => void (textual && (!lean || n === 'tm_fast') && cte(n, comment, sql));
   textCte('tm_fast', 'the commonest form, read natively where the dialect can (the memory engine has the same fast path)',
     `SELECT ${cols()}, ${has.tsText ? 'ts_text' : `CAST(NULL AS ${D.text}) AS ts_text`}, ${has.tsNum ? 'ts_num' : `CAST(NULL AS ${D.double}) AS ts_num`},
   ${has.tsInstant ? 'ts_instant' : `CAST(NULL AS ${D.bigint}) AS ts_instant`}, ${has.tsLocal ? 'ts_local' : `CAST(NULL AS ${D.bigint}) AS ts_local`},
@@ -231,7 +251,14 @@ FROM tm_shape${D.fence}`);
   CASE WHEN sg = '-' THEN -1 ELSE 1 END * (coalesce(oh, 0) * 60 + coalesce(om, 0)) AS off_min
 FROM tm_parts${D.fence}`);
   const epMs = `CASE WHEN abs(ep) >= 1e11 THEN ep ELSE ep * 1000 END`;
-  if (!textual) {
+  if (lean) {
+    // a row in the fast form gets what the steps below give it (instant_ms = fast_ms, no local time);
+    // any other row is marked for the full pass (as a reason the reader gave, so it is counted)
+    const marked = cols().replace(/\bpre_reason\b/, `coalesce(pre_reason, CASE WHEN fast_ms IS NULL THEN ${D.str(FULL_PARSE_REASON)} END) AS pre_reason`);
+    cte('tm_instant', 'the instant (ms since the epoch) of each timestamp in the fast form; any other row is left to the full pass',
+      `SELECT ${marked}, fast_ms AS instant_ms, CAST(NULL AS ${D.bigint}) AS local_ms
+FROM tm_fast${D.fence}`);
+  } else if (!textual) {
     cte('tm_instant', 'the instant (ms since the epoch) of a typed timestamp with a time zone, or the local ms of one without',
       `SELECT ${cols()},
   ${has.tsInstant ? 'CASE WHEN ts_instant > -2300000000000 AND ts_instant < 7400000000000 THEN ts_instant END' : `CAST(NULL AS ${D.bigint})`} AS instant_ms,
@@ -515,5 +542,5 @@ GROUP BY GROUPING SETS ((uu, uk${has.by ? ', ub' : ''}), (status, reason, event)
       ...(attrCols.length ? { tm_attr_values: attrCols.map((_, i) => `SELECT ${i} AS a, ua_${i} AS v FROM tm_rowpass WHERE g_a_${i} = 0 AND ua_${i} IS NOT NULL`).join('\nUNION ALL\n') } : {}),
     },
   };
-  return { ctes, tables, facts, model: m, rowPass };
+  return { ctes, tables, facts, model: m, rowPass, fastTimestamps: lean };
 }

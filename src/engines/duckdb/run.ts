@@ -10,11 +10,10 @@ import { performance } from 'node:perf_hooks';
 import { createRequire } from 'node:module';
 import type { DuckDBConnection } from '@duckdb/node-api';
 import { TidemarkError, showValue } from '../../errors.js';
-import { readEvents } from '../../ingest/read.js';
 import { optionKey } from '../../periods/range.js';
 import { periodLabel, type PeriodScheme } from '../../periods/calendar.js';
 import type { Rules } from '../../rules/schema.js';
-import { compile, type Compiled } from '../../sql/compile.js';
+import { compile, FULL_PARSE_REASON, type Compiled } from '../../sql/compile.js';
 import { DIALECT } from '../../sql/dialects.js';
 import { BLANK_REASON, manifestOf, waistOf, type SqlFacts, type TableRows } from '../../sql/facts.js';
 import { withCtes } from '../../sql/query.js';
@@ -78,7 +77,8 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       describe: async (rel): Promise<ColumnType[]> =>
         (await rowsOf(c, `DESCRIBE SELECT * FROM ${rel}`)).map((r) => ({ name: String(r.column_name), type: String(r.column_type) })),
     }, range.by);
-    const compiled = compile({ dialect: DIALECT.duckdb, rules, source: prepared.source, range: { fromKey, toKey, warmup: range.warmup } });
+    const compileWith = (fastTimestamps: boolean) => compile({ dialect: DIALECT.duckdb, rules, source: prepared.source, range: { fromKey, toKey, warmup: range.warmup }, fastTimestamps });
+    let compiled = compileWith(prepared.fastTimestamps);
     let t0 = performance.now();
     const stage = (name: string) => {
       const t = performance.now();
@@ -89,15 +89,31 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
     const store = async (name: string, select = `SELECT * FROM ${name}`) => {
       await c.run(`CREATE TEMP TABLE ${name} AS ${withCtes(compiled.ctes, select, stored)}`);
       stored.add(name);
-      stage(name);
+      if (name !== compiled.rowPass.name) stage(name);
     };
     // the rows are read once, into small aggregates (compile.ts, rowPass), and never stored
-    const { rowPass } = compiled;
-    await store(rowPass.name, rowPass.select);
-    // its parts as views: a filtered read of the stored aggregate costs less than a copy
-    for (const [name, select] of Object.entries(rowPass.split)) {
-      await c.run(`CREATE TEMP VIEW ${name} AS ${select}`);
-      stored.add(name);
+    const rowPass = async (stageName: string) => {
+      await store(compiled.rowPass.name, compiled.rowPass.select);
+      // its parts as views: a filtered read of the stored aggregate costs less than a copy
+      for (const [name, select] of Object.entries(compiled.rowPass.split)) {
+        await c.run(`CREATE TEMP VIEW ${name} AS ${select}`);
+        stored.add(name);
+      }
+      stage(stageName);
+    };
+    await rowPass('tm_rowpass');
+    if (compiled.fastTimestamps) {
+      // the sample of the files showed only the fast timestamp form: a row in any other form sends
+      // the whole pass to the full steps, so every row is parsed as the memory engine parses it
+      const [odd] = await rowsOf(c, `SELECT count(*) AS n FROM tm_fates WHERE reason = '${FULL_PARSE_REASON}'`);
+      if (Number(odd.n) > 0) {
+        for (const name of Object.keys(compiled.rowPass.split)) await c.run(`DROP VIEW ${name}`);
+        await c.run(`DROP TABLE ${compiled.rowPass.name}`);
+        for (const t of prepared.rejects) await c.run(`DROP TABLE IF EXISTS ${t}; DROP TABLE IF EXISTS ${t}_scan`);
+        stored.clear();
+        compiled = compileWith(false);
+        await rowPass('tm_rowpass (full parse)');
+      }
     }
     // the small steps that many queries read are stored too: computed once, not once a query
     for (const name of [...(prepared.source.has.by ? ['tm_uk', 'tm_attr'] : []), 'tm_bounds', 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
@@ -195,6 +211,8 @@ async function countRejects(c: DuckDBConnection, tables: string[], input: Duckdb
 async function throwFirstBadRow(input: DuckdbInput, rules: Rules, toKey: number | undefined,
   readerRejects: Record<string, number>, accounting: SqlFacts['accounting']): Promise<never> {
   if (!('db' in input) && input.files.every((f) => !f.toLowerCase().endsWith('.gz') && fileFormat(f, input.format) !== 'parquet')) {
+    // the memory engine's reader, loaded only here: a run with no bad row never needs it
+    const { readEvents } = await import('../../ingest/read.js');
     await readEvents(input.files, { rules, format: input.format as 'csv' | 'ndjson' | undefined, skipBadRows: false, toKey, delimiter: input.delimiter });
   }
   const counts: Record<string, number> = { ...readerRejects };

@@ -57,6 +57,11 @@ export interface PreparedSource {
   /** Rejects tables of the CSV and NDJSON scans, to count after the scan. */
   rejects: string[];
   files: string[];
+  /**
+   * Every file is CSV and the first rows of each have their timestamps in the fast form: worth a
+   * pass that reads only that form (CompileInput.fastTimestamps), with the full pass as the fall-back.
+   */
+  fastTimestamps: boolean;
 }
 
 /**
@@ -109,15 +114,30 @@ async function head(file: string, bytes = 1 << 20): Promise<string> {
   return text;
 }
 
-/** The header row of a CSV file, as papaparse reads it (BOM dropped). */
-async function csvHeader(file: string, delimiter: string): Promise<string[] | undefined> {
+/** Data rows of a CSV file's head that {@link csvHeader} returns for a look at their timestamps. */
+export const SAMPLE_ROWS = 1000;
+
+/**
+ * The header row of a CSV file, as papaparse reads it (BOM dropped), and up to {@link SAMPLE_ROWS}
+ * rows after it from the file's first MiB (the last one left out, as it may be cut short).
+ */
+async function csvHeader(file: string, delimiter: string): Promise<{ header: string[]; sample: string[][] } | undefined> {
   const text = await head(file);
   if (text.length === 0) return undefined;
-  const parsed = Papa.parse<string[]>(text, { preview: 1, delimiter });
+  const parsed = Papa.parse<string[]>(text, { preview: SAMPLE_ROWS + 2, delimiter });
   const row = parsed.data[0];
   if (!row) return undefined;
   if (row.length > 0 && row[0].charCodeAt(0) === 0xfeff) row[0] = row[0].slice(1);
-  return row;
+  return { header: row, sample: parsed.data.slice(1, SAMPLE_ROWS + 1) };
+}
+
+/**
+ * Whether a timestamp text is in the commonest form, `YYYY-MM-DDTHH:MM:SS[.sss]Z` with an hour below
+ * 24: the shape the SQL's fast step (DIALECT.duckdb.fastUtcMs) reads. Only a guess about a file from
+ * its first rows: the engine checks every row and runs the full parse when one is in another form.
+ */
+export function fastTimestampForm(s: string): boolean {
+  return /^\d{4}-\d{2}-\d{2}T(?:[01]\d|2[0-3]):\d{2}:\d{2}(?:\.\d{3})?Z$/.test(s);
 }
 
 /** The attribute names of an NDJSON file: keys of the first 1,000 JSON objects other than the mapped columns, in order of first appearance (ingest/ndjson.ts). */
@@ -174,10 +194,11 @@ function jsonText(key: string): string {
 
 const BLANK_LINE = `regexp_full_match(l0, ${q(renderPattern(BLANK, 'noncapturing').source)})`;
 
-async function csvSelect(file: string, i: number, rules: Rules, delimiter: string, attributes: string[], rejects: string[]): Promise<{ sel: FileSelect; hasEvent: boolean }> {
+async function csvSelect(file: string, i: number, rules: Rules, delimiter: string, attributes: string[], rejects: string[]): Promise<{ sel: FileSelect; hasEvent: boolean; fastLooking: boolean }> {
   const cols = rules.columns;
-  const header = await csvHeader(file, delimiter);
-  if (!header) throw new TidemarkError('EVENTS_FORMAT', 'the file is empty: it needs a header line', { file, line: 1 }, `Start the file with a header such as ${cols.user},${cols.timestamp},${cols.event}`);
+  const read = await csvHeader(file, delimiter);
+  const header = read?.header;
+  if (!read || !header) throw new TidemarkError('EVENTS_FORMAT', 'the file is empty: it needs a header line', { file, line: 1 }, `Start the file with a header such as ${cols.user},${cols.timestamp},${cols.event}`);
   const plan = headerPlan(header, cols, rules.activity.keyEvents !== undefined, file);
   for (const a of plan.attributeNames) if (!attributes.includes(a)) attributes.push(a);
   const raw = (j: number) => `c${j}`;
@@ -187,6 +208,8 @@ async function csvSelect(file: string, i: number, rules: Rules, delimiter: strin
   const from = `read_csv(${q(file)}, auto_detect = false, header = true, delim = ${q(delimiter)}, quote = '"', escape = '"', columns = ${columns}, strict_mode = true, ignore_errors = true, store_rejects = true, rejects_table = ${q(rej)}, rejects_scan = ${q(`${rej}_scan`)}, max_line_size = ${MAX_LINE_BYTES})`;
   return {
     hasEvent: plan.event >= 0,
+    // rows of the right length only: one with a field too many or too few is the reader's to reject
+    fastLooking: read.sample.filter((r) => r.length === header.length).every((r) => fastTimestampForm(r[plan.timestamp])),
     sel: {
       base: `${raw(plan.user)} AS user_id, ${raw(plan.timestamp)} AS ts_text, CAST(NULL AS DOUBLE) AS ts_num, CAST(NULL AS BIGINT) AS ts_instant, CAST(NULL AS BIGINT) AS ts_local, ${plan.event >= 0 ? `coalesce(${raw(plan.event)}, '')` : 'CAST(NULL AS VARCHAR)'} AS event, CAST(NULL AS VARCHAR) AS pre_reason`,
       from,
@@ -267,6 +290,7 @@ export async function prepareSource(input: DuckdbInput, rules: Rules, db: Source
   const rejects: string[] = [];
   let hasEvent = false;
   let files: string[];
+  let fastLooking = true;
   if ('db' in input) {
     mustExist(input.db, '--db');
     try {
@@ -276,7 +300,7 @@ export async function prepareSource(input: DuckdbInput, rules: Rules, db: Source
     }
     const rel = `tm_srcdb.${qualified(DIALECT.duckdb, input.table)}`;
     const columns = await describeWith(describe, rel, input.db, input.table);
-    return { source: tableSource(DIALECT.duckdb, rel, columns.map((c) => ({ name: c.name, kind: kindOfType(c.type) })), rules, by, input.db), rejects: [], files: [input.db] };
+    return { source: tableSource(DIALECT.duckdb, rel, columns.map((c) => ({ name: c.name, kind: kindOfType(c.type) })), rules, by, input.db), rejects: [], files: [input.db], fastTimestamps: false };
   } else {
     files = input.files;
     const formats = files.map((f) => fileFormat(f, input.format));
@@ -286,6 +310,7 @@ export async function prepareSource(input: DuckdbInput, rules: Rules, db: Source
         const c = await csvSelect(files[i], i, rules, input.delimiter ?? ',', attributes, rejects);
         selects.push(c.sel);
         hasEvent ||= c.hasEvent;
+        fastLooking &&= c.fastLooking;
       } else if (formats[i] === 'ndjson') {
         selects.push(await ndjsonSelect(files[i], i, rules, attributes, rejects));
         hasEvent = true;
@@ -318,6 +343,7 @@ FROM ${s.from}`;
     },
     rejects,
     files,
+    fastTimestamps: fastLooking && files.every((f) => fileFormat(f, input.format) === 'csv'),
   };
 }
 
