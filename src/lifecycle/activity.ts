@@ -20,6 +20,8 @@ export interface ActivePeriods {
   offset: Int32Array;
   /** Key events of the user in that period. */
   events: Int32Array;
+  /** Rows in the range's last period, whatever minEvents (counted with the cells; lastPeriod.ts takes it for a log without wall clocks). */
+  lastRows?: number;
 }
 
 /** Largest users × periods grid counted directly (2^26 cells: 64 MiB). */
@@ -55,10 +57,11 @@ export function activePeriods(log: EventLog, minEvents: number, startKey: number
  * second sorts them into the period column's pages, so the cells take no fresh memory (40 MB at 10M
  * rows: about 0.13 s of first-touch page faults on this machine).
  */
-function cellsByBlock(log: EventLog, startKey: number, span: number, bits: number, blocks: number, spend: boolean): Int32Array {
+function cellsByBlock(log: EventLog, startKey: number, span: number, bits: number, blocks: number, spend: boolean): { cells: Int32Array; lastRows: number } {
   const { user: users, period } = log;
   const start = new Int32Array(blocks + 1);
-  let n = 0;
+  const end = span - 1;
+  let n = 0, lastRows = 0;
   if (spend) {
     for (let i = 0; i < log.size; i++) {
       const off = period[i] - startKey;
@@ -70,6 +73,7 @@ function cellsByBlock(log: EventLog, startKey: number, span: number, bits: numbe
       users[i] = k;
       start[(k >>> bits) + 1]++;
       n++;
+      if (off === end) lastRows++;
     }
     for (let b = 0; b < blocks; b++) start[b + 1] += start[b];
     // the period column was read in full above: its pages take the cells
@@ -78,13 +82,14 @@ function cellsByBlock(log: EventLog, startKey: number, span: number, bits: numbe
       const k = users[i];
       if (k >= 0) cells[start[k >>> bits]++] = k;
     }
-    return cells;
+    return { cells, lastRows };
   }
   for (let i = 0; i < log.size; i++) {
     const off = period[i] - startKey;
     if (off < 0 || off >= span) continue;
     start[((users[i] * span + off) >>> bits) + 1]++;
     n++;
+    if (off === end) lastRows++;
   }
   for (let b = 0; b < blocks; b++) start[b + 1] += start[b];
   const cells = new Int32Array(n);
@@ -94,7 +99,7 @@ function cellsByBlock(log: EventLog, startKey: number, span: number, bits: numbe
     const k = users[i] * span + off;
     cells[start[k >>> bits]++] = k;
   }
-  return cells;
+  return { cells, lastRows };
 }
 
 /** One more event in cell k of the grid (a count beyond 254 kept in `more`); its count now. */
@@ -120,8 +125,11 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
   // the blocked count's cells, once counted, hold the active users' codes (fewer than the cells): fresh
   // memory is costly (a first touch of a page costs far more than a write), so its pages are used again
   let reuse: Int32Array | undefined;
+  let lastRows = 0;
   if (bits > 0) {
-    const cells = cellsByBlock(log, startKey, span, bits, Math.ceil(grid.length / 2 ** bits), spendLog);
+    const blocked = cellsByBlock(log, startKey, span, bits, Math.ceil(grid.length / 2 ** bits), spendLog);
+    const cells = blocked.cells;
+    lastRows = blocked.lastRows;
     for (let i = 0; i < cells.length; i++) {
       if (bump(grid, more, cells[i]) === at) active++;
     }
@@ -131,6 +139,7 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
     for (let i = 0; i < log.size; i++) {
       const off = period[i] - startKey;
       if (off < 0 || off >= span) continue;
+      if (off === span - 1) lastRows++;
       if (bump(grid, more, users[i] * span + off) === at) active++;
     }
   }
@@ -161,15 +170,18 @@ function gridActivePeriods(log: EventLog, minEvents: number, startKey: number, s
       }
     }
   }
-  return { startKey, span, user, offset, events };
+  return { startKey, span, user, offset, events, lastRows };
 }
 
 function sortActivePeriods(log: EventLog, minEvents: number, startKey: number, span: number): ActivePeriods {
   const keys = new Float64Array(log.size);
-  let n = 0;
+  let n = 0, lastRows = 0;
   for (let i = 0; i < log.size; i++) {
     const off = log.period[i] - startKey;
-    if (off >= 0 && off < span) keys[n++] = log.user[i] * span + off;
+    if (off >= 0 && off < span) {
+      keys[n++] = log.user[i] * span + off;
+      if (off === span - 1) lastRows++;
+    }
   }
   const sorted = keys.subarray(0, n).sort();
   const user: number[] = [];
@@ -188,5 +200,5 @@ function sortActivePeriods(log: EventLog, minEvents: number, startKey: number, s
     }
     i = j;
   }
-  return { startKey, span, user: Int32Array.from(user), offset: Int32Array.from(offset), events: Int32Array.from(events) };
+  return { startKey, span, user: Int32Array.from(user), offset: Int32Array.from(offset), events: Int32Array.from(events), lastRows };
 }
