@@ -42,4 +42,25 @@ describe('activePeriods', () => {
     expect(Array.from(activePeriods(logOf(rows, 2), 300, 0, 5).user)).toEqual([1]);
     expect(Array.from(activePeriods(logOf(rows, 2), 300, 0, 5, true, 2).user)).toEqual([1]);
   });
+  it('a spent log holds the blocked count: cells in its period column, the active periods in both columns (events in fresh memory when they do not fit)', () => {
+    // independent count: a Map of user|offset → events, as in the property above
+    const count = (rows: [number, number][], minEvents: number, startKey: number, span: number) => {
+      const want = new Map<string, number>();
+      for (const [u, p] of rows) if (p >= startKey && p < startKey + span) want.set(`${u}|${p - startKey}`, (want.get(`${u}|${p - startKey}`) ?? 0) + 1);
+      return [...want].filter(([, n]) => n >= minEvents).map(([k, n]) => [...k.split('|').map(Number), n]).sort((a, b) => a[0] - b[0] || a[1] - b[1]);
+    };
+    // many events a cell (active ≤ half the rows: the events go after the users), and one event a cell (they do not fit)
+    const dense: [number, number][] = Array.from({ length: 600 }, (_, i) => [(i * 7) % 11, 100 + ((i * 3) % 5)]);
+    const sparse: [number, number][] = Array.from({ length: 40 }, (_, i) => [i, 100 + (i % 3)]);
+    for (const [rows, users, fits] of [[dense, 11, true], [sparse, 40, false]] as const) {
+      for (const [minEvents, startKey, span] of [[1, 100, 5], [2, 101, 3], [1, 99, 2]]) {
+        const log = logOf([...rows], users);
+        const a = activePeriods(log, minEvents, startKey, span, true, 2, true);
+        expect(Array.from(a.user, (u, i) => [u, a.offset[i], a.events[i]])).toEqual(count([...rows], minEvents, startKey, span));
+        expect(a.user.buffer).toBe(log.period.buffer);
+        expect(a.offset.buffer).toBe(log.user.buffer);
+        if (minEvents === 1 && startKey === 100) expect(a.events.buffer === log.period.buffer).toBe(fits);
+      }
+    }
+  });
 });

@@ -72,13 +72,18 @@ export async function runOnLog(log: EventLog, rules: Rules, range: RangeOptions 
   const toKey = optionKey(range.to, scheme, 'to');
   const r = resolveRange(minKey, maxKey, fromKey, toKey, (k) => periodLabel(k, scheme));
   const warmup = range.warmup ?? rules.warmup;
-  const last = lastPeriodOf(log, r.startKey + r.span - 1, scheme);
-  const lastPeriod: LastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete };
+  const lastKey = r.startKey + r.span - 1;
+  // a log without wall clocks that knows its key range takes the last period's rows from the activity
+  // count below (no pass over its rows, whose columns that count may spend); any other log has its pass here
+  const lastFromActivity = log.wallMs.length < log.size && log.keyRange !== undefined;
+  let last = lastFromActivity ? undefined : lastPeriodOf(log, lastKey, scheme);
   if (warmup >= r.span - r.outStart) {
     throw new TidemarkError('RANGE_INVALID', `a warm-up of ${warmup} periods leaves no period to analyse (the range has ${r.span - r.outStart})`, { key: 'warmup' }, 'Lower the warm-up or widen the range');
   }
   const plan = compilePlan(rules);
   const active = activePeriods(log, rules.activity.minEvents, r.startKey, r.span, true, undefined, limits.spendLog === true && range.by === undefined);
+  last ??= lastPeriodOf(log, lastKey, scheme, active.lastRows);
+  const lastPeriod: LastPeriod = { label: last.label, coverage: last.coverage, complete: last.complete };
   const firstActive = firstActivePeriods(active, userCount(log));
   const outliers = outputOutliers(log, r);
   const need = engineFootprint({ ...sizesOf(log, active, firstActive, r, warmup, rules.tenureBands.length), split: range.by !== undefined, rowObjects: limits.rowObjects ?? false });
