@@ -43,11 +43,8 @@ export function bandSides(m: number, l: number, u: number, alt?: readonly [numbe
  * @example bandScore(0.7, 0.3, 0.2, 0.5) // 2
  */
 export function bandScore(x: number, m: number, l: number, u: number, alt?: readonly [number, number]): number {
-  const d = x - m;
-  if (Math.abs(d) <= EPS) return 0;
-  const [lo, hi] = bandSides(m, l, u, alt);
-  const w = d > 0 ? hi : lo;
-  return w > EPS ? Math.abs(d) / w : 1e6;
+  // the score on x's own side: the larger of the two signed side scores (the other is ≤ 0)
+  return Math.max(...sideScores(x, m, l, u, alt));
 }
 
 /**
