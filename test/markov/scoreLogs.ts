@@ -93,7 +93,32 @@ export const UNSEEN_3: Record<string, MemberLogSpec> = {
   growturn: { weeks: 62, arrivals: 200, seed: 9210, growth: 0.05, decline: 0.01, turn: { week: 25, slope: -0.02 } },
 };
 
-const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, unseen2: UNSEEN_2, unseen3: UNSEEN_3, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
+/**
+ * A fourth set of logs not seen while designing, written after the fifth pass's design (horizon-pooled
+ * recalibration) was committed (78b6595) and before anything was scored on them; scored once with that
+ * design and once with main's method. New seeds and new mixes: a steep rise of activity with growing
+ * arrivals, a steeper decline than any before, four newcomer spikes (one 15×) over drift, big shared
+ * shocks on a large log, a 13-week cycle with growth, a short 4-week cycle, a small drifting log (35
+ * newcomers a week), loyal members in decline, churning members with a spike, an upward step at week 35
+ * over a 20-week cycle (a planted break), a six-week deep dip with shocks (a planted break), and a
+ * decline that turns into a rise with falling arrivals.
+ */
+export const UNSEEN_4: Record<string, MemberLogSpec> = {
+  steeprise: { weeks: 60, arrivals: 350, seed: 9301, decline: 0.03, shock: 0.05, arrivalTrend: 0.005 },
+  steepfall: { weeks: 54, arrivals: 500, seed: 9302, decline: -0.035, arrivalShock: 0.1 },
+  spiky3: { weeks: 56, arrivals: 280, seed: 9303, spikes: { 9: 8, 18: 3, 31: 15, 47: 5 }, drift: 0.05 },
+  shock35: { weeks: 50, arrivals: 900, seed: 9304, shock: 0.35, spread: 1.3 },
+  cycle13: { weeks: 64, arrivals: 420, seed: 9305, cycle: { period: 13, amp: 0.35 }, growth: 0.01 },
+  cycle4: { weeks: 52, arrivals: 320, seed: 9306, cycle: { period: 4, amp: 0.25 }, shock: 0.05 },
+  small3: { weeks: 58, arrivals: 35, seed: 9307, spread: 1, drift: 0.05 },
+  loyalfall: { weeks: 60, arrivals: 220, seed: 9308, decline: -0.015, base: { newcomer: 0.5, active: 2.2, idle: -2.2, idleDecay: 0.2 } },
+  churnspike: { weeks: 48, arrivals: 650, seed: 9309, spikes: { 20: 6 }, arrivalShock: 0.2, base: { newcomer: -1.2, active: 0.6, idle: -1, idleDecay: 0.5 } },
+  stepup: { weeks: 62, arrivals: 300, seed: 9310, step: { week: 35, by: 0.5 }, cycle: { period: 20, amp: 0.2 } },
+  dipshock: { weeks: 56, arrivals: 450, seed: 9311, dip: { from: 30, to: 36, by: -0.7 }, shock: 0.15 },
+  turnup: { weeks: 66, arrivals: 260, seed: 9312, decline: -0.02, turn: { week: 33, slope: 0.015 }, arrivalTrend: -0.004 },
+};
+
+const SETS: Record<string, Record<string, MemberLogSpec | 'demo'>> = { demo: { demo: 'demo' }, dev: DEVELOPMENT, dev2: DEVELOPMENT_2, unseen: UNSEEN, unseen2: UNSEEN_2, unseen3: UNSEEN_3, unseen4: UNSEEN_4, devall: { ...DEVELOPMENT, ...DEVELOPMENT_2 } };
 
 export async function tablesOf(name: string, spec: MemberLogSpec | 'demo'): Promise<WaistTables> {
   const dir = join(tmpdir(), 'tidemark-calib');
