@@ -64,7 +64,7 @@ export interface ProjectOutput {
      * of its outer band's half-width, null where none; steps past the backtest's horizon use its last);
      * `applied` false when there was no backtest (`--no-backtest`, too little data), with the reason.
      */
-    recalibration: { applied: boolean; note: string; minScores: number | null; scoreOrigins: number | null; horizonWeights: number[] | null; horizons: { horizon: number; scores: number; inner: [number, number] | null; outer: [number, number] | null; shift: Record<string, number> | null }[] };
+    recalibration: { applied: boolean; note: string; minScores: number | null; scoreOrigins: number | null; horizons: { horizon: number; scores: number; inner: [number, number] | null; outer: [number, number] | null; shift: Record<string, number> | null }[] };
   } | null;
   /** Warnings for the reader: outlier periods of the inflow, rows whose variation could not be estimated, pooled segments. */
   warnings: string[];
@@ -77,22 +77,21 @@ export interface ProjectOutput {
   backtest?: Backtest | { skipped: string };
 }
 
-export const BAND_METHOD = 'simulated paths: each row of rates starts from its level at the end of the fit window (Kalman filter of the local level model) drawn with that level\'s uncertainty, and moves each period by a random walk (drift) and noise that does not persist, both estimated from the fit window by maximum likelihood; a share of that movement, estimated from how the rows moved together, is one shock shared by every row; arrivals from the chosen center with their own noise and drift; users moved by multinomial draws. Then each band is recalibrated per horizon from the backtest, from the latest 15 origins with a known outcome at that horizon and, with a quarter of the weight, at the horizons either side of it (so the corrections change smoothly from one horizon to the next): each state\'s band is moved by the weighted median of that state\'s errors (actual share minus the paths\' median, in units of the outer band\'s half-width; once 6 origins exist at the horizon), then its lower and upper sides are scaled separately by the weighted empirical quantile, at (1 + level)/2, of how far beyond the moved median the actual shares fell on that side, in units of that side (the model\'s widths where fewer than 30 scores exist at the horizon)';
-export const BAND_SOURCES = 'local level model and its diffuse likelihood (Harvey 1989, ch. 2 and §3.4), Dirichlet-multinomial overdispersion (Mosimann 1962), one common factor (Anderson 2003, §14.2), percentiles by Hyndman & Fan (1996) definition 7, intercept correction (Clements & Hendry 1996, 1998), split conformal prediction with a normalised score (Vovk, Gammerman & Shafer 2005; Shafer & Vovk 2008) in its asymmetric form (Romano, Patterson & Candès 2019), with weighted scores (Tibshirani, Barber, Candès & Ramdas 2019)';
+export const BAND_METHOD = 'simulated paths: each row of rates starts from its level at the end of the fit window (Kalman filter of the local level model) drawn with that level\'s uncertainty, and moves each period by a random walk (drift) and noise that does not persist, both estimated from the fit window by maximum likelihood; a share of that movement, estimated from how the rows moved together, is one shock shared by every row; arrivals from the chosen center with their own noise and drift; users moved by multinomial draws. Then each band is recalibrated per horizon from the backtest, from the latest 15 origins with a known outcome: each state\'s band is moved by the median of that state\'s errors (actual share minus the paths\' median, in units of the outer band\'s half-width; once 6 origins exist), then its lower and upper sides are scaled separately by the empirical quantile, at (1 + level)/2, of how far beyond the moved median the actual shares fell on that side, in units of that side (the model\'s widths where fewer than 30 scores exist)';
+export const BAND_SOURCES = 'local level model and its diffuse likelihood (Harvey 1989, ch. 2 and §3.4), Dirichlet-multinomial overdispersion (Mosimann 1962), one common factor (Anderson 2003, §14.2), percentiles by Hyndman & Fan (1996) definition 7, intercept correction (Clements & Hendry 1996, 1998), split conformal prediction with a normalised score (Vovk, Gammerman & Shafer 2005; Shafer & Vovk 2008) in its asymmetric form (Romano, Patterson & Candès 2019)';
 
 function recalibrationOutput(bt: Backtest | { skipped: string } | undefined, states: readonly string[]): NonNullable<ProjectOutput['uncertainty']>['recalibration'] {
-  if (!bt) return { applied: false, note: 'no backtest was run (--no-backtest): the bands are the model\'s, not recalibrated', minScores: null, scoreOrigins: null, horizonWeights: null, horizons: [] };
-  if (!('rows' in bt) || !bt.recalibration) return { applied: false, note: `no backtest (${'skipped' in bt ? bt.skipped : 'not recalibrated'}): the bands are the model's, not recalibrated`, minScores: null, scoreOrigins: null, horizonWeights: null, horizons: [] };
+  if (!bt) return { applied: false, note: 'no backtest was run (--no-backtest): the bands are the model\'s, not recalibrated', minScores: null, scoreOrigins: null, horizons: [] };
+  if (!('rows' in bt) || !bt.recalibration) return { applied: false, note: `no backtest (${'skipped' in bt ? bt.skipped : 'not recalibrated'}): the bands are the model's, not recalibrated`, minScores: null, scoreOrigins: null, horizons: [] };
   const r = bt.recalibration;
   const applied = r.horizons.some((x) => x.inner !== null || x.outer !== null || x.shift !== null);
   const missing = r.horizons.filter((x) => x.outer === null).map((x) => `+${x.horizon}`);
   return {
     applied,
     note: !applied ? `the backtest had fewer than ${r.minScores} scores at every horizon: the bands are the model's, not recalibrated`
-      : `recalibrated from the backtest's errors${missing.length ? ` (at ${missing.join(', ')} fewer than ${r.minScores} scores: the model's widths there)` : ' at every horizon'}: each state's band moved by the median of its recent errors (intercept correction), then each side scaled by its own quantile of past errors, both from the horizon's errors and, at a quarter of their weight, its neighbours' (smooth from one horizon to the next); steps past the backtest's horizon use its last corrections and factors; the bands of active users and totals are scaled but not moved; the bands of differences from the baseline and of segments are the model's`,
+      : `recalibrated from the backtest's errors${missing.length ? ` (at ${missing.join(', ')} fewer than ${r.minScores} scores: the model's widths there)` : ' at every horizon'}: each state's band moved by the median of its recent errors (intercept correction), then each side scaled by its own quantile of past errors; steps past the backtest's horizon use its last corrections and factors; the bands of active users and totals are scaled but not moved; the bands of differences from the baseline and of segments are the model's`,
     minScores: r.minScores,
     scoreOrigins: r.scoreOrigins,
-    horizonWeights: r.horizonWeights,
     horizons: r.horizons.map((x) => ({ ...x, shift: x.shift ? Object.fromEntries(states.map((st, i) => [st, x.shift![i]])) : null })),
   };
 }
