@@ -12,6 +12,9 @@
  *    of the outcome x beyond the moved median m in units of that side, (m − x)/(m − l) below and
  *    (x − m)/(u − m) above, and scaled by the empirical quantile of its own past scores at level
  *    (1 + level)/2, so each side misses at most (1 − level)/2 of the time and the band at most 1 − level.
+ * Both may pool a horizon's past cells with its neighbours' at smaller weights ({@link pooledRecords}): a
+ * weighted median ({@link weightedMedian}) and the weighted conformal quantile ({@link conformalQuantile};
+ * Tibshirani, Barber, Candès & Ramdas 2019), so that they change smoothly from one horizon to the next.
  * Used by the backtest (each origin from the scores of earlier ones) and by the projection at the last
  * period (`simulate.ts`, from the backtest's latest scores).
  */
@@ -133,34 +136,102 @@ export function usedRecords(sc: readonly BandScoreRecord[], p: number, before: n
 }
 
 /**
- * The intercept correction of state s at an origin: the median of the signed errors of state s among
- * `used` ({@link usedRecords}), in units of the outer band's half-width; 0 with fewer than `min` of them.
+ * The intercept correction of state s at an origin: the (weighted) median of the signed errors of state s
+ * among `used` ({@link usedRecords}, or pooled over horizons by {@link pooledRecords} with `weights`), in
+ * units of the outer band's half-width; 0 with fewer than `min` of them.
  *
  * @example centreShift([{ state: 0, error: -1 }, { state: 0, error: -0.5 }, { state: 0, error: 2 }] as BandScoreRecord[], 0, 3) // -0.5
  */
-export function centreShift(used: readonly BandScoreRecord[], s: number, min: number): number {
-  const e = used.filter((x) => x.state === s).map((x) => x.error).sort((a, b) => a - b);
-  const n = e.length;
-  if (n === 0 || n < min) return 0;
-  return n % 2 ? e[(n - 1) / 2] : (e[n / 2 - 1] + e[n / 2]) / 2;
+export function centreShift(used: readonly BandScoreRecord[], s: number, min: number, weights?: readonly number[]): number {
+  const e: number[] = [], w: number[] = [];
+  used.forEach((x, i) => {
+    if (x.state !== s) return;
+    e.push(x.error);
+    w.push(weights ? weights[i] : 1);
+  });
+  if (e.length === 0 || e.length < min) return 0;
+  return weightedMedian(e, w);
+}
+
+/**
+ * The weighted median of v: with the values sorted, the first whose cumulative weight reaches half the
+ * total, or the midpoint of it and the next when the cumulative weight equals half exactly (so with unit
+ * weights the usual median). NaN for no values.
+ *
+ * @example weightedMedian([3, 1, 2, 10], [0.5, 1, 1, 0.5]) // 2 (cumulative 1, 2, 2.5, 3 over 1, 2, 3, 10; half of 3 is 1.5)
+ */
+export function weightedMedian(v: readonly number[], w: readonly number[]): number {
+  const o = v.map((_, i) => i).sort((a, b) => v[a] - v[b]);
+  const half = w.reduce((a, x) => a + x, 0) / 2;
+  let cum = 0;
+  for (let k = 0; k < o.length; k++) {
+    cum += w[o[k]];
+    if (cum === half && k + 1 < o.length) return (v[o[k]] + v[o[k + 1]]) / 2;
+    if (cum >= half) return v[o[k]];
+  }
+  return NaN;
+}
+
+/**
+ * The conformal quantile of scores v with weights w at `level` (Tibshirani, Barber, Candès & Ramdas 2019,
+ * "Conformal prediction under covariate shift", NeurIPS, §2 and Lemma 1: the level-quantile of the
+ * weighted scores with a point mass of the new case's weight `self` at +∞): the smallest v whose
+ * cumulative weight, over v sorted, reaches level·(Σw + self); the largest v when none does. With unit
+ * weights, the ⌈(n + 1)·level⌉-th smallest of the usual split conformal quantile.
+ *
+ * @example conformalQuantile([1, 2, 3, 4], [1, 1, 0.5, 0.5], 0.6, 1) // 3 (cumulative 1, 2, 2.5, 3; 0.6 × 4 = 2.4)
+ */
+export function conformalQuantile(v: readonly number[], w: readonly number[], level: number, self = 1): number {
+  const o = v.map((_, i) => i).sort((a, b) => v[a] - v[b]);
+  const target = level * (w.reduce((a, x) => a + x, 0) + self);
+  let cum = 0;
+  for (const i of o) {
+    cum += w[i];
+    if (cum >= target) return v[i];
+  }
+  return v[o[o.length - 1]];
+}
+
+/**
+ * The records of horizon h and its neighbours pooled for an origin at period p ({@link usedRecords} at
+ * each horizon h ± d, d < weights.length, within 1 … scores.length), each with the weight weights[d] of
+ * its distance (a kernel over the horizon; [1] is horizon h alone). `own` are horizon h's records, which
+ * decide whether there are enough scores. Neighbouring horizons' errors, in units of their own band
+ * widths, estimate the same correction where the horizon's own few would scatter; pooling them makes the
+ * corrections and factors change smoothly from one horizon to the next.
+ */
+export function pooledRecords(scores: readonly (readonly BandScoreRecord[])[], h: number, p: number, before: number, keep: number, weights: readonly number[]): { used: BandScoreRecord[]; weight: number[]; own: BandScoreRecord[] } {
+  const used: BandScoreRecord[] = [], weight: number[] = [];
+  let own: BandScoreRecord[] = [];
+  for (let d = -(weights.length - 1); d < weights.length; d++) {
+    const hh = h + d;
+    if (hh < 1 || hh > scores.length || weights[Math.abs(d)] <= 0) continue;
+    const r = usedRecords(scores[hh - 1], p, before, keep);
+    if (d === 0) own = r;
+    for (const x of r) {
+      used.push(x);
+      weight.push(weights[Math.abs(d)]);
+    }
+  }
+  return { used, weight, own };
 }
 
 /**
  * The factors by which the (moved) bands' sides are scaled at an origin, from `used`
- * ({@link usedRecords}): for each band and side, the ⌈(n + 1)·(1 + level)/2⌉-th smallest of the n signed
- * side scores (the largest when that exceeds n), at most {@link MAX_FACTOR}. Null when fewer than `min`
+ * ({@link usedRecords}; or pooled over horizons, {@link pooledRecords}, with `weights` and the horizon's
+ * own weight `self`): for each band and side, the conformal quantile ({@link conformalQuantile}) of the
+ * signed side scores at level (1 + level)/2 — with unit weights the ⌈(n + 1)·(1 + level)/2⌉-th smallest of
+ * the n scores (the largest when that exceeds n) — at most {@link MAX_FACTOR}. Null when fewer than `min`
  * records.
  *
  * @example // four records whose outer lower-side scores are 0.5, 1, 2, 3: level 0.8 takes the ⌈5·0.9⌉ = 5th
  * // smallest, more than 4, so the largest: outer[0] = 3; at level 0.5 the ⌈5·0.75⌉ = 4th, also 3
  * widthFactors(used, 1, 0.5, 0.8).outer[0] // 3
  */
-export function widthFactors(used: readonly BandScoreRecord[], min: number, levelInner: number, levelOuter: number): { inner: [number, number]; outer: [number, number]; scores: number } | null {
+export function widthFactors(used: readonly BandScoreRecord[], min: number, levelInner: number, levelOuter: number, weights?: readonly number[], self = 1): { inner: [number, number]; outer: [number, number]; scores: number } | null {
   if (used.length === 0 || used.length < min) return null;
-  const q = (v: number[], level: number) => {
-    v.sort((a, b) => a - b);
-    return Math.min(MAX_FACTOR, v[Math.min(v.length, Math.ceil((v.length + 1) * (1 + level) / 2)) - 1]);
-  };
-  const side = (band: 'inner' | 'outer', k: 0 | 1, level: number) => q(used.map((x) => x[band][k]), level);
+  const w = weights ?? used.map(() => 1);
+  const side = (band: 'inner' | 'outer', k: 0 | 1, level: number) => Math.min(MAX_FACTOR, conformalQuantile(used.map((x) => x[band][k]), w, (1 + level) / 2, self));
   return { inner: [side('inner', 0, levelInner), side('inner', 1, levelInner)], outer: [side('outer', 0, levelOuter), side('outer', 1, levelOuter)], scores: used.length };
 }
+

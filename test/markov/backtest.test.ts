@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { backtest, bandScore, intervalScore, widen, widthFactors, type BacktestCell } from '../../src/markov/backtest.js';
-import { centreShift, recalibratedBands, sideScores, signedError, usedRecords, type BandScoreRecord } from '../../src/markov/recalibrate.js';
+import { centreShift, conformalQuantile, pooledRecords, recalibratedBands, sideScores, signedError, usedRecords, weightedMedian, type BandScoreRecord } from '../../src/markov/recalibrate.js';
 import { simulatedChain } from './chains.js';
 import { MAKERSPACE_P, exactTables, expectClose, expectRefusal } from './helpers.js';
 
@@ -112,6 +112,9 @@ describe('backtest', () => {
     expectRefusal(() => backtest(tables, { horizon: 0 }), 'INPUT_INVALID', /horizon/);
     expectRefusal(() => backtest(tables, { minFit: 4, window: 2 }), 'INPUT_INVALID', /window must be a whole number from 4/);
     expectRefusal(() => backtest(tables, { band: [90, 10] }), 'INPUT_INVALID', /band must be/);
+    expectRefusal(() => backtest(tables, { horizonWeights: [] }), 'INPUT_INVALID', /horizonWeights must be/);
+    expectRefusal(() => backtest(tables, { horizonWeights: [0, 1] }), 'INPUT_INVALID', /horizonWeights must be/);
+    expectRefusal(() => backtest(tables, { horizonWeights: [1, -0.5] }), 'INPUT_INVALID', /horizonWeights must be/);
   });
 });
 
@@ -233,13 +236,55 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
     expect(centreShift(all, 2, 9)).toBe(0);
   });
 
+  it('weightedMedian and conformalQuantile: the weighted forms, equal to the unweighted ones with unit weights (hand values)', () => {
+    // weighted median (common practice; from memory): values sorted 1, 2, 3, 10 with weights 1, 1, 0.5,
+    // 0.5 have cumulative weights 1, 2, 2.5, 3; half the total is 1.5, first reached at 2
+    expect(weightedMedian([3, 1, 2, 10], [0.5, 1, 1, 0.5])).toBe(2);
+    // unit weights: the usual median, the midpoint of the middle two for an even count
+    expect(weightedMedian([4, 1, 3, 2], [1, 1, 1, 1])).toBe(2.5);
+    expect(weightedMedian([5, 1, 3], [1, 1, 1])).toBe(3);
+    // cumulative weight exactly half at 2 (weights 0.5, 0.5, 1): midpoint of 2 and 3
+    expect(weightedMedian([1, 2, 3], [0.5, 0.5, 1])).toBe(2.5);
+    // a heavy value pulls it: 1, 2, 3 with weights 0.5, 0.5, 2 → 3
+    expect(weightedMedian([1, 2, 3], [0.5, 0.5, 2])).toBe(3);
+    // The weighted conformal quantile (Tibshirani, Barber, Candès & Ramdas 2019, NeurIPS, §2, from memory):
+    // the level-quantile of Σ wᵢ δ(vᵢ) + w_new δ(+∞), normalised. Scores 1…4 with weights 1, 1, 0.5, 0.5
+    // and w_new = 1: total 4, level 0.6 needs cumulative weight 2.4 → 1, 2, 2.5 reached at 3
+    expect(conformalQuantile([4, 2, 3, 1], [0.5, 1, 0.5, 1], 0.6, 1)).toBe(3);
+    // level 0.95 needs 3.8 > 3 (the point at +∞ holds it): the largest score, 4
+    expect(conformalQuantile([4, 2, 3, 1], [0.5, 1, 0.5, 1], 0.95, 1)).toBe(4);
+    // unit weights: the ⌈(n + 1)·level⌉-th smallest (n = 9, level 0.75 → ⌈7.5⌉ = 8th)
+    expect(conformalQuantile([9, 8, 7, 6, 5, 4, 3, 2, 1], Array(9).fill(1), 0.75)).toBe(8);
+  });
+
+  it('pooledRecords takes each neighbouring horizon\'s latest known records with the weight of its distance (hand values)', () => {
+    // three horizons; origin o's records at horizon h known at period 10 + o + h, one state, error = h
+    const byH: BandScoreRecord[][] = [1, 2, 3].map((h) => Array.from({ length: 6 }, (_, o) => ({ origin: o, known: 10 + o + h, state: 0, error: h, inner: [0, 0], outer: [0, 0] })));
+    // at period 15, horizon 2 (weights [1, 0.5]): horizon 1 knows origins 0…4, horizon 2 origins 0…3, horizon 3 origins 0…2
+    const p = pooledRecords(byH, 2, 15, 6, 100, [1, 0.5]);
+    expect(p.own.map((x) => x.origin)).toEqual([0, 1, 2, 3]);
+    expect(p.used.map((x) => `${x.error}:${x.origin}`)).toEqual(['1:0', '1:1', '1:2', '1:3', '1:4', '2:0', '2:1', '2:2', '2:3', '3:0', '3:1', '3:2']);
+    expect(p.weight).toEqual([0.5, 0.5, 0.5, 0.5, 0.5, 1, 1, 1, 1, 0.5, 0.5, 0.5]);
+    // horizon 1 has no horizon 0; the latest 2 origins of each horizon; before origin 3 only
+    expect(pooledRecords(byH, 1, 100, 6, 2, [1, 0.5]).used.map((x) => `${x.error}:${x.origin}`)).toEqual(['1:4', '1:5', '2:4', '2:5']);
+    expect(pooledRecords(byH, 3, 100, 3, 100, [1, 0.5]).used.map((x) => `${x.error}:${x.origin}`)).toEqual(['2:0', '2:1', '2:2', '3:0', '3:1', '3:2']);
+    // weights [1]: the horizon alone, as usedRecords
+    expect(pooledRecords(byH, 2, 15, 6, 100, [1]).used).toEqual(usedRecords(byH[1], 15, 6, 100));
+    // centreShift over the pooled records: errors 1 (×5, weight 0.5), 2 (×4, weight 1), 3 (×3, weight 0.5):
+    // total weight 8, half 4; cumulative 2.5 after the 1s, 3.5 and 4.5 at the first two 2s → 2
+    expect(centreShift(p.used, 0, 1, p.weight)).toBe(2);
+  });
+
   const chain = () => simulatedChain({ periods: 40, walk: 0.05, noise: 0.05, arrivals: 600, arrivalSd: 60, start: [600, 6000, 900, 2500, 12000], seed: 41 });
 
   // A plain recomputation of the rule, written out here independently of recalibrate.ts: at an origin,
-  // the cells at the same horizon of the latest 15 earlier origins whose outcome was known; each state's
-  // band moved by the median of that state's errors (actual − median, in outer half-widths) once 6 such
-  // origins exist; the signed side scores of the moved bands; each side scaled by the
-  // ⌈(n + 1)·(1 + level)/2⌉-th smallest of its scores once 30 exist (capped at 10).
+  // the cells at the same horizon h of the latest 15 earlier origins whose outcome was known (by default),
+  // or (option horizonWeights [1, nb]) those at h, h − 1 and h + 1, weighted 1 at h and nb at h ± 1; each
+  // state's band moved by the (weighted) median of that state's errors (actual − median, in outer
+  // half-widths) once 6 such origins exist at h; the signed side scores of the moved bands; each side
+  // scaled by the (weighted) conformal quantile of its scores — the first whose cumulative weight reaches
+  // (1 + level)/2 of the total plus 1, with unit weights the ⌈(n + 1)·(1 + level)/2⌉-th smallest — once 30
+  // exist at h (capped at 10).
   const ratio = 0.6744897501960817 / 1.2815515655446004; // standard normal quantiles z(0.75)/z(0.9) (tables)
   const sidesOf = (m: number, l: number, u: number, alt?: [number, number]): [number, number] => {
     let lo = Math.max(0, m - l), hi = Math.max(0, u - m);
@@ -249,85 +294,116 @@ describe('recalibrated bands (split conformal, from earlier origins only)', () =
     return [lo, hi];
   };
   const altOf = (d: BacktestCell): [number, number] => [(d.median - d.model[2]) * ratio, (d.model[3] - d.median) * ratio];
-  const median = (v: number[]) => { const w = [...v].sort((x, y) => x - y); const n = w.length; return n % 2 ? w[(n - 1) / 2] : (w[n / 2 - 1] + w[n / 2]) / 2; };
-  const kth = (v: number[], level: number) => Math.min(10, [...v].sort((x, y) => x - y)[Math.min(v.length, Math.ceil((v.length + 1) * (1 + level) / 2)) - 1]);
   const errorOf = (d: BacktestCell) => { const w = (d.model[3] - d.model[2]) / 2; return w > 1e-12 ? (d.actual - d.median) / w : 0; };
   const latest = (cells: BacktestCell[], c: { origin: number; period: number; horizon: number }) => {
     const known = cells.filter((d) => d.horizon === c.horizon && d.origin < c.origin && d.period + d.horizon <= c.period);
     const last = Math.max(-1, ...known.map((d) => d.origin));
     return known.filter((d) => d.origin > last - 15);
   };
-  const shiftOf = (used: BacktestCell[], state: number) => { const e = used.filter((d) => d.state === state).map(errorOf); return e.length >= 6 ? median(e) : 0; };
+  // pooled over the horizon: horizon h's cells with weight 1, h ± 1's with weight nb when nb > 0 (none beyond the backtest's horizons)
+  const pooled = (cells: BacktestCell[], c: { origin: number; period: number; horizon: number }, nb: number) =>
+    (nb > 0 ? [c.horizon - 1, c.horizon, c.horizon + 1] : [c.horizon]).filter((h) => h >= 1).flatMap((h) => latest(cells, { ...c, horizon: h }).map((d) => ({ d, w: h === c.horizon ? 1 : nb })));
+  // weighted median: sorted, the first value whose cumulative weight reaches half the total (the midpoint
+  // with the next when exactly half); weighted conformal quantile: the first whose cumulative weight
+  // reaches level·(total + 1), else the largest (a plain loop each)
+  const wMedian = (v: { x: number; w: number }[]) => {
+    const o = [...v].sort((a, b) => a.x - b.x), half = o.reduce((a, y) => a + y.w, 0) / 2;
+    let cum = 0;
+    for (let i = 0; i < o.length; i++) {
+      cum += o[i].w;
+      if (cum === half && i + 1 < o.length) return (o[i].x + o[i + 1].x) / 2;
+      if (cum >= half) return o[i].x;
+    }
+    return NaN;
+  };
+  const wKth = (v: { x: number; w: number }[], level: number) => {
+    const o = [...v].sort((a, b) => a.x - b.x), target = (1 + level) / 2 * (o.reduce((a, y) => a + y.w, 0) + 1);
+    let cum = 0;
+    for (const y of o) if ((cum += y.w) >= target) return Math.min(10, y.x);
+    return Math.min(10, o[o.length - 1].x);
+  };
+  const shiftOf = (cells: BacktestCell[], c: { origin: number; period: number; horizon: number }, state: number, nb: number) => {
+    if (latest(cells, c).filter((d) => d.state === state).length < 6) return 0;
+    return wMedian(pooled(cells, c, nb).filter((y) => y.d.state === state).map((y) => ({ x: errorOf(y.d), w: y.w })));
+  };
   /** Signed side scores of cell d against its own moved band (the shift from the cells before it). */
-  const memo = new WeakMap<BacktestCell, { inner: number[]; outer: number[] }>();
-  const scoresOf = (cells: BacktestCell[], d: BacktestCell) => memo.get(d) ?? memo.set(d, scoresOfCell(cells, d)).get(d)!;
-  const scoresOfCell = (cells: BacktestCell[], d: BacktestCell) => {
-    const sh = shiftOf(latest(cells, d), d.state) * (d.model[3] - d.model[2]) / 2;
+  const memo = new Map<number, WeakMap<BacktestCell, { inner: number[]; outer: number[] }>>();
+  const scoresOf = (cells: BacktestCell[], d: BacktestCell, nb: number) => {
+    const m = memo.get(nb) ?? memo.set(nb, new WeakMap()).get(nb)!;
+    return m.get(d) ?? m.set(d, scoresOfCell(cells, d, nb)).get(d)!;
+  };
+  const scoresOfCell = (cells: BacktestCell[], d: BacktestCell, nb: number) => {
+    const sh = shiftOf(cells, d, d.state, nb) * (d.model[3] - d.model[2]) / 2;
     const m = d.median + sh, x = d.actual - m;
     const one = (lo: number, hi: number) => (Math.abs(x) <= 1e-12 ? [0, 0] : [lo > 1e-12 ? -x / lo : x < 0 ? 1e6 : -1e6, hi > 1e-12 ? x / hi : x > 0 ? 1e6 : -1e6]);
     return { inner: one(...sidesOf(d.median, d.model[0], d.model[1], altOf(d))), outer: one(...sidesOf(d.median, d.model[2], d.model[3])) };
   };
 
-  it('each origin\'s bands equal a plain recomputation from the model bands and outcomes known at that origin', () => {
-    const tables = chain();
-    const bt = backtest(tables, { horizon: 4, window: 8, samples: 40, seed: 3, detail: true });
-    const cells = bt.cells as BacktestCell[];
-    let scaled = 0, moved = 0;
-    for (const c of cells) {
-      const used = latest(cells, c);
-      const sh = shiftOf(used, c.state) * (c.model[3] - c.model[2]) / 2;
-      if (sh !== 0) moved++;
-      const m = c.median + sh;
-      const [il, iu] = sidesOf(c.median, c.model[0], c.model[1], altOf(c)), [ol, ou] = sidesOf(c.median, c.model[2], c.model[3]);
-      if (used.length < 30) {
-        expectClose(c.band, c.model.map((v) => v + sh), 1e-12);
-        continue;
+  for (const [label, nb] of [['each horizon alone, the default', 0], ['pooled with horizons h ± 1 at 1/4, horizonWeights [1, 0.25]', 0.25]] as const) {
+    const weights = nb > 0 ? { horizonWeights: [1, nb] } : {};
+    it(`each origin's bands equal a plain recomputation from the model bands and outcomes known at that origin (${label})`, () => {
+      const tables = chain();
+      const bt = backtest(tables, { horizon: 4, window: 8, samples: 40, seed: 3, detail: true, ...weights });
+      const cells = bt.cells as BacktestCell[];
+      let scaled = 0, moved = 0;
+      for (const c of cells) {
+        const used = latest(cells, c);
+        const sh = shiftOf(cells, c, c.state, nb) * (c.model[3] - c.model[2]) / 2;
+        if (sh !== 0) moved++;
+        const m = c.median + sh;
+        const [il, iu] = sidesOf(c.median, c.model[0], c.model[1], altOf(c)), [ol, ou] = sidesOf(c.median, c.model[2], c.model[3]);
+        if (used.length < 30) {
+          expectClose(c.band, c.model.map((v) => v + sh), 1e-12);
+          continue;
+        }
+        scaled++;
+        const sc = pooled(cells, c, nb).map((y) => ({ ...scoresOf(cells, y.d, nb), w: y.w }));
+        const fi = [wKth(sc.map((x) => ({ x: x.inner[0], w: x.w })), 0.5), wKth(sc.map((x) => ({ x: x.inner[1], w: x.w })), 0.5)];
+        const fo = [wKth(sc.map((x) => ({ x: x.outer[0], w: x.w })), 0.8), wKth(sc.map((x) => ({ x: x.outer[1], w: x.w })), 0.8)];
+        let lo = m - fo[0] * ol, hi = m + fo[1] * ou;
+        if (lo > hi) lo = hi = (lo + hi) / 2;
+        // the inner band kept inside the outer one
+        const a = Math.min(Math.max(m - fi[0] * il, lo), hi), b = Math.max(Math.min(m + fi[1] * iu, hi), lo);
+        expectClose(c.band, a <= b ? [a, b, lo, hi] : [(a + b) / 2, (a + b) / 2, lo, hi], 1e-12);
       }
-      scaled++;
-      const sc = used.map((d) => scoresOf(cells, d));
-      const fi = [kth(sc.map((x) => x.inner[0]), 0.5), kth(sc.map((x) => x.inner[1]), 0.5)];
-      const fo = [kth(sc.map((x) => x.outer[0]), 0.8), kth(sc.map((x) => x.outer[1]), 0.8)];
-      let lo = m - fo[0] * ol, hi = m + fo[1] * ou;
-      if (lo > hi) lo = hi = (lo + hi) / 2;
-      // the inner band kept inside the outer one
-      const a = Math.min(Math.max(m - fi[0] * il, lo), hi), b = Math.max(Math.min(m + fi[1] * iu, hi), lo);
-      expectClose(c.band, a <= b ? [a, b, lo, hi] : [(a + b) / 2, (a + b) / 2, lo, hi], 1e-12);
-    }
-    expect(scaled).toBeGreaterThan(cells.length / 3);
-    expect(moved).toBeGreaterThan(cells.length / 3);
-    expect(bt.rows.reduce((a, r) => a + r.recalibrated, 0)).toBe(new Set(cells.filter((c, i) => cells.findIndex((d) => d.origin === c.origin && d.horizon === c.horizon) === i && cells.some((d) => d.origin === c.origin && d.horizon === c.horizon && d.band.some((v, k) => v !== d.model[k]))).map((c) => `${c.origin}:${c.horizon}`)).size);
-  });
+      expect(scaled).toBeGreaterThan(cells.length / 3);
+      expect(moved).toBeGreaterThan(cells.length / 3);
+      expect(bt.rows.reduce((a, r) => a + r.recalibrated, 0)).toBe(new Set(cells.filter((c, i) => cells.findIndex((d) => d.origin === c.origin && d.horizon === c.horizon) === i && cells.some((d) => d.origin === c.origin && d.horizon === c.horizon && d.band.some((v, k) => v !== d.model[k]))).map((c) => `${c.origin}:${c.horizon}`)).size);
+    });
 
-  it('no look-ahead: changing every period after T leaves the bands of every origin up to T as they were', () => {
-    const a = chain();
-    const T = 25;
-    const b = structuredClone(a);
-    b.stateCounts = b.stateCounts.map((x, t) => (t > T ? x.slice().reverse() : x));
-    b.transitions = b.transitions.map((tr, k) => (k + 1 > T ? { ...tr, counts: tr.counts.map((row, i) => row.map((_, j) => tr.counts[j][i])), fresh: tr.fresh * 3 } : tr));
-    const o = { horizon: 4, window: 8, samples: 40, seed: 3, detail: true };
-    const ca = (backtest(a, o).cells as BacktestCell[]).filter((c) => c.period <= T);
-    const cb = (backtest(b, o).cells as BacktestCell[]).filter((c) => c.period <= T);
-    expect(ca.length).toBeGreaterThan(40);
-    expect(cb.map((c) => [c.origin, c.horizon, c.state, ...c.band])).toEqual(ca.map((c) => [c.origin, c.horizon, c.state, ...c.band]));
-    expect(ca.some((c) => c.band.some((v, k) => v !== c.model[k]))).toBe(true);
-  });
+    it(`no look-ahead: changing every period after T leaves the bands of every origin up to T as they were (${label})`, () => {
+      const a = chain();
+      const T = 25;
+      const b = structuredClone(a);
+      b.stateCounts = b.stateCounts.map((x, t) => (t > T ? x.slice().reverse() : x));
+      b.transitions = b.transitions.map((tr, k) => (k + 1 > T ? { ...tr, counts: tr.counts.map((row, i) => row.map((_, j) => tr.counts[j][i])), fresh: tr.fresh * 3 } : tr));
+      const o = { horizon: 4, window: 8, samples: 40, seed: 3, detail: true, ...weights };
+      const ca = (backtest(a, o).cells as BacktestCell[]).filter((c) => c.period <= T);
+      const cb = (backtest(b, o).cells as BacktestCell[]).filter((c) => c.period <= T);
+      expect(ca.length).toBeGreaterThan(40);
+      expect(cb.map((c) => [c.origin, c.horizon, c.state, ...c.band])).toEqual(ca.map((c) => [c.origin, c.horizon, c.state, ...c.band]));
+      expect(ca.some((c) => c.band.some((v, k) => v !== c.model[k]))).toBe(true);
+    });
 
-  it('the projection\'s factors and centre corrections use the latest origins of all scored (the recalibration output)', () => {
-    const tables = chain();
-    const bt = backtest(tables, { horizon: 3, window: 8, samples: 40, seed: 3, detail: true });
-    const cells = bt.cells as BacktestCell[];
-    const r = bt.recalibration!;
-    expect(r.minScores).toBe(30);
-    expect(r.scoreOrigins).toBe(15);
-    expect(r.minShiftOrigins).toBe(6);
-    for (const x of r.horizons) {
-      const used = latest(cells, { origin: Infinity, period: Infinity, horizon: x.horizon });
-      expect(x.scores).toBe(used.length);
-      const sc = used.map((d) => scoresOf(cells, d));
-      expectClose(x.inner!, [kth(sc.map((y) => y.inner[0]), 0.5), kth(sc.map((y) => y.inner[1]), 0.5)], 1e-12);
-      expectClose(x.outer!, [kth(sc.map((y) => y.outer[0]), 0.8), kth(sc.map((y) => y.outer[1]), 0.8)], 1e-12);
-      expect(x.shift).not.toBeNull();
-      x.shift!.forEach((v, s) => expectClose(v, shiftOf(used, s), 1e-12));
-    }
-  });
+    it(`the projection's factors and centre corrections use the latest origins of all scored (the recalibration output; ${label})`, () => {
+      const tables = chain();
+      const bt = backtest(tables, { horizon: 3, window: 8, samples: 40, seed: 3, detail: true, ...weights });
+      const cells = bt.cells as BacktestCell[];
+      const r = bt.recalibration!;
+      expect(r.minScores).toBe(30);
+      expect(r.scoreOrigins).toBe(15);
+      expect(r.minShiftOrigins).toBe(6);
+      expect(r.horizonWeights).toEqual(nb > 0 ? [1, nb] : [1]);
+      for (const x of r.horizons) {
+        const c = { origin: Infinity, period: Infinity, horizon: x.horizon };
+        const used = latest(cells, c);
+        expect(x.scores).toBe(used.length);
+        const sc = pooled(cells, c, nb).map((y) => ({ ...scoresOf(cells, y.d, nb), w: y.w }));
+        expectClose(x.inner!, [wKth(sc.map((y) => ({ x: y.inner[0], w: y.w })), 0.5), wKth(sc.map((y) => ({ x: y.inner[1], w: y.w })), 0.5)], 1e-12);
+        expectClose(x.outer!, [wKth(sc.map((y) => ({ x: y.outer[0], w: y.w })), 0.8), wKth(sc.map((y) => ({ x: y.outer[1], w: y.w })), 0.8)], 1e-12);
+        expect(x.shift).not.toBeNull();
+        x.shift!.forEach((v, s) => expectClose(v, shiftOf(cells, c, s, nb), 1e-12));
+      }
+    });
+  }
 });
