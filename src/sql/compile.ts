@@ -14,6 +14,8 @@
  *   tm_active   (user, period) with at least minEvents key events
  *   tm_life     each active period with the one before and after (window functions): its state, the
  *               state before it, and the quiet run after it (gaps and islands, see ./gaps.ts)
+ *   tm_lifepass (DuckDB without --by, CompileInput.lifePass) tm_life counted in one aggregate with
+ *               GROUPING SETS, read by every later step instead of tm_life (tm_lt, tm_lr)
  *   tm_spans    quiet runs as spans of periods (from tm_quiet: active periods counted by period, state
  *               and quiet run); tm_span_counts turns them into per-period counts
  *               with running sums over the periods, so nothing is expanded per user and period
@@ -104,6 +106,14 @@ export interface Compiled {
   rowPass: { name: string; select: string; split: Record<string, string> };
   /** Whether the fast-form pass was compiled (CompileInput.fastTimestamps, where it applies). */
   fastTimestamps: boolean;
+  /**
+   * Whether the steps after tm_life read it through `tm_lifepass` (CompileInput.lifePass, where it
+   * applies): one aggregate of tm_life with GROUPING SETS over (period, state before, state), (period,
+   * state, quiet run), (period, state, first period, what comes next, period before) and (user, first
+   * period), so that tm_life is read once and never stored; an engine that stores steps stores
+   * `tm_lifepass` instead of tm_life.
+   */
+  lifePass: boolean;
 }
 
 export interface CompileInput {
@@ -121,6 +131,12 @@ export interface CompileInput {
    * {@link Compiled.fastTimestamps}).
    */
   fastTimestamps?: boolean;
+  /**
+   * Read the per-active-period step through `tm_lifepass` (see {@link Compiled.lifePass}) rather than
+   * tm_life itself. Without `--by` only (its tables join tm_life's users with their values); ignored
+   * otherwise.
+   */
+  lifePass?: boolean;
 }
 
 /**
@@ -129,7 +145,7 @@ export interface CompileInput {
  */
 export const FULL_PARSE_REASON = '(timestamp for the full parse)';
 
-export function compile({ dialect: D, rules, source, range = {}, fastTimestamps = false }: CompileInput): Compiled {
+export function compile({ dialect: D, rules, source, range = {}, fastTimestamps = false, lifePass = false }: CompileInput): Compiled {
   const base = gapModel(rules);
   const outStates = stateNames(rules);
   const outIndex = (b: number) => outStates.indexOf(base.states[b]);
@@ -364,6 +380,25 @@ FROM tm_active${D.fence}`);
   CASE WHEN r.next_k IS NULL THEN b.end_key ELSE r.next_k - 1 END - r.k AS quiet${has.by ? `,
   CASE WHEN a.v IS NULL OR a.v = '' THEN '(none)' ELSE a.v END AS seg` : ''}
 FROM tm_runs r CROSS JOIN tm_bounds b${has.by ? '\nLEFT JOIN tm_attr a ON a.user_id = r.user_id AND a.k = r.first_k' : ''}${D.fence}`);
+  // tm_life read once (CompileInput.lifePass): each later step reads the counts of one grouping set
+  const LP = lifePass && !has.by;
+  const sumN = `CAST(SUM(l.n) AS ${D.bigint})`;
+  if (LP) {
+    cte('tm_lifepass', 'tm_life counted by (period, state before, state), (period, state, quiet run), (period, state, first period, next, period before) and (user, first period)',
+      `SELECT GROUPING(st_before) AS g_t, GROUPING(quiet) AS g_q, GROUPING(nc) AS g_r, GROUPING(user_id) AS g_d,
+  k, st_before, st, quiet, first_k, nc, pk, user_id, count(*) AS n, min(dk) AS dk
+FROM (
+  SELECT l.user_id, l.k, l.st_before, l.st, l.quiet, l.first_k,
+    CASE WHEN l.next_k IS NULL THEN 0 WHEN l.next_k = l.k + 1 THEN 1 ELSE 2 END AS nc,
+    CASE WHEN b.end_key - l.first_k <= ${WINDOW_AGES} OR (l.next_k IS NULL AND l.k = b.end_key) THEN l.prev_k END AS pk,
+    CASE WHEN l.quiet >= ${L + 1} THEN l.k + ${L + 1} END AS dk
+  FROM tm_life l CROSS JOIN tm_bounds b
+) x
+GROUP BY GROUPING SETS ((k, st_before, st), (k, st, quiet), (k, st, first_k, nc, pk), (user_id, first_k))`);
+    cte('tm_lt', 'active periods by period, state before (NULL: none, an arrival) and state', 'SELECT k, st_before, st, n FROM tm_lifepass WHERE g_t = 0');
+    cte('tm_lr', 'active periods by period, state, first period, what comes next (nc: 0 nothing, 1 the next period, 2 a later one) and the period before (pk: for cohorts of the window counts and in the last period)',
+      'SELECT k, st, first_k, nc, pk, n FROM tm_lifepass WHERE g_r = 0');
+  }
   // quiet runs as spans [lo, hi] of periods: state counts (sf = -1) and transitions (sf → st)
   const spans: string[] = [];
   // with --by, every quiet span keeps its user's segment, so the segment tables read the same counts
@@ -371,7 +406,7 @@ FROM tm_runs r CROSS JOIN tm_bounds b${has.by ? '\nLEFT JOIN tm_attr a ON a.user
   // the spans depend only on the period and the quiet run after it: those are counted once (n), so the
   // spans are made from a few rows a period rather than from every active period
   cte('tm_quiet', 'active periods followed by a quiet run: how many (n) by period, state and length of the run',
-    `SELECT k, st, quiet${G}, count(*) AS n FROM tm_life WHERE quiet >= 1 GROUP BY k, st, quiet${G}`);
+    LP ? 'SELECT k, st, quiet, n FROM tm_lifepass WHERE g_q = 0 AND quiet >= 1' : `SELECT k, st, quiet${G}, count(*) AS n FROM tm_life WHERE quiet >= 1 GROUP BY k, st, quiet${G}`);
   const span = (sf: string, st: number, lo: string, hi: string, when: string, clip: 'out_key' | 'flow_key + 1') =>
     spans.push(`SELECT ${sf} AS sf, ${st} AS st${G}, CASE WHEN ${lo} > ${clip} THEN ${lo} ELSE ${clip} END AS lo, ${hi} AS hi, n FROM tm_quiet CROSS JOIN tm_bounds WHERE ${when}`);
   if (L >= 1) span('-1', m.lapse, 'k + 1', `k + CASE WHEN quiet < ${L} THEN quiet ELSE ${L} END`, 'quiet >= 1', 'out_key');
@@ -403,19 +438,19 @@ LEFT JOIN tm_deltas d ON d.sf = g.sf AND d.st = g.st${has.by ? ' AND d.seg = g.s
     transitions: `SELECT pf.label AS period_from, pt.label AS period_to, ${name('x.sf')} AS state_from, ${name('x.st')} AS state_to, x.n AS users
 FROM (
   SELECT p, sf, st, SUM(n) AS n FROM (
-    SELECT l.k AS p, l.st_before AS sf, l.st, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.prev_k IS NOT NULL AND l.k - 1 >= b.flow_key GROUP BY l.k, l.st_before, l.st
+    SELECT l.k AS p, l.st_before AS sf, l.st, ${LP ? sumN : 'count(*)'} AS n FROM ${LP ? 'tm_lt' : 'tm_life'} l CROSS JOIN tm_bounds b WHERE l.${LP ? 'st_before' : 'prev_k'} IS NOT NULL AND l.k - 1 >= b.flow_key GROUP BY l.k, l.st_before, l.st
     UNION ALL
     SELECT p, sf, st, n FROM tm_span_counts WHERE sf >= 0 AND n > 0
   ) y GROUP BY p, sf, st
 ) x JOIN tm_periods pt ON pt.k = x.p JOIN tm_periods pf ON pf.k = x.p - 1
 ORDER BY x.p, x.sf, x.st`,
     arrivals: `SELECT pe.label AS period, x.n AS users
-FROM (SELECT l.k AS p, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.prev_k IS NULL AND l.k >= b.out_key GROUP BY l.k) x JOIN tm_periods pe ON pe.k = x.p
+FROM (SELECT l.k AS p, ${LP ? sumN : 'count(*)'} AS n FROM ${LP ? 'tm_lt' : 'tm_life'} l CROSS JOIN tm_bounds b WHERE l.${LP ? 'st_before' : 'prev_k'} IS NULL AND l.k >= b.out_key GROUP BY l.k) x JOIN tm_periods pe ON pe.k = x.p
 ORDER BY x.p`,
     stateCounts: `SELECT pe.label AS period, ${name('x.s')} AS state, x.n AS users
 FROM (
   SELECT p, s, SUM(n) AS n FROM (
-    SELECT l.k AS p, l.st AS s, count(*) AS n FROM tm_life l CROSS JOIN tm_bounds b WHERE l.k >= b.out_key GROUP BY l.k, l.st
+    SELECT l.k AS p, l.st AS s, ${LP ? sumN : 'count(*)'} AS n FROM ${LP ? 'tm_lt' : 'tm_life'} l CROSS JOIN tm_bounds b WHERE l.k >= b.out_key GROUP BY l.k, l.st
     UNION ALL
     SELECT p, st AS s, n FROM tm_span_counts WHERE sf = -1 AND n > 0
   ) y GROUP BY p, s
@@ -443,9 +478,11 @@ ORDER BY ${D.binaryOrder('x.seg')}, x.p, x.sf, x.st`
       : `SELECT CAST(NULL AS ${D.text}) AS segment, label AS period_from, label AS period_to, CAST(NULL AS ${D.text}) AS state_from, CAST(NULL AS ${D.text}) AS state_to, 0 AS users FROM tm_periods WHERE 1 = 0`,
     retentionCells: `SELECT pe.label AS period_to, ${name('x.st')} AS state_from, x.split, x.segment, x.users, x.retained
 FROM (
-  SELECT l.k + 1 AS p, l.st, 'tenure' AS split, ${band('l.k - l.first_k')} AS segment, count(*) AS users,
+  SELECT l.k + 1 AS p, l.st, 'tenure' AS split, ${band('l.k - l.first_k')} AS segment, ${LP ? `${sumN} AS users,
+    CAST(SUM(CASE WHEN l.nc = 1 THEN l.n ELSE 0 END) AS ${D.bigint}) AS retained
+  FROM tm_lr l` : `count(*) AS users,
     SUM(CASE WHEN l.next_k = l.k + 1 THEN 1 ELSE 0 END) AS retained
-  FROM tm_life l CROSS JOIN tm_bounds b WHERE l.k >= b.flow_key AND l.k < b.end_key GROUP BY l.k, l.st, ${band('l.k - l.first_k')}${has.by ? `
+  FROM tm_life l`} CROSS JOIN tm_bounds b WHERE l.k >= b.flow_key AND l.k < b.end_key GROUP BY l.k, l.st, ${band('l.k - l.first_k')}${has.by ? `
   UNION ALL
   SELECT l.k + 1 AS p, l.st, 'attribute' AS split, ${segment} AS segment, count(*) AS users,
     SUM(CASE WHEN l.next_k = l.k + 1 THEN 1 ELSE 0 END) AS retained
@@ -455,12 +492,17 @@ FROM (
 ORDER BY x.p, x.st, x.split DESC, x.segment`,
     cohortActivity: `SELECT pe.label AS cohort, x.age, SUM(x.a) AS active, SUM(x.l) AS last_active, SUM(x.f) AS last_active_before_final
 FROM (
-  SELECT l.first_k AS c, l.k - l.first_k AS age, count(*) AS a, SUM(CASE WHEN l.next_k IS NULL THEN 1 ELSE 0 END) AS l,
+${LP ? `  SELECT l.first_k AS c, l.k - l.first_k AS age, ${sumN} AS a, CAST(SUM(CASE WHEN l.nc = 0 THEN l.n ELSE 0 END) AS ${D.bigint}) AS l,
+    CAST(SUM(CASE WHEN l.nc = 0 AND l.k < b.end_key THEN l.n ELSE 0 END) AS ${D.bigint}) AS f
+  FROM tm_lr l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key GROUP BY l.first_k, l.k - l.first_k
+  UNION ALL
+  SELECT l.first_k AS c, l.pk - l.first_k AS age, 0 AS a, 0 AS l, ${sumN} AS f
+  FROM tm_lr l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND l.nc = 0 AND l.k = b.end_key AND l.first_k < b.end_key GROUP BY l.first_k, l.pk - l.first_k` : `  SELECT l.first_k AS c, l.k - l.first_k AS age, count(*) AS a, SUM(CASE WHEN l.next_k IS NULL THEN 1 ELSE 0 END) AS l,
     SUM(CASE WHEN l.next_k IS NULL AND l.k < b.end_key THEN 1 ELSE 0 END) AS f
   FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key GROUP BY l.first_k, l.k - l.first_k
   UNION ALL
   SELECT l.first_k AS c, l.prev_k - l.first_k AS age, 0 AS a, 0 AS l, count(*) AS f
-  FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND l.next_k IS NULL AND l.k = b.end_key AND l.first_k < b.end_key GROUP BY l.first_k, l.prev_k - l.first_k
+  FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND l.next_k IS NULL AND l.k = b.end_key AND l.first_k < b.end_key GROUP BY l.first_k, l.prev_k - l.first_k`}
 ) x JOIN tm_periods pe ON pe.k = x.c
 GROUP BY x.c, pe.label, x.age
 ORDER BY x.c, x.age`,
@@ -483,11 +525,14 @@ ORDER BY x.split DESC, x.grp, x.c, x.duration, x.observed`,
   };
   cte('tm_ages', `the ages 0 to ${WINDOW_AGES}`, D.series('0', String(WINDOW_AGES), '(SELECT 1 AS one) o'));
   cte('tm_wmembers', `each active period of members of cohorts observed over at most ${WINDOW_AGES} ages: the ages whose next active age is this one`,
-    `SELECT l.first_k AS c, CASE WHEN l.prev_k IS NULL THEN 0 ELSE l.prev_k - l.first_k + 1 END AS a_lo, l.k - l.first_k AS nx
+    // through tm_lifepass: counted already (n), and pk is the period before for these cohorts
+    LP ? `SELECT l.first_k AS c, CASE WHEN l.pk IS NULL THEN 0 ELSE l.pk - l.first_k + 1 END AS a_lo, l.k - l.first_k AS nx, l.n
+FROM tm_lr l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND b.end_key - l.first_k <= ${WINDOW_AGES}`
+      : `SELECT l.first_k AS c, CASE WHEN l.prev_k IS NULL THEN 0 ELSE l.prev_k - l.first_k + 1 END AS a_lo, l.k - l.first_k AS nx
 FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND b.end_key - l.first_k <= ${WINDOW_AGES}`);
   cte('tm_whist', 'members by cohort, age a and their next active age from a on (nx): counted first, then spread over the ages a',
     `SELECT w.c, ag.x AS a, w.nx, SUM(w.n) AS n
-FROM (SELECT c, a_lo, nx, count(*) AS n FROM tm_wmembers GROUP BY c, a_lo, nx) w JOIN tm_ages ag ON ag.x >= w.a_lo AND ag.x <= w.nx
+FROM (SELECT c, a_lo, nx, ${LP ? `CAST(SUM(n) AS ${D.bigint})` : 'count(*)'} AS n FROM tm_wmembers GROUP BY c, a_lo, nx) w JOIN tm_ages ag ON ag.x >= w.a_lo AND ag.x <= w.nx
 GROUP BY w.c, ag.x, w.nx`);
   // the cohorts from tm_whist (each member gives it a row), not from tm_wmembers (a row an active
   // period): DuckDB and PostgreSQL store a step that two others read, and writing tm_wmembers cost
@@ -496,7 +541,9 @@ GROUP BY w.c, ag.x, w.nx`);
     `SELECT wc.c, a1.x AS a, a2.x AS b FROM (SELECT DISTINCT c FROM tm_whist) wc CROSS JOIN tm_ages a1 CROSS JOIN tm_ages a2 CROSS JOIN tm_bounds bd
 WHERE a1.x <= a2.x AND a2.x <= bd.end_key - wc.c`);
   cte('tm_dur', 'each member past the warm-up: periods to the first dormant one (observed) or to the end of the range',
-    `SELECT user_id, first_k, CASE WHEN dk IS NULL THEN end_key - first_k ELSE dk - first_k END AS duration, CASE WHEN dk IS NULL THEN 0 ELSE 1 END AS observed
+    LP ? `SELECT first_k, CASE WHEN dk IS NULL THEN end_key - first_k ELSE dk - first_k END AS duration, CASE WHEN dk IS NULL THEN 0 ELSE 1 END AS observed
+FROM (SELECT d.first_k, b.end_key, d.dk FROM tm_lifepass d CROSS JOIN tm_bounds b WHERE d.g_d = 0 AND d.first_k >= b.flow_key) x`
+      : `SELECT user_id, first_k, CASE WHEN dk IS NULL THEN end_key - first_k ELSE dk - first_k END AS duration, CASE WHEN dk IS NULL THEN 0 ELSE 1 END AS observed
 FROM (
   SELECT l.user_id, l.first_k, b.end_key, MIN(CASE WHEN l.quiet >= ${L + 1} THEN l.k + ${L + 1} END) AS dk
   FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key GROUP BY l.user_id, l.first_k, b.end_key
@@ -514,7 +561,7 @@ FROM (
       : `SELECT CAST(NULL AS ${D.text}) AS event, 0 AS n FROM tm_bounds WHERE 1 = 0`,
     lastPeriod: 'SELECT coalesce(SUM(u.ev), 0) AS n, max(u.max_wall) AS max_wall FROM tm_uk u CROSS JOIN tm_bounds b WHERE u.k = b.end_key',
     // one first active period a user
-    users: 'SELECT count(*) AS users FROM tm_life WHERE prev_k IS NULL',
+    users: LP ? 'SELECT coalesce(SUM(n), 0) AS users FROM tm_lt WHERE st_before IS NULL' : 'SELECT count(*) AS users FROM tm_life WHERE prev_k IS NULL',
     attributes: attrCols.length
       ? `SELECT ${attrCols.map((_, i) => `SUM(CASE WHEN a = ${i} THEN 1 ELSE 0 END) AS values_${i}`).join(', ')} FROM tm_attr_values`
       : 'SELECT 0 AS none FROM tm_bounds',
@@ -542,5 +589,5 @@ GROUP BY GROUPING SETS ((uu, uk${has.by ? ', ub' : ''}), (status, reason, event)
       ...(attrCols.length ? { tm_attr_values: attrCols.map((_, i) => `SELECT ${i} AS a, ua_${i} AS v FROM tm_rowpass WHERE g_a_${i} = 0 AND ua_${i} IS NOT NULL`).join('\nUNION ALL\n') } : {}),
     },
   };
-  return { ctes, tables, facts, model: m, rowPass, fastTimestamps: lean };
+  return { ctes, tables, facts, model: m, rowPass, fastTimestamps: lean, lifePass: LP };
 }

@@ -3,8 +3,9 @@
  * event files or a database table, out of core. Only the waist tables and a few counts come back to
  * JavaScript; never an event row.
  *
- * The per-row stage (parsing, each row's fate) and the per-active-period stage (tm_life) are stored
- * as temporary tables once; every table and count is then a small query on them.
+ * The per-row stage (parsing, each row's fate) and the per-active-period stage (tm_life; without
+ * --by its counts, tm_lifepass) are stored as temporary tables once; every table and count is then a
+ * small query on them.
  */
 import { performance } from 'node:perf_hooks';
 import { createRequire } from 'node:module';
@@ -36,6 +37,12 @@ export interface DuckdbOptions {
   threads?: number;
   /** Where DuckDB spills what does not fit in memory (default: DuckDB's, beside the database or in the temp folder). */
   tempDirectory?: string;
+  /**
+   * Read tm_life once, into the small counts of `tm_lifepass`, rather than storing it for a dozen
+   * queries (compile.ts, CompileInput.lifePass; without --by). Default true; false stores tm_life
+   * (the tests compare the two).
+   */
+  lifePass?: boolean;
   /** Called after each stage with its name and wall seconds (for the benchmark). */
   onStage?(stage: string, seconds: number): void;
 }
@@ -77,7 +84,7 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       describe: async (rel): Promise<ColumnType[]> =>
         (await rowsOf(c, `DESCRIBE SELECT * FROM ${rel}`)).map((r) => ({ name: String(r.column_name), type: String(r.column_type) })),
     }, range.by);
-    const compileWith = (fastTimestamps: boolean) => compile({ dialect: DIALECT.duckdb, rules, source: prepared.source, range: { fromKey, toKey, warmup: range.warmup }, fastTimestamps });
+    const compileWith = (fastTimestamps: boolean) => compile({ dialect: DIALECT.duckdb, rules, source: prepared.source, range: { fromKey, toKey, warmup: range.warmup }, fastTimestamps, lifePass: options.lifePass ?? true });
     let compiled = compileWith(prepared.fastTimestamps);
     let t0 = performance.now();
     const stage = (name: string) => {
@@ -116,7 +123,7 @@ export async function runDuckdb(input: DuckdbInput, rules: Rules, range: RangeOp
       }
     }
     // the small steps that many queries read are stored too: computed once, not once a query
-    for (const name of [...(prepared.source.has.by ? ['tm_uk', 'tm_attr'] : []), 'tm_bounds', 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
+    for (const name of [...(prepared.source.has.by ? ['tm_uk', 'tm_attr'] : []), 'tm_bounds', compiled.lifePass ? 'tm_lifepass' : 'tm_life', 'tm_periods', 'tm_span_counts']) await store(name);
     const query = (final: string) => rowsOf(c, withCtes(compiled.ctes, final, stored));
     const readerRejects = await countRejects(c, prepared.rejects, input);
     const accounting = (await query(compiled.facts.accounting)).map((r) => ({ status: String(r.status), reason: r.reason === null ? null : String(r.reason), n: Number(r.n) }));
