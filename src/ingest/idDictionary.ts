@@ -6,7 +6,7 @@
  * time it is seen. Values given as strings (NDJSON, escaped CSV fields) go through the same table, so
  * every path gives a value the same code.
  *
- * Open addressing with linear probing over [hash, code + 1 (0 empty), arena offset, length, first 16 bytes] slots
+ * Open addressing with linear probing over [hash, code, arena offset, length, first 16 bytes] slots
  * (one cache miss finds a slot with what its comparison needs: an id of up to 16 bytes is compared
  * there, a longer one then in the arena), grown at half full; a dictionary of at most 8 values (event
  * names, most attributes) is scanned by length and bytes instead, with no hash; the hash is a
@@ -31,7 +31,7 @@ export interface DictionaryBytes {
 
 /** Values with at most this many distinct entries are found by a scan of their lengths and bytes, with no hash. */
 const SMALL = 8;
-/** Int32s a slot: hash, code + 1 (0: an empty slot), arena offset, length, and the first 16 bytes packed little-endian. */
+/** Int32s a slot: hash, code, arena offset, length, and the first 16 bytes packed little-endian. */
 const SLOT = 8;
 
 /** Decoding access to a Buffer's bytes (node's own methods, which take no range check object). */
@@ -65,7 +65,7 @@ export class IdDictionary {
   private decodedEnd = 0;
   /** Byte length of each value, by code (the arena holds the values in code order). */
   private lens = new Int32Array(1024);
-  private slots = new Int32Array(SLOT * 1024);
+  private slots = new Int32Array(SLOT * 1024).fill(-1);
   private arena = new Uint8Array(1 << 16);
   private arenaEnd = 0;
   /** Arena offset and length of each value while there are at most SMALL of them. */
@@ -112,7 +112,7 @@ export class IdDictionary {
     let at = h & mask;
     for (;;) {
       const k = at << 3;
-      if (slots[k + 1] === 0) return at;
+      if (slots[k + 1] < 0) return at;
       if (slots[k] === h && slots[k + 3] === len && slots[k + 4] === w0 && slots[k + 5] === w1 && slots[k + 6] === w2 && slots[k + 7] === w3) {
         if (len <= 16) return at;
         const o = slots[k + 2];
@@ -171,7 +171,7 @@ export class IdDictionary {
       return this.small(b, s, e);
     }
     const at = this.probe(b, s, e);
-    const c = this.slots[(at << 3) + 1] - 1;
+    const c = this.slots[(at << 3) + 1];
     this.missAt = c < 0 ? at : -1;
     return c;
   }
@@ -200,7 +200,7 @@ export class IdDictionary {
       if (c >= 0) return c;
     }
     const at = this.probe(b, s, e);
-    const found = this.slots[(at << 3) + 1] - 1;
+    const found = this.slots[(at << 3) + 1];
     return found >= 0 ? found : this.insert(at, b, s, e, text?.(b, s, e));
   }
 
@@ -212,7 +212,7 @@ export class IdDictionary {
     this.missAt = -1;
     const bytes = Buffer.from(id, 'utf8');
     const at = this.probe(bytes, 0, bytes.length);
-    const found = this.slots[(at << 3) + 1] - 1;
+    const found = this.slots[(at << 3) + 1];
     return found >= 0 ? found : this.insert(at, bytes, 0, bytes.length, id);
   }
 
@@ -239,7 +239,7 @@ export class IdDictionary {
     const slots = this.slots;
     const k = at << 3;
     slots[k] = this.h;
-    slots[k + 1] = c + 1;
+    slots[k + 1] = c;
     slots[k + 2] = this.arenaEnd;
     slots[k + 3] = len;
     slots[k + 4] = this.w0;
@@ -259,13 +259,12 @@ export class IdDictionary {
 
   private grow(): void {
     const old = this.slots;
-    // zero is an empty slot, so the new table needs no fill: its pages are first touched by the entries moved into it
-    const slots = new Int32Array(old.length * 2);
+    const slots = new Int32Array(old.length * 2).fill(-1);
     const mask = (slots.length >> 3) - 1;
     for (let i = 0; i < old.length; i += SLOT) {
-      if (old[i + 1] === 0) continue;
+      if (old[i + 1] < 0) continue;
       let at = old[i] & mask;
-      while (slots[(at << 3) + 1] !== 0) at = (at + 1) & mask;
+      while (slots[(at << 3) + 1] >= 0) at = (at + 1) & mask;
       const k = at << 3;
       for (let j = 0; j < SLOT; j++) slots[k + j] = old[i + j];
     }
