@@ -4,7 +4,8 @@
  * thread's (csv.ts decides whether the worker's part can be used; see readCsv).
  *
  * The split leans past the middle by what this thread reads while the worker starts (loading the
- * reader's modules takes it a few tenths of a second), so that both end at about the same time.
+ * reader's modules takes it a few tenths of a second), so that both end at about the same time; less
+ * when the launcher started the worker early (prestart.ts), which then only has to take its job.
  * Files smaller than {@link PARALLEL_MIN_BYTES}, FIFOs, standard input and machines with one core are
  * read on one thread. A worker that cannot start (its module missing in a bundle, no memory) is no
  * error: this thread then reads on alone.

@@ -24,8 +24,9 @@ export const WAIT_FOR_JOB = 'tidemark-wait-for-job';
 /**
  * Whether `argv` (the command's arguments, after `node bin.js`) names an event file read on two threads:
  * a regular file of at least {@link PARALLEL_MIN_BYTES} given to `--events` that is CSV by its extension
- * (`.csv`, `.txt`) or by `--input-format csv`. Anything else (gzip, NDJSON, Parquet, a pipe, a missing
- * file, `--help`) is false: a wrong guess only costs a worker's start-up on the other core, or a late one.
+ * (`.csv`, `.txt`) or by `--input-format csv`, read by the memory engine (no `--engine` but `memory`).
+ * Anything else (gzip, NDJSON, Parquet, a pipe, a missing file, another engine, `--help`) is false: a
+ * wrong guess only costs a worker's start-up on the other core, or a late one.
  */
 export function readsLargeCsv(argv: readonly string[]): boolean {
   if (argv.includes('--help') || argv.includes('-h')) return false;
@@ -33,7 +34,9 @@ export function readsLargeCsv(argv: readonly string[]): boolean {
   let format: string | undefined;
   for (let i = 0; i < argv.length; i++) {
     const a = argv[i];
-    if (a === '--input-format') format = argv[i + 1];
+    if (a === '--engine' || a.startsWith('--engine=')) {
+      if ((a === '--engine' ? argv[i + 1] : a.slice('--engine='.length)) !== 'memory') return false;
+    } else if (a === '--input-format') format = argv[i + 1];
     else if (a.startsWith('--input-format=')) format = a.slice('--input-format='.length);
     else if (a.startsWith('--events=')) files.push(a.slice('--events='.length));
     else if (a === '--events') for (let j = i + 1; j < argv.length && !argv[j].startsWith('-'); j++) files.push(argv[j]);

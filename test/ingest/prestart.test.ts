@@ -42,6 +42,15 @@ describe('readsLargeCsv (which command lines start the reading worker early)', (
     expect(readsLargeCsv(['flows'])).toBe(false);
   });
 
+  it('is false when another engine reads the events (they have their own readers)', () => {
+    const big = sized('big-engine.csv', PARALLEL_MIN_BYTES);
+    expect(readsLargeCsv(['flows', '--events', big, '--engine', 'memory'])).toBe(true);
+    expect(readsLargeCsv(['flows', '--engine=memory', '--events', big])).toBe(true);
+    expect(readsLargeCsv(['flows', '--events', big, '--engine', 'duckdb'])).toBe(false);
+    expect(readsLargeCsv(['flows', '--engine=duckdb', '--events', big])).toBe(false);
+    expect(readsLargeCsv(['waist', '--engine', 'postgres', '--events', big])).toBe(false);
+  });
+
   it('follows --input-format over the extension, and leaves out gzip, NDJSON, Parquet and folders', () => {
     const big = sized('big.data', PARALLEL_MIN_BYTES);
     const gz = sized('big.csv.gz', PARALLEL_MIN_BYTES);
