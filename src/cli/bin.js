@@ -23,11 +23,7 @@ function staleBuild() {
 
 async function loadMain() {
   const stale = staleBuild();
-  if (!stale) {
-    // a large CSV file's reading worker starts now, on the other core, while the command loads (prestart.ts)
-    (await import('../../.build/ingest/prestart.js')).prestartReader(process.argv.slice(2));
-    return (await import('../../.build/cli/main.js')).main;
-  }
+  if (!stale) return (await import('../../.build/cli/main.js')).main;
   let register;
   try {
     ({ register } = await import('tsx/esm/api'));

@@ -4,8 +4,7 @@
  * thread's (csv.ts decides whether the worker's part can be used; see readCsv).
  *
  * The split leans past the middle by what this thread reads while the worker starts (loading the
- * reader's modules takes it a few tenths of a second), so that both end at about the same time; less
- * when the launcher started the worker early (prestart.ts), which then only has to take its job.
+ * reader's modules takes it a few tenths of a second), so that both end at about the same time.
  * Files smaller than {@link PARALLEL_MIN_BYTES}, FIFOs, standard input and machines with one core are
  * read on one thread. A worker that cannot start (its module missing in a bundle, no memory) is no
  * error: this thread then reads on alone.
@@ -27,16 +26,12 @@ import type { Rules } from '../rules/schema.js';
 import { TidemarkError, type ErrorCode, type ErrorLocation } from '../errors.js';
 import { readCsvPart, type CsvPartJob, type PartResult, type SplitOptions } from './csv.js';
 import { EventLogBuilder, type PartialLog } from './eventLog.js';
-import { claimPrestarted, hasPrestarted, PARALLEL_MIN_BYTES } from './prestart.js';
 
 /** Smallest file read on two threads: 32 MiB (about 600,000 events; below it a worker's start-up costs more than it saves). */
-export { PARALLEL_MIN_BYTES };
+export const PARALLEL_MIN_BYTES = 32 << 20;
 
 /** Bytes this thread reads while the worker starts, added to its share (about 0.3 s of reading). */
 export const WORKER_START_BYTES = 24 << 20;
-
-/** The same for a worker started early by the launcher (prestart.ts), which only has to take its job. */
-export const PRESTARTED_WORKER_BYTES = 4 << 20;
 
 /** What the worker is given. */
 export interface PartJob {
@@ -60,7 +55,7 @@ export function twoThreadSplit(job: Omit<PartJob, 'part'>, overrides: Partial<Om
   const { readPart, ...rest } = overrides;
   return {
     minBytes: PARALLEL_MIN_BYTES,
-    splitNear: (size, headerEnd) => Math.min(size, headerEnd + Math.floor((size - headerEnd) / 2) + (hasPrestarted() ? PRESTARTED_WORKER_BYTES : WORKER_START_BYTES) / 2),
+    splitNear: (size, headerEnd) => Math.min(size, headerEnd + Math.floor((size - headerEnd) / 2) + WORKER_START_BYTES / 2),
     readPart: readPart ? (part, onBytes) => ({ result: readPart({ ...job, part }, onBytes), cancel: () => undefined }) : (part, onBytes) => startPart({ ...job, part }, onBytes),
     ...rest,
   };
@@ -129,13 +124,8 @@ function workerBundle(): Promise<string | undefined> {
   return bundle;
 }
 
-/** A worker running partWorker: the one the launcher started early, or compiled JavaScript as it is, or TypeScript sources bundled (see above). */
+/** A worker running partWorker: compiled JavaScript as it is, TypeScript sources bundled (see above). */
 async function newWorker(job: PartJob): Promise<Worker> {
-  const early = claimPrestarted();
-  if (early) {
-    early.postMessage(job);
-    return early;
-  }
   if (import.meta.url.endsWith('.js')) return new Worker(new URL('./partWorker.js', import.meta.url), { workerData: job });
   const code = await workerBundle();
   if (code !== undefined) return new Worker(code, { eval: true, workerData: job });

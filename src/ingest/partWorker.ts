@@ -5,7 +5,6 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import type { PartialLog } from './eventLog.js';
 import { readPartHere, type PartJob } from './parallel.js';
-import { WAIT_FOR_JOB } from './prestart.js';
 
 /** The buffers of a partial log, to transfer rather than copy. */
 function buffers(p: PartialLog): ArrayBuffer[] {
@@ -31,7 +30,5 @@ async function work(job: PartJob): Promise<void> {
   }
 }
 
-// a function, not top-level await: this module is also bundled as a CommonJS script (parallel.ts).
-// A worker the launcher started early (prestart.ts) is given its job as its first message.
-if (workerData === WAIT_FOR_JOB) parentPort!.once('message', (job: PartJob) => void work(job));
-else void work(workerData as PartJob);
+// a function, not top-level await: this module is also bundled as a CommonJS script (parallel.ts)
+void work(workerData as PartJob);

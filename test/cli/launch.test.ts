@@ -72,57 +72,6 @@ describe('the built command', () => {
   }, 60_000); // a bound on a hang: loading the engine twice (child and in-process) takes seconds when busy
 });
 
-describe('the reading worker started early by the launcher (prestart.ts; compiled build only)', () => {
-  /** A CSV file of the makerspace's bookings past the two-thread size (invented), with `bad` as its row that far into the file, if given. */
-  function largeBookings(name: string, bad?: { at: number; row: string }): { file: string; badLine: number } {
-    const rows = ['user_id,timestamp,event,plan'];
-    const start = Date.UTC(2026, 0, 5);
-    for (let i = 0; rows.length * 46 < 34 << 20; i++) {
-      rows.push(`m${(i * 7919) % 40_009},${new Date(start + ((i * 104_729) % 20_000_000) * 1000).toISOString()},${i % 4 ? 'booking_made' : 'tool_reserved'},${i % 3 ? 'pro' : 'hobby'}`);
-    }
-    const at = bad ? Math.floor(rows.length * bad.at) : -1;
-    if (bad) rows.splice(at, 0, bad.row);
-    const file = join(dir, name);
-    writeFileSync(file, `${rows.join('\n')}\n`);
-    return { file, badLine: at + 1 };
-  }
-
-  it('reads the second part of a large CSV file: the same log as one thread (the one-thread read is the reference)', () => {
-    const { file } = largeBookings('large.csv');
-    const script = `
-      import { readFileSync } from 'node:fs';
-      const [root, file] = process.argv.slice(1);
-      const { prestartReader, hasPrestarted } = await import(root + '/.build/ingest/prestart.js');
-      prestartReader(['flows', '--events', file]);
-      const started = hasPrestarted();
-      const { readEvents } = await import(root + '/.build/ingest/read.js');
-      const { parseRules } = await import(root + '/.build/rules/load.js');
-      const rules = parseRules(readFileSync(root + '/rules/weekly.yaml', 'utf8'), 'weekly.yaml');
-      const plain = (log) => JSON.stringify(log, (k, v) => ArrayBuffer.isView(v) ? Array.from(v) : v);
-      const two = await readEvents([file], { rules });
-      const claimed = !hasPrestarted();
-      const one = await readEvents([file], { rules, parallel: false });
-      console.log(JSON.stringify({ started, claimed, rows: one.size, same: plain(two) === plain(one) }));
-    `;
-    const r = spawnSync(process.execPath, ['--input-type=module', '-e', script, dir, file], { cwd: dir, encoding: 'utf8', maxBuffer: 1 << 26 });
-    expect(r.stderr).toBe('');
-    const got = JSON.parse(r.stdout) as { started: boolean; claimed: boolean; rows: number; same: boolean };
-    expect(got.rows).toBeGreaterThan(700_000);
-    expect(got).toEqual({ started: true, claimed: true, rows: got.rows, same: true });
-  }, 120_000); // a bound on a hang: two reads of a 34 MB file
-
-  it('a bad row in the worker\'s part: the same message and exit code as the sources run in-process', async () => {
-    const { file, badLine } = largeBookings('large-bad.csv', { at: 0.8, row: 'm7,not a time,booking_made,pro' });
-    const built = tidemark(dir, 'flows', '--events', file, '--format', 'json');
-    const io = bufferIo();
-    const code = await main(['flows', '--events', file, '--format', 'json'], io);
-    expect(code).toBe(1);
-    expect([built.code, built.out, built.err]).toEqual([code, io.out, io.err]);
-    // the line counts over the whole file, though the worker read it from its part's start
-    expect(built.err).toContain(`large-bad.csv:${badLine}, column timestamp: bad timestamp: 'not a time'`);
-  }, 120_000);
-});
-
 describe('the launcher without a current build', () => {
   it('runs the sources through tsx, with a one-line note, when a source is newer than its build', () => {
     const later = new Date(Date.now() + 60_000);
