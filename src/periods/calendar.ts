@@ -72,8 +72,16 @@ export function periodEndDay(key: number, scheme: PeriodScheme): number {
 
 /** Label of a period key: its start date, `YYYY-MM-DD`. Example (week, monday): the key of 2027-01-01 → '2026-12-28'. */
 export function periodLabel(key: number, scheme: PeriodScheme): string {
-  return DateTime.fromMillis(periodStartDay(key, scheme) * MS_PER_DAY, { zone: 'utc' }).toISODate() as string;
+  const ms = periodStartDay(key, scheme) * MS_PER_DAY;
+  // years 0–9999 from the built-in ISO form (luxon's first date formatting asks Intl for the system
+  // locale, tens of ms of start-up); any other year as luxon writes it (±YYYYYY)
+  if (ms >= YEAR_0_MS && ms < YEAR_10000_MS) return new Date(ms).toISOString().slice(0, 10);
+  return DateTime.fromMillis(ms, { zone: 'utc' }).toISODate() as string;
 }
+
+/** 0000-01-01 and 10000-01-01 UTC, in ms since the epoch (Date.UTC reads years 0–99 as 1900–1999, so they are written out). */
+const YEAR_0_MS = -62_167_219_200_000;
+const YEAR_10000_MS = 253_402_300_800_000;
 
 /** Parse a `YYYY-MM-DD` date into the key of the period holding it, or undefined when not a valid date. */
 export function periodKeyOfDate(text: string, scheme: PeriodScheme): number | undefined {

@@ -17,16 +17,23 @@ const HOURS = Date.UTC(2201, 0, 1) / HOUR - FIRST_HOUR;
 const UNKNOWN = -32768;
 const CHANGES = -32767;
 
+/** IANA names of UTC itself: offset 0 at every instant, known without luxon (whose first look at a zone loads the time zone data). */
+export const FIXED_UTC_ZONES: ReadonlySet<string> = new Set(['UTC', 'Etc/UTC']);
+
 export class ZoneClock {
-  private readonly zone: IANAZone;
+  /** luxon's zone, made on first use (never for UTC). */
+  private zoneMade: IANAZone | undefined;
   private readonly cache = new Map<number, number>();
   private readonly fixed: number | undefined;
   /** Offsets (whole minutes) of the hours from FIRST_HOUR on; UNKNOWN not yet asked, CHANGES for an hour holding a change (or an offset in seconds). */
   private table: Int16Array | undefined;
 
-  constructor(zoneName: string) {
-    this.zone = IANAZone.create(zoneName);
-    this.fixed = zoneName === 'UTC' || zoneName === 'Etc/UTC' ? 0 : undefined;
+  constructor(private readonly zoneName: string) {
+    this.fixed = FIXED_UTC_ZONES.has(zoneName) ? 0 : undefined;
+  }
+
+  private get zone(): IANAZone {
+    return (this.zoneMade ??= IANAZone.create(this.zoneName));
   }
 
   /** UTC offset in minutes at an instant (ms since the epoch). */

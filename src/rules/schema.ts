@@ -6,6 +6,7 @@
  */
 import { z } from 'zod';
 import { IANAZone } from 'luxon';
+import { FIXED_UTC_ZONES } from '../periods/zone.js';
 import { SPLITTABLE, STATES } from '../lifecycle/states.js';
 import { WEEKDAYS } from '../periods/weekdays.js';
 
@@ -95,7 +96,8 @@ export const rulesSchema = z
     timezone: z
       .string()
       .default('UTC')
-      .refine((tz) => IANAZone.isValidZone(tz), {
+      // UTC, the default, is known without asking luxon (whose first check loads the time zone data: tens of ms of start-up)
+      .refine((tz) => FIXED_UTC_ZONES.has(tz) || IANAZone.isValidZone(tz), {
         message: 'not a known IANA time zone name (for example UTC, Europe/Berlin, America/Chicago)',
       })
       .describe('IANA time zone used to put timestamps into periods.'),

@@ -102,3 +102,26 @@ describe('IdDictionary.addMissed (a new id stored where its look-up ended)', () 
     );
   });
 });
+
+describe('IdDictionary past many growths', () => {
+  it('200,000 ids looked up by their bytes (find, then addMissed for a new one) get the codes a string-keyed Map gives, the reference', () => {
+    const d = new IdDictionary();
+    const ref = new Map<string, number>();
+    const wrong: string[] = [];
+    let x = 2026;
+    for (let i = 0; i < 600_000; i++) {
+      x = (Math.imul(x, 1103515245) + 12345) >>> 0;
+      const id = (x >>> 8) % 3 === 0 ? `member-${(x >>> 4) % 200_000}-of-the-makerspace` : `m${(x >>> 4) % 200_000}`;
+      const b = Buffer.from(`,${id},`);
+      let c = d.find(b, 1, b.length - 1);
+      if (c !== (ref.get(id) ?? -1)) wrong.push(`${id}: ${c} for ${ref.get(id) ?? -1}`);
+      if (c < 0) {
+        c = d.addMissed(b, 1, b.length - 1);
+        ref.set(id, c);
+      }
+    }
+    expect(wrong.slice(0, 5)).toEqual([]);
+    expect(d.size).toBe(ref.size);
+    expect(d.values).toEqual([...ref.keys()]);
+  }, 60_000); // a bound on a hang
+});

@@ -6,7 +6,9 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { parseTimestamp, parseTimestampBytes } from '../../src/ingest/timestamp.js';
-import { ZoneClock } from '../../src/periods/zone.js';
+import { FIXED_UTC_ZONES, ZoneClock } from '../../src/periods/zone.js';
+import { parseRules } from '../../src/rules/load.js';
+import { IANAZone } from 'luxon';
 
 const zones = ['UTC', 'America/Chicago', 'Asia/Kolkata', 'Pacific/Auckland'].map((z) => new ZoneClock(z));
 
@@ -57,4 +59,17 @@ describe('parseTimestampBytes', () => {
       { seed: 8601, numRuns: 10_000 },
     );
   }, 30_000); // a bound on a hang: 10,000 cases take about a second, several on a busy machine
+});
+
+describe('UTC known without luxon (FIXED_UTC_ZONES: the rules check and ZoneClock skip luxon for them)', () => {
+  it('luxon, the reference, agrees: valid IANA names with offset 0 at any instant; the rules accept them and refuse an unknown name as before', () => {
+    const instants = fc.sample(fc.integer({ min: Date.UTC(1900, 0, 1), max: Date.UTC(2199, 11, 31) }), { seed: 7, numRuns: 200 });
+    for (const name of FIXED_UTC_ZONES) {
+      expect(IANAZone.isValidZone(name)).toBe(true);
+      const clock = new ZoneClock(name);
+      for (const ms of instants) expect(clock.offsetMinutes(ms)).toBe(IANAZone.create(name).offset(ms));
+      expect(parseRules(`grain: week\nlapseLimit: 2\ntimezone: ${name}\n`).timezone).toBe(name);
+    }
+    expect(() => parseRules('grain: week\nlapseLimit: 2\ntimezone: Mars/Olympus_Mons\n')).toThrow(/IANA time zone/);
+  });
 });
