@@ -20,14 +20,11 @@ import { loadRulesFile, parseRules } from '../../src/rules/load.js';
 import type { Rules } from '../../src/rules/schema.js';
 import { simulateMakerspace } from '../../src/demo/makerspace.js';
 import { tempDir } from '../core/helpers.js';
-import { comparable, duckdbRun, memoryWaist, pgReachable, postgresRun, withoutLines, type EngineRun } from './sqlEngines.js';
+import { comparable, duckdbRun, EVENTS, memoryWaist, pgReachable, postgresRun, ruleVariantArbs, withoutLines, type EngineRun } from './sqlEngines.js';
 
 const t = tempDir();
 afterAll(() => t.done());
 
-const ZONES = ['UTC', 'America/Chicago', 'Europe/Berlin', 'Pacific/Auckland', 'Asia/Kolkata', 'Australia/Lord_Howe'];
-const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday'] as const;
-const EVENTS = ['booking', 'tool_reservation', 'login', 'cancel'];
 /** Plan values: code-point order differs from code-unit order between '😀' (U+1F600) and '｡' (U+FF61). */
 const PLANS = ['hobby', 'pro', 'studio', '', 'Ωmega', '😀 lab', '｡dot'];
 const STARTS = ['2026-01-20', '2026-02-25', '2026-03-20', '2026-09-18', '2026-10-10', '2026-12-20'].map((d) => Date.parse(`${d}T00:00:00Z`));
@@ -58,19 +55,7 @@ interface Case {
 }
 
 const caseArb: fc.Arbitrary<Case> = fc
-  .record({
-    grain: fc.constantFrom('day' as const, 'week' as const, 'month' as const),
-    weekStart: fc.constantFrom(...WEEKDAYS),
-    timezone: fc.constantFrom(...ZONES),
-    keyEvents: fc.option(fc.subarray(EVENTS, { minLength: 1 }), { nil: undefined }),
-    minEvents: fc.integer({ min: 1, max: 3 }),
-    lapseLimit: fc.integer({ min: 0, max: 3 }),
-    warmup: fc.integer({ min: 0, max: 2 }),
-    bands: fc.uniqueArray(fc.integer({ min: 1, max: 8 }), { maxLength: 3 }),
-    // split states (rules `splits`): an active state split by key events in the period
-    splits: fc.option(fc.subarray(['engaged', 'returned'], { minLength: 1 }), { nil: undefined }),
-    splitAt: fc.integer({ min: 1, max: 3 }),
-  })
+  .record(ruleVariantArbs())
   .chain((r) =>
     fc.record({
       r: fc.constant(r),

@@ -21,29 +21,17 @@ import { parseRules } from '../../src/rules/load.js';
 import { compile } from '../../src/sql/compile.js';
 import { DIALECT } from '../../src/sql/dialects.js';
 import { tempDir } from '../core/helpers.js';
-import { comparable } from './sqlEngines.js';
+import { comparable, EVENTS, ruleVariantArbs } from './sqlEngines.js';
 
 const t = tempDir();
 afterAll(() => t.done());
 
-const ZONES = ['UTC', 'America/Chicago', 'Europe/Berlin', 'Pacific/Auckland', 'Australia/Lord_Howe'];
-const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday'] as const;
-const EVENTS = ['booking', 'tool_reservation', 'login', 'cancel'];
 const SPLIT_NAMES: Record<string, [string, string]> = { engaged: ['steady', 'keen'], returned: ['back_light', 'back_busy'] };
 const START = Date.UTC(2026, 0, 20);
 const DAY = 86_400_000;
 
 const caseArb = fc.record({
-  grain: fc.constantFrom('day' as const, 'week' as const, 'month' as const),
-  weekStart: fc.constantFrom(...WEEKDAYS),
-  timezone: fc.constantFrom(...ZONES),
-  keyEvents: fc.option(fc.subarray(EVENTS, { minLength: 1 }), { nil: undefined }),
-  minEvents: fc.integer({ min: 1, max: 3 }),
-  lapseLimit: fc.integer({ min: 0, max: 3 }),
-  warmup: fc.integer({ min: 0, max: 2 }),
-  bands: fc.uniqueArray(fc.integer({ min: 1, max: 8 }), { maxLength: 3 }),
-  splits: fc.option(fc.subarray(['engaged', 'returned'], { minLength: 1 }), { nil: undefined }),
-  splitAt: fc.integer({ min: 1, max: 3 }),
+  ...ruleVariantArbs(),
   days: fc.constantFrom(40, 90, 200),
   rows: fc.array(fc.record({ user: fc.integer({ min: 0, max: 11 }), at: fc.integer({ min: 0, max: 1000 }), event: fc.constantFrom(...EVENTS), repeat: fc.constantFrom(1, 1, 2, 3) }), { minLength: 20, maxLength: 150 }),
   // --from and --to as percentages of the log's span

@@ -5,6 +5,7 @@
  * CI=true a missing server fails.
  */
 import { readFileSync } from 'node:fs';
+import fc from 'fast-check';
 import pg from 'pg';
 import Papa from 'papaparse';
 import { createEngine } from '../../src/engines/index.js';
@@ -13,6 +14,31 @@ import { runPostgres } from '../../src/engines/postgres/run.js';
 import { filesSource, type RangeOptions } from '../../src/engines/types.js';
 import type { Rules } from '../../src/rules/schema.js';
 import type { Waist } from '../../src/waist/types.js';
+
+/** Time zones of the random rules: daylight-saving changes both ways, a half-hour offset (Kolkata), a half-hour shift (Lord Howe). */
+export const RULE_ZONES = ['UTC', 'America/Chicago', 'Europe/Berlin', 'Pacific/Auckland', 'Asia/Kolkata', 'Australia/Lord_Howe'];
+export const WEEKDAYS = ['monday', 'tuesday', 'wednesday', 'thursday', 'friday', 'saturday', 'sunday'] as const;
+export const EVENTS = ['booking', 'tool_reservation', 'login', 'cancel'];
+
+/**
+ * The rules variants the SQL engines are compared over, as fields for `fc.record`: grains, week
+ * starts, zones, key events, minEvents, lapse limits, warm-up, tenure bands and split states (an
+ * active state split by key events in the period, at `splitAt`).
+ */
+export function ruleVariantArbs() {
+  return {
+    grain: fc.constantFrom('day' as const, 'week' as const, 'month' as const),
+    weekStart: fc.constantFrom(...WEEKDAYS),
+    timezone: fc.constantFrom(...RULE_ZONES),
+    keyEvents: fc.option(fc.subarray(EVENTS, { minLength: 1 }), { nil: undefined }),
+    minEvents: fc.integer({ min: 1, max: 3 }),
+    lapseLimit: fc.integer({ min: 0, max: 3 }),
+    warmup: fc.integer({ min: 0, max: 2 }),
+    bands: fc.uniqueArray(fc.integer({ min: 1, max: 8 }), { maxLength: 3 }),
+    splits: fc.option(fc.subarray(['engaged', 'returned'], { minLength: 1 }), { nil: undefined }),
+    splitAt: fc.integer({ min: 1, max: 3 }),
+  };
+}
 
 export type EngineRun = (file: string, rules: Rules, range: RangeOptions, skipBadRows: boolean) => Promise<Waist>;
 
