@@ -36,7 +36,7 @@ export interface DictionaryBytes {
 const SMALL = 8;
 /** Int32s a slot: tag (hash and length), code, the first 4 bytes packed little-endian, then the next 4 (a value of up to 8 bytes) or its arena offset (a longer one). */
 const SLOT = 4;
-/** Multiplier of the slot index (Fibonacci hashing of the tag: its top bits pick the slot). */
+/** Multiplier of the slot index (Fibonacci hashing of the tag xor the first word, both kept in the slot: its top bits pick the slot, and a table grows with no hash of the bytes). */
 const GOLD = -0x61c88647;
 /** The hash's mixing multiplier. */
 const MIX = 0x5bd1e995;
@@ -66,7 +66,7 @@ export class IdDictionary {
   /** Byte length of each value, by code (the arena holds the values in code order). */
   private lens = new Int32Array(1024);
   private slots = new Int32Array(SLOT * 1024).fill(-1);
-  /** 32 − log2(slots): the index of a tag is its Fibonacci hash's top bits. */
+  /** 32 − log2(slots): a slot's index is the top bits of the Fibonacci hash of its tag xor first word. */
   private shift = 22;
   private arena = new Uint8Array(1 << 16);
   private arenaEnd = 0;
@@ -101,7 +101,7 @@ export class IdDictionary {
     this.w1 = w1;
     const slots = this.slots;
     const mask = (slots.length >> 2) - 1;
-    let at = Math.imul(tag, GOLD) >>> this.shift;
+    let at = Math.imul(tag ^ w0, GOLD) >>> this.shift;
     if (len <= 8) {
       // the whole value is in the slot (the tag's low byte is its length)
       for (;;) {
@@ -279,7 +279,7 @@ export class IdDictionary {
     this.shift--;
     for (let i = 0; i < old.length; i += SLOT) {
       if (old[i + 1] < 0) continue;
-      let at = Math.imul(old[i], GOLD) >>> this.shift;
+      let at = Math.imul(old[i] ^ old[i + 2], GOLD) >>> this.shift;
       while (slots[(at << 2) + 1] >= 0) at = (at + 1) & mask;
       const k = at << 2;
       slots[k] = old[i];

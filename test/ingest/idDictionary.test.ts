@@ -131,7 +131,7 @@ describe('IdDictionary slot comparisons (values of up to 8 bytes whole in a slot
     // lengths at the edges of the slot's words and of the tag's length byte; NUL bytes make zero-filled words ambiguous without the length
     const len = fc.constantFrom(0, 1, 3, 4, 5, 7, 8, 9, 12, 16, 17, 254, 255, 256, 300);
     const id = fc.tuple(fc.constantFrom('a', 'b', '\u0000', 'é'), len, fc.nat(3), fc.nat(400)).map(([c, n, last, at]) => {
-      const chars = Array.from({ length: n }, () => c);
+      const chars: string[] = Array.from({ length: n }, () => c);
       if (n > 0) chars[at % n] = String.fromCharCode(120 + last); // one byte changed somewhere
       return chars.join('');
     });
