@@ -6,12 +6,15 @@
  * time it is seen. Values given as strings (NDJSON, escaped CSV fields) go through the same table, so
  * every path gives a value the same code.
  *
- * Open addressing with linear probing over [hash, code, arena offset, length, first 16 bytes] slots
- * (one cache miss finds a slot with what its comparison needs: an id of up to 16 bytes is compared
- * there, a longer one then in the arena), grown at half full; a dictionary of at most 8 values (event
- * names, most attributes) is scanned by length and bytes instead, with no hash; the hash is a
- * multiplicative hash (of the first 16 bytes a word at a time, then the rest a byte at a time, then the length) with a per-run random seed, so no crafted set of ids can make the probes
- * long on purpose. A dictionary built elsewhere (a worker thread's share of a file) is merged through
+ * Open addressing with linear probing over 16-byte slots [tag, code, first 4 bytes, next 4 bytes or
+ * arena offset] (the tag is the hash with its low byte replaced by the length, 255 for 255 bytes or
+ * more): one cache miss finds a slot with what its comparison needs. An id of up to 8 bytes is compared
+ * there whole; a longer one keeps its arena offset in the slot's last word and is compared there from
+ * its fifth byte. The table is grown at half full (150,000 ids: 8 MB; 32-byte slots made it 16 MB, and
+ * a look-up was a cache miss further out). A dictionary of at most 8 values (event names, most
+ * attributes) is found in a 16-slot table by length and first word instead, with no hash of the
+ * whole value. The hash is a multiplicative hash (of the value a word at a time, then the length) with
+ * a per-run random seed, so no crafted set of ids can make the probes long on purpose. A dictionary built elsewhere (a worker thread's share of a file) is merged through
  * {@link DictionaryBytes}: its values' bytes in code order.
  *
  * Values found by their bytes are decoded to strings only when {@link IdDictionary.values} is read, all
@@ -31,8 +34,12 @@ export interface DictionaryBytes {
 
 /** Values with at most this many distinct entries are found by a scan of their lengths and bytes, with no hash. */
 const SMALL = 8;
-/** Int32s a slot: hash, code, arena offset, length, and the first 16 bytes packed little-endian. */
-const SLOT = 8;
+/** Int32s a slot: tag (hash and length), code, the first 4 bytes packed little-endian, then the next 4 (a value of up to 8 bytes) or its arena offset (a longer one). */
+const SLOT = 4;
+/** Multiplier of the slot index (Fibonacci hashing of the tag xor the first word, both kept in the slot: its top bits pick the slot, and a table grows with no hash of the bytes). */
+const GOLD = -0x61c88647;
+/** The hash's mixing multiplier. */
+const MIX = 0x5bd1e995;
 
 /** Decoding access to a Buffer's bytes (node's own methods, which take no range check object). */
 interface SliceBuffer extends Buffer {
@@ -48,13 +55,6 @@ function wordAt(b: Uint8Array, i: number, e: number): number {
   return b[i] | (n > 1 ? b[i + 1] << 8 : 0) | (n > 2 ? b[i + 2] << 16 : 0);
 }
 
-/** The first 4 bytes of `b[s, e)` packed little-endian (fewer are zero-filled; with the length, they decide a value of up to 4 bytes). */
-function headOf(b: Uint8Array, s: number, e: number): number {
-  const len = e - s;
-  return len >= 4 ? b[s] | (b[s + 1] << 8) | (b[s + 2] << 16) | (b[s + 3] << 24)
-    : (len > 0 ? b[s] : 0) | (len > 1 ? b[s + 1] << 8 : 0) | (len > 2 ? b[s + 2] << 16 : 0);
-}
-
 export class IdDictionary {
   /** Number of values (codes 0 … size − 1). */
   size = 0;
@@ -66,58 +66,59 @@ export class IdDictionary {
   /** Byte length of each value, by code (the arena holds the values in code order). */
   private lens = new Int32Array(1024);
   private slots = new Int32Array(SLOT * 1024).fill(-1);
+  /** 32 − log2(slots): a slot's index is the top bits of the Fibonacci hash of its tag xor first word. */
+  private shift = 22;
   private arena = new Uint8Array(1 << 16);
   private arenaEnd = 0;
-  /** Arena offset and length of each value while there are at most SMALL of them. */
-  private readonly smallOff: number[] = [];
-  private readonly smallLen: number[] = [];
-  /** Their first 4 bytes packed little-endian (as w0 in a slot). */
-  private readonly smallHead: number[] = [];
+  /** The values while there are at most SMALL of them: 16 slots [length (-1 empty), code, first 4 bytes, next 4 bytes or arena offset], by length and first word. */
+  private readonly smallTab = new Int32Array(16 * SLOT).fill(-1);
   private readonly seed = randomInt(1, 0x7fffffff);
-  /** The hash and packed first bytes of the last value looked up (set by {@link probe}). */
-  private h = 0;
+  /** The tag and the slot's last two words for the last value looked up (set by {@link probe}; w1 is bytes 4–7, for a value of up to 8 bytes). */
+  private tag = 0;
   private w0 = 0;
   private w1 = 0;
-  private w2 = 0;
-  private w3 = 0;
   /** The empty slot where the value of the last {@link find} that missed belongs, or -1 (see {@link addMissed}). */
   private missAt = -1;
 
-  /** Index of the slot holding the value `b[s, e)`, or of the empty slot where it belongs; sets h and w0–w3. */
+  /** Index of the slot holding the value `b[s, e)`, or of the empty slot where it belongs; sets tag, w0 and w1. */
   private probe(b: Uint8Array, s: number, e: number): number {
     const len = e - s;
-    // the first 16 bytes as four words (what a slot keeps), hashed a word at a time, then any bytes beyond
-    const w0 = wordAt(b, s, e), w1 = wordAt(b, s + 4, e), w2 = wordAt(b, s + 8, e), w3 = wordAt(b, s + 12, e);
-    let h = Math.imul(this.seed ^ w0, 0x5bd1e995);
+    // the value a word at a time (the last one zero-filled), then its length
+    const w0 = wordAt(b, s, e), w1 = wordAt(b, s + 4, e);
+    let h = Math.imul(this.seed ^ w0, MIX);
     h ^= h >>> 15;
-    h = Math.imul(h ^ w1, 0x5bd1e995);
+    h = Math.imul(h ^ w1, MIX);
     h ^= h >>> 15;
-    h = Math.imul(h ^ w2, 0x5bd1e995);
-    h ^= h >>> 15;
-    h = Math.imul(h ^ w3, 0x5bd1e995);
-    h ^= h >>> 15;
-    for (let i = s + 16; i < e; i++) {
-      h = Math.imul(h ^ b[i], 0x5bd1e995);
+    for (let i = s + 8; i < e; i += 4) {
+      h = Math.imul(h ^ wordAt(b, i, e), MIX);
       h ^= h >>> 15;
     }
-    h = Math.imul(h ^ len, 0x5bd1e995);
+    h = Math.imul(h ^ len, MIX);
     h ^= h >>> 13;
-    this.h = h;
+    const tag = (h & ~0xff) | (len < 255 ? len : 255);
+    this.tag = tag;
     this.w0 = w0;
     this.w1 = w1;
-    this.w2 = w2;
-    this.w3 = w3;
     const slots = this.slots;
-    const mask = (slots.length >> 3) - 1;
-    let at = h & mask;
+    const mask = (slots.length >> 2) - 1;
+    let at = Math.imul(tag ^ w0, GOLD) >>> this.shift;
+    if (len <= 8) {
+      // the whole value is in the slot (the tag's low byte is its length)
+      for (;;) {
+        const k = at << 2;
+        if (slots[k + 1] < 0) return at;
+        if (slots[k] === tag && slots[k + 2] === w0 && slots[k + 3] === w1) return at;
+        at = (at + 1) & mask;
+      }
+    }
+    const arena = this.arena;
     for (;;) {
-      const k = at << 3;
-      if (slots[k + 1] < 0) return at;
-      if (slots[k] === h && slots[k + 3] === len && slots[k + 4] === w0 && slots[k + 5] === w1 && slots[k + 6] === w2 && slots[k + 7] === w3) {
-        if (len <= 16) return at;
-        const o = slots[k + 2];
-        const arena = this.arena;
-        let i = 16;
+      const k = at << 2;
+      const c = slots[k + 1];
+      if (c < 0) return at;
+      if (slots[k] === tag && slots[k + 2] === w0 && (len < 255 || this.lens[c] === len)) {
+        const o = slots[k + 3];
+        let i = 4;
         while (i < len && arena[o + i] === b[s + i]) i++;
         if (i === len) return at;
       }
@@ -125,20 +126,34 @@ export class IdDictionary {
     }
   }
 
-  /** The code of a small dictionary's value `b[s, e)` by scanning its few values, or -1. */
-  private small(b: Uint8Array, s: number, e: number): number {
+  /** Index into smallTab of the slot holding `b[s, e)` (length, first word, and w1 / the arena from byte 4), or of the empty slot where it belongs. */
+  private smallSlot(b: Uint8Array, s: number, e: number): number {
     const len = e - s;
-    const head = headOf(b, s, e);
-    const n = this.smallLen.length;
-    const arena = this.arena;
-    for (let c = 0; c < n; c++) {
-      if (this.smallLen[c] !== len || this.smallHead[c] !== head) continue;
-      const o = this.smallOff[c];
-      let i = 4;
-      while (i < len && arena[o + i] === b[s + i]) i++;
-      if (i >= len) return c;
+    const w0 = wordAt(b, s, e);
+    const w1 = len <= 8 ? wordAt(b, s + 4, e) : 0;
+    const t = this.smallTab;
+    let k = (Math.imul(w0 ^ len, GOLD) >>> 28) << 2;
+    for (;;) {
+      const l = t[k];
+      if (l < 0) return k;
+      if (l === len && t[k + 2] === w0) {
+        if (len <= 8) {
+          if (t[k + 3] === w1) return k;
+        } else {
+          const o = t[k + 3];
+          const arena = this.arena;
+          let i = 4;
+          while (i < len && arena[o + i] === b[s + i]) i++;
+          if (i === len) return k;
+        }
+      }
+      k = (k + SLOT) & (16 * SLOT - 1);
     }
-    return -1;
+  }
+
+  /** The code of a small dictionary's value `b[s, e)`, or -1. */
+  private small(b: Uint8Array, s: number, e: number): number {
+    return this.smallTab[this.smallSlot(b, s, e) + 1];
   }
 
   /** The values, by code (decoded here, on first reading, for values found by their bytes). */
@@ -171,7 +186,7 @@ export class IdDictionary {
       return this.small(b, s, e);
     }
     const at = this.probe(b, s, e);
-    const c = this.slots[(at << 3) + 1];
+    const c = this.slots[(at << 2) + 1];
     this.missAt = c < 0 ? at : -1;
     return c;
   }
@@ -200,7 +215,7 @@ export class IdDictionary {
       if (c >= 0) return c;
     }
     const at = this.probe(b, s, e);
-    const found = this.slots[(at << 3) + 1];
+    const found = this.slots[(at << 2) + 1];
     return found >= 0 ? found : this.insert(at, b, s, e, text?.(b, s, e));
   }
 
@@ -212,7 +227,7 @@ export class IdDictionary {
     this.missAt = -1;
     const bytes = Buffer.from(id, 'utf8');
     const at = this.probe(bytes, 0, bytes.length);
-    const found = this.slots[(at << 3) + 1];
+    const found = this.slots[(at << 2) + 1];
     return found >= 0 ? found : this.insert(at, bytes, 0, bytes.length, id);
   }
 
@@ -237,36 +252,40 @@ export class IdDictionary {
       this.arena = bigger;
     }
     const slots = this.slots;
-    const k = at << 3;
-    slots[k] = this.h;
+    const k = at << 2;
+    const off = this.arenaEnd;
+    slots[k] = this.tag;
     slots[k + 1] = c;
-    slots[k + 2] = this.arenaEnd;
-    slots[k + 3] = len;
-    slots[k + 4] = this.w0;
-    slots[k + 5] = this.w1;
-    slots[k + 6] = this.w2;
-    slots[k + 7] = this.w3;
-    this.arena.set(b.subarray(s, e), this.arenaEnd);
+    slots[k + 2] = this.w0;
+    slots[k + 3] = len <= 8 ? this.w1 : off;
+    this.arena.set(b.subarray(s, e), off);
     if (c < SMALL) {
-      this.smallOff.push(this.arenaEnd);
-      this.smallLen.push(len);
-      this.smallHead.push(headOf(b, s, e));
+      const j = this.smallSlot(b, s, e);
+      const t = this.smallTab;
+      t[j] = len;
+      t[j + 1] = c;
+      t[j + 2] = this.w0;
+      t[j + 3] = len <= 8 ? this.w1 : off;
     }
     this.arenaEnd += len;
-    if (this.size * 2 > this.slots.length >> 3) this.grow();
+    if (this.size * 2 > this.slots.length >> 2) this.grow();
     return c;
   }
 
   private grow(): void {
     const old = this.slots;
     const slots = new Int32Array(old.length * 2).fill(-1);
-    const mask = (slots.length >> 3) - 1;
+    const mask = (slots.length >> 2) - 1;
+    this.shift--;
     for (let i = 0; i < old.length; i += SLOT) {
       if (old[i + 1] < 0) continue;
-      let at = old[i] & mask;
-      while (slots[(at << 3) + 1] >= 0) at = (at + 1) & mask;
-      const k = at << 3;
-      for (let j = 0; j < SLOT; j++) slots[k + j] = old[i + j];
+      let at = Math.imul(old[i] ^ old[i + 2], GOLD) >>> this.shift;
+      while (slots[(at << 2) + 1] >= 0) at = (at + 1) & mask;
+      const k = at << 2;
+      slots[k] = old[i];
+      slots[k + 1] = old[i + 1];
+      slots[k + 2] = old[i + 2];
+      slots[k + 3] = old[i + 3];
     }
     this.slots = slots;
   }

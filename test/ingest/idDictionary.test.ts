@@ -125,3 +125,30 @@ describe('IdDictionary past many growths', () => {
     expect(d.values).toEqual([...ref.keys()]);
   }, 60_000); // a bound on a hang
 });
+
+describe('IdDictionary slot comparisons (values of up to 8 bytes whole in a slot, longer ones from the arena, 255 bytes and more by their stored length)', () => {
+  it('values sharing their first bytes and differing in length around 4, 8, 255 bytes or in a late byte get the codes a string-keyed Map gives (fast-check; the Map is the reference)', () => {
+    // lengths at the edges of the slot's words and of the tag's length byte; NUL bytes make zero-filled words ambiguous without the length
+    const len = fc.constantFrom(0, 1, 3, 4, 5, 7, 8, 9, 12, 16, 17, 254, 255, 256, 300);
+    const id = fc.tuple(fc.constantFrom('a', 'b', '\u0000', 'é'), len, fc.nat(3), fc.nat(400)).map(([c, n, last, at]) => {
+      const chars: string[] = Array.from({ length: n }, () => c);
+      if (n > 0) chars[at % n] = String.fromCharCode(120 + last); // one byte changed somewhere
+      return chars.join('');
+    });
+    fc.assert(
+      fc.property(fc.array(fc.tuple(id, fc.boolean()), { maxLength: 400 }), (ops) => {
+        const d = new IdDictionary();
+        const ref = new Map<string, number>();
+        for (const [s, asFind] of ops) {
+          const b = Buffer.from(`,${s},`);
+          if (asFind) expect(d.find(b, 1, b.length - 1)).toBe(ref.get(s) ?? -1);
+          const got = d.codeBytes(b, 1, b.length - 1);
+          if (!ref.has(s)) ref.set(s, ref.size);
+          expect(got).toBe(ref.get(s));
+        }
+        expect(d.values).toEqual([...ref.keys()]);
+      }),
+      { seed: 79, numRuns: 150 },
+    );
+  });
+});
