@@ -297,7 +297,7 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
   const ws = weekdayIndex(rules.weekStart);
   const keyOfDay = rules.grain === 'day' ? 'day' : rules.grain === 'week' ? floorDiv(`day + ${3 - ws}`, 7) : 'month_key';
   const keyEvents = rules.activity.keyEvents;
-  const blankUser = `(user_id IS NULL OR user_id = '' OR (${startsWithSpace('user_id')} AND ${D.matches('user_id', BLANK)}))`;
+  const blankUser = `(user_id IS NULL OR user_id = '' OR (${D.spaceFirst('user_id', startsWithSpace('user_id'))} AND ${D.matches('user_id', BLANK)}))`;
   const reason = [
     has.preReason ? 'WHEN pre_reason IS NOT NULL THEN pre_reason' : '',
     `WHEN ${blankUser} THEN 'missing user id'`,
