@@ -95,10 +95,9 @@ const duckdb: Dialect = {
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing').source)}, '')`,
   // the shape by LIKE, the digits and the calendar by DuckDB's own timestamp cast (which takes the Z as
   // UTC and refuses a non-digit in every two-digit field; a year that is not four digits falls outside
-  // 1900-2199 and is refused later, as the memory engine refuses it); hour 24 is not the fast form.
-  // The form with milliseconds (toISOString's) is tried first: most rows then need one LIKE
+  // 1900-2199 and is refused later, as the memory engine refuses it); hour 24 is not the fast form
   fastUtcMs: (s) =>
-    `CASE WHEN (${s} LIKE '____-__-__T__:__:__.___Z' OR ${s} LIKE '____-__-__T__:__:__Z') AND substr(${s}, 12, 2) < '24' THEN epoch_ms(TRY_CAST(${s} AS TIMESTAMP)) END`,
+    `CASE WHEN (${s} LIKE '____-__-__T__:__:__Z' OR ${s} LIKE '____-__-__T__:__:__.___Z') AND substr(${s}, 12, 2) < '24' THEN epoch_ms(TRY_CAST(${s} AS TIMESTAMP)) END`,
   // text compares by its UTF-8 bytes: white space below 33 begins with a byte below '!', and every code
   // point from 160 (U+00A0, bytes C2 A0) up begins with bytes at or above those of U+00A0
   spaceFirst: (s, test) => `((${s} < '!' OR ${s} >= chr(160)) AND ${test})`,
