@@ -297,7 +297,7 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
   const ws = weekdayIndex(rules.weekStart);
   const keyOfDay = rules.grain === 'day' ? 'day' : rules.grain === 'week' ? floorDiv(`day + ${3 - ws}`, 7) : 'month_key';
   const keyEvents = rules.activity.keyEvents;
-  const blankUser = `(user_id IS NULL OR user_id = '' OR (${startsWithSpace('user_id')} AND ${D.matches('user_id', BLANK)}))`;
+  const blankUser = `(user_id IS NULL OR user_id = '' OR (${D.spaceFirst('user_id', startsWithSpace('user_id'))} AND ${D.matches('user_id', BLANK)}))`;
   const reason = [
     has.preReason ? 'WHEN pre_reason IS NOT NULL THEN pre_reason' : '',
     `WHEN ${blankUser} THEN 'missing user id'`,
@@ -506,7 +506,16 @@ ${LP ? `  SELECT l.first_k AS c, l.k - l.first_k AS age, ${sumN} AS a, CAST(SUM(
 ) x JOIN tm_periods pe ON pe.k = x.c
 GROUP BY x.c, pe.label, x.age
 ORDER BY x.c, x.age`,
-    cohortWindows: `SELECT pe.label AS cohort, x.a AS age_from, x.b AS age_to, x.users
+    // through tm_lifepass: the running sums over tm_whist's own rows, each then spread over the ages b
+    // up to the next one (the same windows with users, without the grid of every window and its join)
+    cohortWindows: LP ? `SELECT pe.label AS cohort, h.a AS age_from, s.x AS age_to, h.users
+FROM (
+  SELECT c, a, nx, SUM(n) OVER (PARTITION BY c, a ORDER BY nx ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS users,
+    coalesce(lead(nx) OVER (PARTITION BY c, a ORDER BY nx) - 1, bd.end_key - c) AS b_last
+  FROM tm_whist CROSS JOIN tm_bounds bd
+) h CROSS JOIN generate_series(h.nx, h.b_last) AS s(x) JOIN tm_periods pe ON pe.k = h.c
+ORDER BY h.c, h.a, s.x`
+      : `SELECT pe.label AS cohort, x.a AS age_from, x.b AS age_to, x.users
 FROM (
   SELECT g.c, g.a, g.b, SUM(coalesce(h.n, 0)) OVER (PARTITION BY g.c, g.a ORDER BY g.b ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS users
   FROM tm_wgrid g LEFT JOIN tm_whist h ON h.c = g.c AND h.a = g.a AND h.nx = g.b
@@ -531,8 +540,12 @@ FROM tm_lr l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND b.end_key 
       : `SELECT l.first_k AS c, CASE WHEN l.prev_k IS NULL THEN 0 ELSE l.prev_k - l.first_k + 1 END AS a_lo, l.k - l.first_k AS nx
 FROM tm_life l CROSS JOIN tm_bounds b WHERE l.first_k >= b.flow_key AND b.end_key - l.first_k <= ${WINDOW_AGES}`);
   cte('tm_whist', 'members by cohort, age a and their next active age from a on (nx): counted first, then spread over the ages a',
-    `SELECT w.c, ag.x AS a, w.nx, SUM(w.n) AS n
-FROM (SELECT c, a_lo, nx, ${LP ? `CAST(SUM(n) AS ${D.bigint})` : 'count(*)'} AS n FROM tm_wmembers GROUP BY c, a_lo, nx) w JOIN tm_ages ag ON ag.x >= w.a_lo AND ag.x <= w.nx
+    // through tm_lifepass (DuckDB): each count's ages from a series of its own rather than a range join
+    LP ? `SELECT w.c, s.x AS a, w.nx, SUM(w.n) AS n
+FROM (SELECT c, a_lo, nx, CAST(SUM(n) AS ${D.bigint}) AS n FROM tm_wmembers GROUP BY c, a_lo, nx) w CROSS JOIN generate_series(w.a_lo, w.nx) AS s(x)
+GROUP BY w.c, s.x, w.nx`
+      : `SELECT w.c, ag.x AS a, w.nx, SUM(w.n) AS n
+FROM (SELECT c, a_lo, nx, count(*) AS n FROM tm_wmembers GROUP BY c, a_lo, nx) w JOIN tm_ages ag ON ag.x >= w.a_lo AND ag.x <= w.nx
 GROUP BY w.c, ag.x, w.nx`);
   // the cohorts from tm_whist (each member gives it a row), not from tm_wmembers (a row an active
   // period): DuckDB and PostgreSQL store a step that two others read, and writing tm_wmembers cost

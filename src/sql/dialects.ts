@@ -41,6 +41,11 @@ export interface Dialect {
    * the engine's own timestamp parser, else NULL (the general path then reads it).
    */
   fastUtcMs?(s: string): string;
+  /**
+   * `test`, the code-point test of whether `s` starts with white space (src/sql/regex.ts, JS_SPACE),
+   * with a cheaper test before it where the dialect has one that is true whenever `test` is.
+   */
+  spaceFirst(s: string, test: string): string;
   /** Wall-clock ms in `zone` of the instant `ms` (BIGINT ms since the epoch, UTC). */
   wallOfInstant(ms: string, zone: string): string;
   /** ms since the epoch of a TIMESTAMP WITH TIME ZONE (or the dialect's instant type). */
@@ -93,6 +98,9 @@ const duckdb: Dialect = {
   // 1900-2199 and is refused later, as the memory engine refuses it); hour 24 is not the fast form
   fastUtcMs: (s) =>
     `CASE WHEN (${s} LIKE '____-__-__T__:__:__Z' OR ${s} LIKE '____-__-__T__:__:__.___Z') AND substr(${s}, 12, 2) < '24' THEN epoch_ms(TRY_CAST(${s} AS TIMESTAMP)) END`,
+  // text compares by its UTF-8 bytes: white space below 33 begins with a byte below '!', and every code
+  // point from 160 (U+00A0, bytes C2 A0) up begins with bytes at or above those of U+00A0
+  spaceFirst: (s, test) => `((${s} < '!' OR ${s} >= chr(160)) AND ${test})`,
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `epoch_ms(timezone(${ansi(zone)}, epoch_ms(${ms}) AT TIME ZONE 'UTC'))`),
   msOfInstant: (ts) => `epoch_ms(CAST(${ts} AS TIMESTAMPTZ))`,
   msOfLocal: (ts) => `epoch_ms(CAST(${ts} AS TIMESTAMP))`,
@@ -119,6 +127,7 @@ const postgres: Dialect = {
   toDouble: (s) => `CAST(${s} AS DOUBLE PRECISION)`,
   chr: (c) => `chr(${c})`,
   firstCode: (s) => `ascii(${s})`,
+  spaceFirst: (_s, test) => test,
   matches: (s, p) => `(${s} ~ ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'postgres').source)}, '')`,
   wallOfInstant: (ms, zone) =>
@@ -151,6 +160,7 @@ const spark: Dialect = {
   toDouble: (s) => `CAST(${s} AS DOUBLE)`,
   chr: (c) => (c < 256 ? `chr(${c})` : `decode(unhex(${backslashed(utf8Hex(c))}), 'UTF-8')`),
   firstCode: (s) => `ascii(${s})`,
+  spaceFirst: (_s, test) => test,
   matches: (s, p) => `(${s} RLIKE ${backslashed(renderPattern(p, 'noncapturing', 'java').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${backslashed(renderPattern(p, 'noncapturing', 'java').source)}, '')`,
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `unix_millis(from_utc_timestamp(timestamp_millis(${ms}), ${backslashed(zone)}))`),
@@ -181,6 +191,7 @@ const trino: Dialect = {
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `chr(${c})`,
   firstCode: (s) => `codepoint(CAST(substr(${s}, 1, 1) AS VARCHAR(1)))`,
+  spaceFirst: (_s, test) => test,
   matches: (s, p) => `regexp_like(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing', 'java').source)})`,
   wallOfInstant: (ms, zone) =>
@@ -209,6 +220,7 @@ const bigquery: Dialect = {
   toDouble: (s) => `SAFE_CAST(${s} AS FLOAT64)`,
   chr: (c) => `CODE_POINTS_TO_STRING([${c}])`,
   firstCode: (s) => `UNICODE(${s})`,
+  spaceFirst: (_s, test) => test,
   matches: (s, p) => `REGEXP_CONTAINS(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)})`,
   strip: (s, p) => `REGEXP_REPLACE(${s}, ${backslashed(renderPattern(p, 'noncapturing').source)}, '')`,
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `UNIX_MILLIS(TIMESTAMP(DATETIME(TIMESTAMP_MILLIS(${ms}), ${backslashed(zone)})))`),
@@ -237,6 +249,7 @@ const snowflake: Dialect = {
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `CHR(${c})`,
   firstCode: (s) => `UNICODE(${s})`,
+  spaceFirst: (_s, test) => test,
   matches: (s, p) => `REGEXP_LIKE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)})`,
   strip: (s, p) => `REGEXP_REPLACE(${s}, ${snowflake.str(renderPattern(p, 'capturing', 'posix').source)}, '')`,
   wallOfInstant: (ms, zone) => (isUtc(zone) ? ms : `DATE_PART(EPOCH_MILLISECOND, CONVERT_TIMEZONE('UTC', ${snowflake.str(zone)}, TO_TIMESTAMP_NTZ(${ms}, 3)))`),

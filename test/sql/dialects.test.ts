@@ -154,3 +154,37 @@ describe('the lifecycle as gaps (gapModel), asked of the machine', () => {
     for (const L of [1, 3, 100_000]) expect(gapModel({ lapseLimit: L }).lapseLimit).toBe(L);
   });
 });
+
+describe("DuckDB's cheap test before the white-space test (spaceFirst)", () => {
+  it('gives the code-point test\'s answer for every first character of the Basic Multilingual Plane and some beyond', async () => {
+    // reference: JavaScript's own white space (String.prototype.trim, ECMA-262 WhiteSpace and
+    // LineTerminator), and the unguarded test; each text is a character, then "x" (or nothing)
+    const codes = [...Array.from({ length: 0xffff }, (_, i) => i + 1).filter((c) => c < 0xd800 || c > 0xdfff), 0x10000, 0x1f600, 0x10ffff];
+    const texts = codes.flatMap((c) => [String.fromCodePoint(c), `${String.fromCodePoint(c)}x`]);
+    const D = DIALECT.duckdb;
+    const plain = (s: string) => `(unicode(${s}) BETWEEN 9 AND 13 OR unicode(${s}) = 32 OR unicode(${s}) IN (${[160, 5760, ...Array.from({ length: 11 }, (_, i) => 8192 + i), 8232, 8233, 8239, 8287, 12288, 65279].join(', ')}))`;
+    const db = await DuckDBInstance.create(':memory:');
+    const con = await db.connect();
+    try {
+      await con.run('CREATE TABLE t (i INTEGER, s VARCHAR)');
+      const app = await con.createAppender('t');
+      texts.forEach((s, i) => { app.appendInteger(i); app.appendVarchar(s); app.endRow(); });
+      app.closeSync();
+      const got = (await con.runAndReadAll(`SELECT i, ${D.spaceFirst('s', plain('s'))} AS guarded, ${plain('s')} AS bare FROM t ORDER BY i`)).getRows();
+      expect(got.length).toBe(texts.length);
+      let spaces = 0;
+      const wrong: string[] = [];
+      for (const [i, guarded, bare] of got) {
+        const s = texts[Number(i)];
+        const js = s.trimStart() !== s;
+        if (guarded !== js || bare !== js) wrong.push(`${JSON.stringify(s)}: guarded ${guarded}, bare ${bare}, JavaScript ${js}`);
+        if (js) spaces++;
+      }
+      expect(wrong).toEqual([]);
+      expect(spaces).toBe(2 * 25); // the 25 white-space code points of JS_SPACE, alone and before "x"
+    } finally {
+      con.closeSync();
+      db.closeSync();
+    }
+  }, 60_000); // 130 000 texts: a bound on a hang, not a timing
+});
