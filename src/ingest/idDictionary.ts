@@ -32,7 +32,7 @@ export interface DictionaryBytes {
   start: Int32Array;
 }
 
-/** Values with at most this many distinct entries are found by a scan of their lengths and bytes, with no hash. */
+/** Values with at most this many distinct entries are found in a 16-slot table by length and first word, with no hash of the whole value. */
 const SMALL = 8;
 /** Int32s a slot: tag (hash and length), code, the first 4 bytes packed little-endian, then the next 4 (a value of up to 8 bytes) or its arena offset (a longer one). */
 const SLOT = 4;
