@@ -157,4 +157,14 @@ describe('two-part reading', () => {
     expect((one as EventLog).size).toBe(13_333);
     expect((one as EventLog).wallMs.length).toBe(0);
   }, 30_000);
+
+  it('a split offset that is not a whole number (size / 4) is taken as its floor: the same log as one thread, past the first chunk too', async () => {
+    const lines = ['user_id,timestamp,event,plan'];
+    for (let i = 0; i < 40_000; i++) lines.push(`m${(i * 7919) % 3001},${new Date(Date.UTC(2026, 0, 5) + ((i * 104_729) % 5_000_000) * 3600).toISOString()},${i % 3 ? 'booking' : 'browse'},pro`);
+    const text = `${lines.join('\n')}\n`;
+    expect(text.length % 4).not.toBe(0);
+    const file = t.file('fraction.csv', text);
+    const one = await outcome(file, { rules, parallel: false });
+    expect(await outcome(file, { rules, parallel: { minBytes: 0, splitNear: (size) => size / 4, readPart: readPartHere } })).toEqual(one);
+  });
 });
