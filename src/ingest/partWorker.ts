@@ -1,10 +1,12 @@
 /**
  * The worker thread's side of a two-thread CSV read: read the part of the file it was given into its
- * own builder, and send back the rows (transferred, not copied) or the part's first error as data.
+ * own builder, and send back the rows (transferred, not copied) and where it stopped (it may be asked to
+ * stop early, through the job's shared signal: csv.ts), or the part's first error as data. Then read
+ * any further part the main thread sends (it may take over the end of the main thread's part).
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import type { PartialLog } from './eventLog.js';
-import { readPartHere, type PartJob } from './parallel.js';
+import { readPartHere, type MoreMessage, type PartJob } from './parallel.js';
 
 /** The buffers of a partial log, to transfer rather than copy. */
 function buffers(p: PartialLog): ArrayBuffer[] {
@@ -23,7 +25,7 @@ async function work(job: PartJob): Promise<void> {
     }
   });
   if (unsaid > 0) parentPort!.postMessage({ bytes: unsaid });
-  if (got.ok) parentPort!.postMessage({ ok: true, partial: got.partial }, buffers(got.partial));
+  if (got.ok) parentPort!.postMessage({ ok: true, partial: got.partial, end: got.end }, buffers(got.partial));
   else if ('error' in got) {
     const e = got.error;
     parentPort!.postMessage({ ok: false, error: { code: e.code, message: e.message, where: e.where, hint: e.hint } });
@@ -31,4 +33,6 @@ async function work(job: PartJob): Promise<void> {
 }
 
 // a function, not top-level await: this module is also bundled as a CommonJS script (parallel.ts)
-void work(workerData as PartJob);
+const job = workerData as PartJob;
+// then, while the main thread keeps it, read the further parts it is sent, one at a time
+void work(job).then(() => parentPort!.on('message', (m: MoreMessage) => void work({ ...job, part: m.part })));

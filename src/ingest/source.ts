@@ -250,6 +250,9 @@ export class ChunkReader {
    */
   async lineStartAfter(at: number): Promise<number | undefined> {
     if (!this.handle) return undefined;
+    // a whole offset: given a fraction, the read below reads at the file's current position (moving it
+    // under the front-to-back reading)
+    at = Math.max(0, Math.floor(at));
     const win = Buffer.allocUnsafe(64 * 1024);
     // a line is at most 1 MiB (limits.ts), so a line feed turns up within a few windows or never
     for (let pos = at; pos < at + 4 * (1 << 20); pos += win.length) {

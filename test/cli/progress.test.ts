@@ -49,6 +49,19 @@ describe('read progress', () => {
     // with a worker thread its bytes arrive as messages
     const withWorker = await told([f], { limits: { chunk: 4096 }, parallel: { minBytes: 0, splitNear: (size) => size / 2 } });
     expect(withWorker[withWorker.length - 1].bytes).toBe(statSync(f).size);
+    // balanced: the second reader is asked to stop halfway through its part and this thread reads the
+    // rest; each counts its own part only (both read whole chunks past its end)
+    let release!: () => void;
+    const asked = new Promise<void>((r) => (release = r));
+    let third = false;
+    const balanced = await told([f], { limits: { chunk: 4096 }, parallel: {
+      minBytes: 0, splitNear: (size) => size / 3, balanceNear: (size, at) => at + (size - at) / 2,
+      readPart: async (job, onBytes) => (await asked, readPartHere(job, onBytes)),
+      readHere: (job, onBytes) => ((third = true), release(), readPartHere(job, onBytes)),
+    } });
+    expect(third).toBe(true);
+    expect(balanced[balanced.length - 1].bytes).toBe(statSync(f).size);
+    expect(balanced.every((p, i) => i === 0 || p.bytes >= balanced[i - 1].bytes)).toBe(true);
   }, 30_000); // a bound on a worker that never answers
 });
 
