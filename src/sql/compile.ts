@@ -196,8 +196,8 @@ export function compile({ dialect: D, rules, source, range = {}, fastTimestamps 
   textCte('tm_fast', 'the commonest form, read natively where the dialect can (the memory engine has the same fast path)',
     `SELECT ${cols()}, ${has.tsText ? 'ts_text' : `CAST(NULL AS ${D.text}) AS ts_text`}, ${has.tsNum ? 'ts_num' : `CAST(NULL AS ${D.double}) AS ts_num`},
   ${has.tsInstant ? 'ts_instant' : `CAST(NULL AS ${D.bigint}) AS ts_instant`}, ${has.tsLocal ? 'ts_local' : `CAST(NULL AS ${D.bigint}) AS ts_local`},
-  ${fast ? `${fast} AS fast_ms` : `CAST(NULL AS ${D.bigint}) AS fast_ms`}
-FROM tm_src${D.fence}`);
+  ${!fast ? `CAST(NULL AS ${D.bigint})` : D.fastUtcKeep ? `CASE WHEN ${D.fastUtcKeep('fast0', 'ts_text')} THEN fast0 END` : fast} AS fast_ms
+FROM ${fast && D.fastUtcKeep ? `(SELECT *, ${fast} AS fast0 FROM tm_src) x` : 'tm_src'}${D.fence}`);
   textCte('tm_text', 'the timestamp text, trimmed as JavaScript trims it',
     `SELECT ${cols()}, ts_num, ts_instant, ts_local, fast_ms,
   CASE WHEN ts_text IS NOT NULL AND fast_ms IS NULL THEN ${trimJs('ts_text')} END AS t
