@@ -165,7 +165,7 @@ export function compile({ dialect: D, rules, source, range = {}, fastTimestamps 
   const attrCols = source.attributes.map((_, i) => `attr_${i}`);
   const pass = ['user_id', ...(has.event ? ['event'] : []), ...(has.by ? ['by_value'] : []), ...(has.preReason ? ['pre_reason'] : []), ...attrCols];
   const cols = (prefix = '') => pass.map((c) => `${prefix}${c}`).join(', ');
-  const floorDiv = (a: string, b: number) => D.intDiv(`(${a}) - ${D.mod(`${D.mod(a, String(b))} + ${b}`, String(b))}`, String(b));
+  const floorDiv = (a: string, b: number) => D.floorDiv?.(a, b) ?? D.intDiv(`(${a}) - ${D.mod(`${D.mod(a, String(b))} + ${b}`, String(b))}`, String(b));
   // white space by code point: the common first characters (33…159) answer the first test
   // (an OR of comparisons rather than IN: some planners turn a long IN list into a join)
   const isSpace = (c: string) => {

@@ -24,6 +24,11 @@ export interface Dialect {
   readonly text: string;
   /** a ÷ b rounded toward zero, for integer a, b (the compiler uses it where a ≥ 0 or a is a multiple of b). */
   intDiv(a: string, b: string): string;
+  /**
+   * Optional: a ÷ b rounded down, for integer a with |a| < 2^53 and an integer b > 0, where the dialect
+   * has a cheaper exact form; the compiler otherwise builds it from intDiv and mod.
+   */
+  floorDiv?(a: string, b: number): string;
   /** a mod b with the sign of a (C semantics). */
   mod(a: string, b: string): string;
   /** `s` as a double when it is a decimal number (guarded by the caller), else NULL; never an error. */
@@ -93,6 +98,9 @@ const duckdb: Dialect = {
   double: 'DOUBLE',
   text: 'VARCHAR',
   intDiv: (a, b) => `((${a}) // (${b}))`,
+  // in doubles: a quotient that is not whole is at least 1/b from the nearest integer, and for |a| < 2^53
+  // the rounding of a / b errs by less than that, so floor is exact (one division, not two mods and one)
+  floorDiv: (a, b) => `CAST(floor(CAST(${a} AS DOUBLE) / ${b}) AS BIGINT)`,
   mod: (a, b) => `((${a}) % (${b}))`,
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `chr(${c})`,

@@ -25,6 +25,7 @@ import { loadRulesFile, parseRules } from '../../src/rules/load.js';
 import { EPOCH as JS_EPOCH, ISO as JS_ISO, ISO_BASIC as JS_ISO_BASIC, parseTimestamp } from '../../src/ingest/timestamp.js';
 import { ZoneClock } from '../../src/periods/zone.js';
 import { withCtes } from '../../src/sql/query.js';
+import { mulberry32 } from '../stats/prng.js';
 import type { Rules } from '../../src/rules/schema.js';
 
 const { Parser } = pkg;
@@ -262,4 +263,34 @@ describe("DuckDB's fast timestamp form (fastUtcMs, fastUtcKeep) on near misses o
       db.closeSync();
     }
   }, 60_000); // tens of thousands of texts: a bound on a hang, not a timing
+});
+
+describe("DuckDB's floor division (floorDiv) in doubles", () => {
+  it('equals integer floor division for |a| < 2^53 at the edges of the quotients', async () => {
+    // reference: exact integer arithmetic with JavaScript BigInt (division truncates, then rounded down)
+    const floor = (a: bigint, b: bigint) => a / b - (a % b < 0n ? 1n : 0n);
+    const rng = mulberry32(5);
+    const as: bigint[] = [0n, 1n, -1n, 2n ** 53n - 1n, -(2n ** 53n - 1n)];
+    const cases: [bigint, number][] = [];
+    for (const b of [7, 86_400_000, 604_800_000]) {
+      for (const q of [0, 1, -1, 2, -2, 20_000, -25_568, 84_000, 2 ** 20, -(2 ** 20), Math.floor((2 ** 53 - 1) / b) - 1]) {
+        for (const d of [-2, -1, 0, 1, 2]) cases.push([BigInt(q) * BigInt(b) + BigInt(d), b]);
+      }
+      for (const a of as) cases.push([a, b]);
+      for (let i = 0; i < 2000; i++) cases.push([BigInt(Math.floor((rng() * 2 - 1) * 2 ** 53)), b]);
+    }
+    const db = await DuckDBInstance.create(':memory:');
+    const con = await db.connect();
+    try {
+      const values = cases.map(([a, b], i) => `(${i}, CAST('${a}' AS BIGINT), ${b})`).join(', ');
+      const byB = [7, 86_400_000, 604_800_000].map((b) => `WHEN b = ${b} THEN ${DIALECT.duckdb.floorDiv!('a', b)}`).join(' ');
+      const got = (await con.runAndReadAll(`SELECT i, CAST(CASE ${byB} END AS VARCHAR) FROM (VALUES ${values}) v(i, a, b) ORDER BY i`)).getRowsJS();
+      const wrong = got.filter(([i, v]) => String(v) !== String(floor(cases[Number(i)][0], BigInt(cases[Number(i)][1])))).map(([i, v]) => `${cases[Number(i)][0]} / ${cases[Number(i)][1]}: ${v}`);
+      expect(got.length).toBe(cases.length);
+      expect(wrong).toEqual([]);
+    } finally {
+      con.closeSync();
+      db.closeSync();
+    }
+  });
 });
