@@ -113,9 +113,10 @@ const duckdb: Dialect = {
   // one-digit second before a dot, which it reads as a second with an empty fraction). A year that is
   // not four digits falls outside 1900-2199 and is refused later, as the memory engine refuses it.
   // Hour 24 is not the fast form: the cast takes only 24:00:00(.000), as the next day's midnight, so the
-  // hour's text is looked at (fastUtcKeep) only for a value at midnight. Exact: these accept the texts
-  // the two LIKEs, substr(s, 12, 2) < '24' and the cast accepted, less the two exceptions
-  // (test/sql/dialects.test.ts, near misses of the fast form against the memory engine's parser).
+  // hour's text is looked at (fastUtcKeep) only for a value at midnight. Checked on near misses of the
+  // form (test/sql/dialects.test.ts): each text read gets the memory engine's instant, and every text in
+  // the form is read; on such near misses the earlier test (two LIKEs, substr(s, 12, 2) < '24', the
+  // cast) read the same texts but for the two exceptions.
   fastUtcMs: (s) =>
     `CASE WHEN CASE strlen(${s}) WHEN 24 THEN ${s} GLOB '????-??-??T[0-2]?:??:??.???Z' WHEN 20 THEN ${s} GLOB '????-??-??T[0-2]?:??:?[0-9]Z' ELSE false END THEN epoch_ms(TRY_CAST(${s} AS TIMESTAMP)) END`,
   fastUtcKeep: (ms, s) => `(${ms} % 86400000 <> 0 OR substr(${s}, 12, 2) < '24')`,
