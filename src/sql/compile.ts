@@ -101,7 +101,10 @@ export interface Compiled {
    * For an engine that stores steps as tables: the row-level facts tm_uk (tm_ukv with --by), tm_fates
    * and tm_attr_values in one aggregate over the rows (GROUPING SETS, SQL:1999; DuckDB and PostgreSQL
    * have it), so the rows are read once and never stored. Store `select` as the table `name`, then
-   * each query of `split` as a table or view of its key; the other steps read those.
+   * each query of `split` as a table or view of its key; the other steps read those. The fates set is
+   * keyed on (reason, event), plus the used flag with --to, not on the status text: tm_fates derives
+   * the status from them, as tm_ev does (a cheaper key, and a boolean rather than a text compared
+   * once a row for each column the used rows fill).
    */
   rowPass: { name: string; select: string; split: Record<string, string> };
   /** Whether the fast-form pass was compiled (CompileInput.fastTimestamps, where it applies). */
@@ -162,7 +165,7 @@ export function compile({ dialect: D, rules, source, range = {}, fastTimestamps 
   const attrCols = source.attributes.map((_, i) => `attr_${i}`);
   const pass = ['user_id', ...(has.event ? ['event'] : []), ...(has.by ? ['by_value'] : []), ...(has.preReason ? ['pre_reason'] : []), ...attrCols];
   const cols = (prefix = '') => pass.map((c) => `${prefix}${c}`).join(', ');
-  const floorDiv = (a: string, b: number) => D.intDiv(`(${a}) - ${D.mod(`${D.mod(a, String(b))} + ${b}`, String(b))}`, String(b));
+  const floorDiv = (a: string, b: number) => D.floorDiv?.(a, b) ?? D.intDiv(`(${a}) - ${D.mod(`${D.mod(a, String(b))} + ${b}`, String(b))}`, String(b));
   // white space by code point: the common first characters (33…159) answer the first test
   // (an OR of comparisons rather than IN: some planners turn a long IN list into a join)
   const isSpace = (c: string) => {
@@ -196,8 +199,8 @@ export function compile({ dialect: D, rules, source, range = {}, fastTimestamps 
   textCte('tm_fast', 'the commonest form, read natively where the dialect can (the memory engine has the same fast path)',
     `SELECT ${cols()}, ${has.tsText ? 'ts_text' : `CAST(NULL AS ${D.text}) AS ts_text`}, ${has.tsNum ? 'ts_num' : `CAST(NULL AS ${D.double}) AS ts_num`},
   ${has.tsInstant ? 'ts_instant' : `CAST(NULL AS ${D.bigint}) AS ts_instant`}, ${has.tsLocal ? 'ts_local' : `CAST(NULL AS ${D.bigint}) AS ts_local`},
-  ${fast ? `${fast} AS fast_ms` : `CAST(NULL AS ${D.bigint}) AS fast_ms`}
-FROM tm_src${D.fence}`);
+  ${!fast ? `CAST(NULL AS ${D.bigint})` : D.fastUtcKeep ? `CASE WHEN ${D.fastUtcKeep('fast0', 'ts_text')} THEN fast0 END` : fast} AS fast_ms
+FROM ${fast && D.fastUtcKeep ? `(SELECT *, ${fast} AS fast0 FROM tm_src) x` : 'tm_src'}${D.fence}`);
   textCte('tm_text', 'the timestamp text, trimmed as JavaScript trims it',
     `SELECT ${cols()}, ts_num, ts_instant, ts_local, fast_ms,
   CASE WHEN ts_text IS NOT NULL AND fast_ms IS NULL THEN ${trimJs('ts_text')} END AS t
@@ -304,10 +307,15 @@ FROM (SELECT ${cols()}, CASE WHEN local_ms IS NOT NULL THEN local_ms WHEN instan
     "WHEN wall_ms IS NULL THEN 'bad timestamp'",
     keyEvents ? `WHEN ${has.event ? "event IS NULL OR event = ''" : '1 = 1'} THEN 'missing event name'` : '',
   ].filter(Boolean).join(' ');
-  const status = [
-    keyEvents && has.event ? `WHEN event NOT IN (${keyEvents.map((e) => D.str(e)).join(', ')}) THEN 'notkey'` : '',
-    range.toKey !== undefined ? `WHEN k > ${range.toKey} THEN 'after'` : '',
+  // a row with no reason is not a key event (notKey), else after --to (after), else used
+  const notKey = keyEvents && has.event ? `event NOT IN (${keyEvents.map((e) => D.str(e)).join(', ')})` : '';
+  const after = range.toKey !== undefined ? `k > ${range.toKey}` : '';
+  /** The status of a row with its reason, given the test of 'after' (the row pass keeps its answer). */
+  const statusOf = (afterTest: string) => [
+    notKey ? `WHEN ${notKey} THEN 'notkey'` : '',
+    after ? `WHEN ${afterTest} THEN 'after'` : '',
   ].filter(Boolean).join(' ');
+  const status = statusOf(after);
   cte('tm_day', 'the local day of each row (days since 1970-01-01)', `SELECT ${cols()}, wall_ms, ${day} AS day FROM tm_wall${D.fence}`);
   let keySource = 'tm_day';
   if (rules.grain === 'month') {
@@ -584,21 +592,26 @@ FROM (
       : 'SELECT 0 AS with_value, 0 AS with_own',
     periods: 'SELECT label FROM tm_periods ORDER BY k',
   };
-  const used = "status = 'used'";
+  // The fates set is keyed on (reason, event), not on the status text: the status follows from them
+  // (statusOf), but for 'after', which is kept as the used flag (uf) where --to is given. Each row's
+  // status is a boolean here, not a text to compare.
+  const used = 'uf';
+  const usedTest = ['reason IS NULL', ...[notKey, after].filter(Boolean).map((t) => `NOT (${t})`)].join(' AND ');
+  const fateKey = `reason, event${after ? ', uf' : ''}`;
   const rowPass: Compiled['rowPass'] = {
     name: 'tm_rowpass',
-    select: `SELECT GROUPING(uu) AS g_uk, GROUPING(status) AS g_fate${attrCols.map((_, i) => `, GROUPING(ua_${i}) AS g_a_${i}`).join('')},
-  uu, uk${has.by ? ', ub' : ''}, status, reason, event${attrCols.map((_, i) => `, ua_${i}`).join('')}, count(*) AS n, max(wall_ms) AS max_wall
+    select: `SELECT GROUPING(uu) AS g_uk, GROUPING(reason) AS g_fate${attrCols.map((_, i) => `, GROUPING(ua_${i}) AS g_a_${i}`).join('')},
+  uu, uk${has.by ? ', ub' : ''}, ${fateKey}${attrCols.map((_, i) => `, ua_${i}`).join('')}, count(*) AS n, max(wall_ms) AS max_wall
 FROM (
-  SELECT status, reason, ${has.event ? 'event' : `CAST(NULL AS ${D.text}) AS event`}, CASE WHEN ${used} THEN wall_ms END AS wall_ms,
+  SELECT reason, event, uf, CASE WHEN ${used} THEN wall_ms END AS wall_ms,
     CASE WHEN ${used} THEN user_id END AS uu, CASE WHEN ${used} THEN k END AS uk${has.by ? `, CASE WHEN ${used} THEN coalesce(by_value, '') END AS ub` : ''}${attrCols.map((c, i) => `,
     CASE WHEN ${used} AND ${c} <> '' THEN ${c} END AS ua_${i}`).join('')}
-  FROM tm_ev${D.fence}
+  FROM (SELECT ${cols()}, ${has.event ? '' : `CAST(NULL AS ${D.text}) AS event, `}wall_ms, k, reason, ${usedTest} AS uf FROM tm_ev${D.fence}) y${D.fence}
 ) x
-GROUP BY GROUPING SETS ((uu, uk${has.by ? ', ub' : ''}), (status, reason, event)${attrCols.map((_, i) => `, (ua_${i})`).join('')})`,
+GROUP BY GROUPING SETS ((uu, uk${has.by ? ', ub' : ''}), (${fateKey})${attrCols.map((_, i) => `, (ua_${i})`).join('')})`,
     split: {
       [has.by ? 'tm_ukv' : 'tm_uk']: `SELECT uu AS user_id, uk AS k${has.by ? ', ub AS v' : ''}, n AS ev, max_wall FROM tm_rowpass WHERE g_uk = 0 AND uu IS NOT NULL`,
-      tm_fates: 'SELECT status, reason, event, n FROM tm_rowpass WHERE g_fate = 0',
+      tm_fates: `SELECT CASE WHEN reason IS NOT NULL THEN 'rejected' ${statusOf('NOT uf')} ELSE 'used' END AS status, reason, event, n FROM tm_rowpass WHERE g_fate = 0`,
       ...(attrCols.length ? { tm_attr_values: attrCols.map((_, i) => `SELECT ${i} AS a, ua_${i} AS v FROM tm_rowpass WHERE g_a_${i} = 0 AND ua_${i} IS NOT NULL`).join('\nUNION ALL\n') } : {}),
     },
   };

@@ -24,6 +24,11 @@ export interface Dialect {
   readonly text: string;
   /** a ÷ b rounded toward zero, for integer a, b (the compiler uses it where a ≥ 0 or a is a multiple of b). */
   intDiv(a: string, b: string): string;
+  /**
+   * Optional: a ÷ b rounded down, for integer a with |a| < 2^53 and an integer b > 0, where the dialect
+   * has a cheaper exact form; the compiler otherwise builds it from intDiv and mod.
+   */
+  floorDiv?(a: string, b: number): string;
   /** a mod b with the sign of a (C semantics). */
   mod(a: string, b: string): string;
   /** `s` as a double when it is a decimal number (guarded by the caller), else NULL; never an error. */
@@ -41,6 +46,12 @@ export interface Dialect {
    * the engine's own timestamp parser, else NULL (the general path then reads it).
    */
   fastUtcMs?(s: string): string;
+  /**
+   * Optional, with fastUtcMs: whether its value `ms` for the text `s` stands (the compiler computes
+   * fastUtcMs once, in a step of its own, and keeps it only where this holds); true where absent. For a
+   * check that needs the parsed value, so that the rows it spares skip a text test.
+   */
+  fastUtcKeep?(ms: string, s: string): string;
   /**
    * `test`, the code-point test of whether `s` starts with white space (src/sql/regex.ts, JS_SPACE),
    * with a cheaper test before it where the dialect has one that is true whenever `test` is.
@@ -87,17 +98,28 @@ const duckdb: Dialect = {
   double: 'DOUBLE',
   text: 'VARCHAR',
   intDiv: (a, b) => `((${a}) // (${b}))`,
+  // in doubles: a quotient that is not whole is at least 1/b from the nearest integer, and for |a| < 2^53
+  // the rounding of a / b errs by less than that, so floor is exact (one division, not two mods and one)
+  floorDiv: (a, b) => `CAST(floor(CAST(${a} AS DOUBLE) / ${b}) AS BIGINT)`,
   mod: (a, b) => `((${a}) % (${b}))`,
   toDouble: (s) => `TRY_CAST(${s} AS DOUBLE)`,
   chr: (c) => `chr(${c})`,
   firstCode: (s) => `unicode(${s})`,
   matches: (s, p) => `regexp_full_match(${s}, ${ansi(renderPattern(p, 'noncapturing').source)})`,
   strip: (s, p) => `regexp_replace(${s}, ${ansi(renderPattern(p, 'noncapturing').source)}, '')`,
-  // the shape by LIKE, the digits and the calendar by DuckDB's own timestamp cast (which takes the Z as
-  // UTC and refuses a non-digit in every two-digit field; a year that is not four digits falls outside
-  // 1900-2199 and is refused later, as the memory engine refuses it); hour 24 is not the fast form
+  // the shape by its length in bytes and a GLOB, the digits and the calendar by DuckDB's own timestamp
+  // cast (which takes the Z as UTC and refuses a non-digit in the two-digit fields, with two
+  // exceptions the GLOB's classes close: white space before the hour, which the cast skips, and a
+  // one-digit second before a dot, which it reads as a second with an empty fraction). A year that is
+  // not four digits falls outside 1900-2199 and is refused later, as the memory engine refuses it.
+  // Hour 24 is not the fast form: the cast takes only 24:00:00(.000), as the next day's midnight, so the
+  // hour's text is looked at (fastUtcKeep) only for a value at midnight. Checked on near misses of the
+  // form (test/sql/dialects.test.ts): each text read gets the memory engine's instant, and every text in
+  // the form is read; on such near misses the earlier test (two LIKEs, substr(s, 12, 2) < '24', the
+  // cast) read the same texts but for the two exceptions.
   fastUtcMs: (s) =>
-    `CASE WHEN (${s} LIKE '____-__-__T__:__:__Z' OR ${s} LIKE '____-__-__T__:__:__.___Z') AND substr(${s}, 12, 2) < '24' THEN epoch_ms(TRY_CAST(${s} AS TIMESTAMP)) END`,
+    `CASE WHEN CASE strlen(${s}) WHEN 24 THEN ${s} GLOB '????-??-??T[0-2]?:??:??.???Z' WHEN 20 THEN ${s} GLOB '????-??-??T[0-2]?:??:?[0-9]Z' ELSE false END THEN epoch_ms(TRY_CAST(${s} AS TIMESTAMP)) END`,
+  fastUtcKeep: (ms, s) => `(${ms} % 86400000 <> 0 OR substr(${s}, 12, 2) < '24')`,
   // text compares by its UTF-8 bytes: white space below 33 begins with a byte below '!', and every code
   // point from 160 (U+00A0, bytes C2 A0) up begins with bytes at or above those of U+00A0
   spaceFirst: (s, test) => `((${s} < '!' OR ${s} >= chr(160)) AND ${test})`,

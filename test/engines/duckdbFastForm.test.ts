@@ -98,6 +98,10 @@ describe('one row in another form, past the first rows, sends the pass to the fu
     ['a day the month lacks (bad)', '2026-02-30T10:00:00Z'],
     ['text that is no time (bad)', 'not a time'],
     ['an empty field (bad)', ''],
+    // the shape of the form, but DuckDB's timestamp cast alone would read them
+    ['white space before a one-digit hour (bad)', '2026-03-05T 2:03:31Z'],
+    ['a one-digit second before a dot (bad)', '2026-03-05T02:03:3.Z'],
+    ['hour 24 (bad)', '2026-03-05T24:00:00.000Z'],
   ];
   it.each(ODD)('%s', async (_what, stamp) => {
     const rows = lines(SAMPLE_ROWS + 2000, 13);

@@ -22,7 +22,10 @@ import { printSql } from '../../src/sql/print.js';
 import { BLANK, EPOCH, ISO, ISO_BASIC, renderPattern, pattern } from '../../src/sql/regex.js';
 import { tableSource, TIMESTAMP_KINDS } from '../../src/sql/source.js';
 import { loadRulesFile, parseRules } from '../../src/rules/load.js';
-import { EPOCH as JS_EPOCH, ISO as JS_ISO, ISO_BASIC as JS_ISO_BASIC } from '../../src/ingest/timestamp.js';
+import { EPOCH as JS_EPOCH, ISO as JS_ISO, ISO_BASIC as JS_ISO_BASIC, parseTimestamp } from '../../src/ingest/timestamp.js';
+import { ZoneClock } from '../../src/periods/zone.js';
+import { withCtes } from '../../src/sql/query.js';
+import { mulberry32 } from '../stats/prng.js';
 import type { Rules } from '../../src/rules/schema.js';
 
 const { Parser } = pkg;
@@ -187,4 +190,107 @@ describe("DuckDB's cheap test before the white-space test (spaceFirst)", () => {
       db.closeSync();
     }
   }, 60_000); // 130 000 texts: a bound on a hang, not a timing
+});
+
+describe("DuckDB's fast timestamp form (fastUtcMs, fastUtcKeep) on near misses of it", () => {
+  it('reads a text only where the memory engine reads the same instant, and every text in the form', async () => {
+    // references: the memory engine's parser (src/ingest/timestamp.ts, parseTimestamp in UTC) and, for
+    // each text the SQL reads, JavaScript's Date.parse (ECMA-262 Date Time String Format, which is
+    // this form). Texts: each base with every position replaced by, or preceded by, one of 113
+    // characters, or dropped; every two neighbouring positions replaced by two of 19 characters; every
+    // hour 00-99 with edge minutes, seconds and fractions; and impossible dates
+    const bases = ['2026-03-05T02:03:31.544Z', '2026-03-05T02:03:31Z', '2024-02-29T23:59:59.999Z', '1999-12-31T00:00:00Z', '2026-12-31T20:00:00.000Z'];
+    const chars = [...Array.from({ length: 95 }, (_, i) => String.fromCharCode(32 + i)), '\t', '\n', '\r', '\v', '\f', '\u00a0', '\u3000', '\u2003', 'é', '١', '１', '😀', '\u0000', '\u007f', '\u0085', 'Ž', 'ß', ''];
+    const pair = [' ', '\t', '0', '1', '2', '4', '5', '9', '+', '-', '.', ':', 'T', 'Z', 'e', 'é', ',', '/', 'a'];
+    const texts = new Set<string>(['2026-03-05T 2:03:31Z', '2026-03-05T\t2:03:31.544Z', '2026-03-05T02:03:3.Z', '2026-03-05T24:00:00Z', '2026-03-05T24:00:00.000Z']);
+    for (const b of bases) {
+      texts.add(b);
+      for (let i = 0; i <= b.length; i++) {
+        texts.add(b.slice(0, i) + b.slice(i + 1));
+        for (const ch of chars) texts.add(b.slice(0, i) + ch + b.slice(i + 1)).add(b.slice(0, i) + ch + b.slice(i));
+      }
+      for (let i = 0; i + 1 < b.length; i++) for (const x of pair) for (const y of pair) texts.add(b.slice(0, i) + x + y + b.slice(i + 2));
+      for (let h = 0; h < 100; h++) {
+        for (const rest of [':00:00', ':00:01', ':59:59', ':30:00', ':60:00', ':00:60']) {
+          const t = `${b.slice(0, 11)}${String(h).padStart(2, '0')}${rest}`;
+          texts.add(`${t}Z`).add(`${t}.000Z`).add(`${t}.001Z`);
+        }
+      }
+    }
+    for (const d of ['2026-02-29', '2024-02-30', '2026-04-31', '2026-13-01', '2026-00-10', '2026-01-00', '2026-01-32', '0000-01-01', '1899-12-31', '2200-01-01', '9999-12-31']) texts.add(`${d}T10:00:00Z`).add(`${d}T10:00:00.500Z`);
+    const list = [...texts];
+    const D = DIALECT.duckdb;
+    const rules = parseRules('grain: day\nlapseLimit: 1\n');
+    const source = {
+      select: 'SELECT CAST(i AS VARCHAR) AS user_id, s AS ts_text FROM t',
+      has: { tsText: true, tsNum: false, tsInstant: false, tsLocal: false, preReason: false, event: false, by: false },
+      attributes: [],
+    };
+    const db = await DuckDBInstance.create(':memory:');
+    const con = await db.connect();
+    try {
+      await con.run("SET TimeZone = 'UTC'");
+      await con.run('CREATE TABLE t (i INTEGER, s VARCHAR)');
+      const app = await con.createAppender('t');
+      list.forEach((s, i) => { app.appendInteger(i); app.appendVarchar(s); app.endRow(); });
+      app.closeSync();
+      const sql = withCtes(compile({ dialect: D, rules, source }).ctes, 'SELECT user_id, fast_ms FROM tm_fast');
+      const got = (await con.runAndReadAll(sql)).getRowsJS();
+      expect(got.length).toBe(list.length);
+      const clock = new ZoneClock('UTC');
+      const inForm = /^\d{4}-\d{2}-\d{2}T([01]\d|2[0-3]):[0-5]\d:[0-5]\d(\.\d{3})?Z$/;
+      const wrong: string[] = [];
+      let read = 0;
+      for (const [id, v] of got) {
+        const s = list[Number(id)];
+        const ms = v === null ? null : Number(v);
+        const mem = parseTimestamp(s, clock);
+        if (ms !== null) {
+          read++;
+          // out of 1900-2199 (a year that is not four digits, say) the value is refused later (tm_wall), as
+          // the memory engine refuses it
+          const kept = ms >= Date.UTC(1900, 0, 1) && ms < Date.UTC(2200, 0, 1) ? ms : undefined;
+          if (kept !== mem || (kept !== undefined && ms !== Date.parse(s))) wrong.push(`${JSON.stringify(s)}: SQL ${ms}, memory engine ${mem}, Date.parse ${Date.parse(s)}`);
+        } else if (inForm.test(s) && mem !== undefined) {
+          wrong.push(`${JSON.stringify(s)}: in the form, but left to the full parse`);
+        }
+      }
+      expect(wrong).toEqual([]);
+      expect(list.length).toBeGreaterThan(50_000);
+      expect(read).toBeGreaterThan(1_000);
+    } finally {
+      con.closeSync();
+      db.closeSync();
+    }
+  }, 60_000); // tens of thousands of texts: a bound on a hang, not a timing
+});
+
+describe("DuckDB's floor division (floorDiv) in doubles", () => {
+  it('equals integer floor division for |a| < 2^53 at the edges of the quotients', async () => {
+    // reference: exact integer arithmetic with JavaScript BigInt (division truncates, then rounded down)
+    const floor = (a: bigint, b: bigint) => a / b - (a % b < 0n ? 1n : 0n);
+    const rng = mulberry32(5);
+    const as: bigint[] = [0n, 1n, -1n, 2n ** 53n - 1n, -(2n ** 53n - 1n)];
+    const cases: [bigint, number][] = [];
+    for (const b of [7, 86_400_000, 604_800_000]) {
+      for (const q of [0, 1, -1, 2, -2, 20_000, -25_568, 84_000, 2 ** 20, -(2 ** 20), Math.floor((2 ** 53 - 1) / b) - 1]) {
+        for (const d of [-2, -1, 0, 1, 2]) cases.push([BigInt(q) * BigInt(b) + BigInt(d), b]);
+      }
+      for (const a of as) cases.push([a, b]);
+      for (let i = 0; i < 2000; i++) cases.push([BigInt(Math.floor((rng() * 2 - 1) * 2 ** 53)), b]);
+    }
+    const db = await DuckDBInstance.create(':memory:');
+    const con = await db.connect();
+    try {
+      const values = cases.map(([a, b], i) => `(${i}, CAST('${a}' AS BIGINT), ${b})`).join(', ');
+      const byB = [7, 86_400_000, 604_800_000].map((b) => `WHEN b = ${b} THEN ${DIALECT.duckdb.floorDiv!('a', b)}`).join(' ');
+      const got = (await con.runAndReadAll(`SELECT i, CAST(CASE ${byB} END AS VARCHAR) FROM (VALUES ${values}) v(i, a, b) ORDER BY i`)).getRowsJS();
+      const wrong = got.filter(([i, v]) => String(v) !== String(floor(cases[Number(i)][0], BigInt(cases[Number(i)][1])))).map(([i, v]) => `${cases[Number(i)][0]} / ${cases[Number(i)][1]}: ${v}`);
+      expect(got.length).toBe(cases.length);
+      expect(wrong).toEqual([]);
+    } finally {
+      con.closeSync();
+      db.closeSync();
+    }
+  });
 });

@@ -1,6 +1,6 @@
 /**
  * The DuckDB engine's one pass over the rows (`Compiled.rowPass`: GROUPING SETS over (user, period),
- * (fate, reason, event) and each attribute) against an independent computation written here: plain
+ * (reason, event[, used flag]: the fates) and each attribute) against an independent computation written here: plain
  * GROUP BY and window queries over the per-row step `tm_ev` of the same compiled SQL, on a seeded
  * random log with blank users, bad timestamps, events outside the key events, empty attribute values
  * and ties of the latest time within a (user, week). Common practice: a rewrite of a query is checked
@@ -44,9 +44,12 @@ async function rows(c: DuckDBConnection, sql: string): Promise<string[]> {
 }
 
 describe('the one pass over the rows gives what plain queries over the rows give', () => {
-  it.each([[false], [true]])('with --by: %s', async (by) => {
+  // --to: rows after it (status 'after') are told apart from used ones by the used flag of the fates set
+  it.each([[false, false], [true, false], [false, true], [true, true]])('with --by: %s, with --to: %s', async (by, to) => {
     const rules = parseRules('grain: week\nlapseLimit: 2\nactivity:\n  keyEvents: [booking, class]\n');
-    const compiled = compile({ dialect: D, rules, source: source(log(by ? 11 : 7), by) });
+    // the week of 2026-02-23 (weeks since the Monday 1969-12-29): about a third of the log's weeks are after it
+    const toKey = Math.floor((Date.UTC(2026, 1, 23) / 86_400_000 + 3) / 7);
+    const compiled = compile({ dialect: D, rules, source: source(log(by ? 11 : 7), by), range: to ? { toKey } : {} });
     const db = await DuckDBInstance.create(':memory:');
     const c = await db.connect();
     try {
@@ -65,6 +68,7 @@ describe('the one pass over the rows gives what plain queries over the rows give
       const wantFates = await rows(c, 'SELECT status, reason, event, count(*) FROM tm_ev GROUP BY status, reason, event');
       expect(wantFates.some((r) => r.includes('rejected'))).toBe(true);
       expect(wantFates.some((r) => r.includes('notkey'))).toBe(true);
+      expect(wantFates.some((r) => r.includes('after'))).toBe(to);
       expect(await rows(c, 'SELECT status, reason, event, n FROM tm_fates')).toEqual(wantFates);
       // distinct non-empty values of each attribute among the used rows
       const wantValues = await rows(c, `SELECT 0, attr_0 ${used} AND attr_0 <> '' GROUP BY attr_0 UNION ALL SELECT 1, attr_1 ${used} AND attr_1 <> '' GROUP BY attr_1`);
