@@ -64,12 +64,12 @@ export interface PartJob {
   waistOnly?: boolean;
 }
 
-/** The worker's answer. */
 /** Another part for a worker that has answered (SplitOptions.readPart's `more`). */
 export interface MoreMessage {
   part: CsvPartJob;
 }
 
+/** The worker's answer: bytes read (progress), its rows and where it stopped, or its first error. */
 type WorkerMessage = { bytes: number } | { ok: true; partial: PartialLog; end: number } | { ok: false; error: { code: ErrorCode; message: string; where: ErrorLocation; hint?: string } };
 
 /** A reader of a part of a file (tests put {@link readPartHere}, wrapped, in the worker's place). */
